@@ -1,0 +1,225 @@
+package dist
+
+import (
+	"math"
+
+	"gonum.org/v1/gonum/stat/distuv"
+)
+
+// StudentizedRange is the distribution of the studentized range
+// Q = (max_i Z_i − min_i Z_i) / S of K independent standard normal variables
+// Z_i and an independent S with Nu·S² ~ χ²_Nu. It gives the critical values
+// and adjusted p-values of Tukey's honestly significant difference test.
+//
+// Domain: K ≥ 2 (real values are accepted, as the integral is defined for
+// them), Nu > 0 or Nu = +Inf (the range of K standard normals itself). The
+// methods return NaN outside it.
+//
+// Method: the double integral
+//
+//	P(Q ≤ q) = ∫_0^∞ f_Nu(s) · W(q·s) ds,
+//	W(w) = K ∫ φ(z) [Φ(z) − Φ(z − w)]^{K−1} dz,
+//
+// where f_Nu is the density of S (Hartley 1944; Copenhaver and Holland 1988,
+// "Computation of the distribution of the maximum studentized range statistic
+// with application to multiple significance testing of simple effects",
+// J. Statist. Comput. Simul. 30, 1–15). Both integrals use composite
+// 16-point Gauss–Legendre rules (nodes from gonum's integrate/quad): the inner
+// on z ∈ [−8.5, 8.5] in unit panels, beyond which φ(z) < 1e-16; the
+// outer between the 1e-14 and 1 − 1e-14 quantiles of S, taken from gonum's
+// chi-squared quantile, in 4 panels refined adaptively to an absolute
+// tolerance of 1e-11. Rejected alternative: the Gauss–Hermite
+// and series method of AS 190 (Lund and Lund 1983), whose published accuracy
+// is about 1e-6, short of the 1e-8 wanted here.
+//
+// Accuracy: against scipy.stats.studentized_range (testdata/reference/
+// ptukey.tsv) the absolute CDF error is below 1e-8 and the quantile error
+// below 1e-6 for K 2..100 and Nu 2..∞. One CDF costs about 10^5 normal
+// tail evaluations.
+type StudentizedRange struct {
+	K, Nu float64
+}
+
+const (
+	rangeZLo, rangeZHi = -8.5, 8.5
+	sTail              = 1e-14
+	outerTol           = 1e-11
+	outerPanels        = 4
+	outerDepth         = 12
+)
+
+func (d StudentizedRange) valid() bool {
+	return d.K >= 2 && d.Nu > 0 && !math.IsNaN(d.Nu)
+}
+
+// normalBetween returns Φ(b) − Φ(a) for a ≤ b without cancellation in either
+// tail.
+func normalBetween(a, b float64) float64 {
+	if a+b > 0 {
+		// Both mostly in the upper tail: Q(a) − Q(b).
+		return 0.5 * (math.Erfc(a/math.Sqrt2) - math.Erfc(b/math.Sqrt2))
+	}
+	return 0.5 * (math.Erfc(-b/math.Sqrt2) - math.Erfc(-a/math.Sqrt2))
+}
+
+// rangeNodes holds the fixed quadrature nodes of the inner integral over
+// z ∈ [−8.5, 8.5] (17 unit panels of the 16-point rule), with the weights
+// already multiplied by φ(z). Outside that interval φ(z) < 1e-16.
+type rangeNodes struct {
+	z, c []float64
+}
+
+func newRangeNodes(rule gaussRule) rangeNodes {
+	var n rangeNodes
+	inv := 1 / math.Sqrt(2*math.Pi)
+	for lo := rangeZLo; lo < rangeZHi; lo++ {
+		for i, x := range rule.x {
+			z := lo + 0.5 + x/2
+			n.z = append(n.z, z)
+			n.c = append(n.c, rule.w[i]/2*inv*math.Exp(-z*z/2))
+		}
+	}
+	return n
+}
+
+// rangeCDF returns W(w), the CDF of the range of k standard normals.
+func (n rangeNodes) rangeCDF(w, k float64) float64 {
+	if w <= 0 {
+		return 0
+	}
+	var v float64
+	for i, z := range n.z {
+		switch diff := normalBetween(z-w, z); {
+		case diff >= 1:
+			v += n.c[i]
+		case diff > 0:
+			v += n.c[i] * math.Exp((k-1)*math.Log(diff))
+		}
+	}
+	return clamp01(k * v)
+}
+
+// scaleDensity is the density of S = sqrt(χ²_ν/ν) and the interval holding
+// all but 2·sTail of its mass.
+type scaleDensity struct {
+	nu, logNorm, lo, hi float64
+}
+
+func newScaleDensity(nu float64) scaleDensity {
+	chi := distuv.ChiSquared{K: nu}
+	lg, _ := math.Lgamma(nu / 2)
+	return scaleDensity{
+		nu:      nu,
+		logNorm: math.Log(2*nu) + (nu/2-1)*math.Log(nu) - (nu/2)*math.Ln2 - lg,
+		lo:      math.Sqrt(chi.Quantile(sTail) / nu),
+		hi:      math.Sqrt(chi.Quantile(1-sTail) / nu),
+	}
+}
+
+// pdf returns f(s) = 2ν s · g(ν s²) with g the χ²_ν density.
+func (sd scaleDensity) pdf(s float64) float64 {
+	return math.Exp(sd.logNorm + (sd.nu-1)*math.Log(s) - sd.nu*s*s/2)
+}
+
+// expect returns E[h(S)] over [lo, hi] by adaptive quadrature, to an
+// absolute tolerance outerTol for 0 ≤ h ≤ 1.
+func (sd scaleDensity) expect(rule gaussRule, h func(s float64) float64) float64 {
+	step := (sd.hi - sd.lo) / outerPanels
+	var v float64
+	for p := 0; p < outerPanels; p++ {
+		a := sd.lo + float64(p)*step
+		v += rule.adaptive(func(s float64) float64 { return sd.pdf(s) * h(s) }, a, a+step, outerTol/outerPanels, outerDepth)
+	}
+	return v
+}
+
+// CDF returns P(Q ≤ q); it is 0 for q ≤ 0.
+func (d StudentizedRange) CDF(q float64) float64 {
+	if !d.valid() || math.IsNaN(q) {
+		return math.NaN()
+	}
+	if q <= 0 {
+		return 0
+	}
+	if math.IsInf(q, 1) {
+		return 1
+	}
+	rule := newGaussRule(16)
+	nodes := newRangeNodes(rule)
+	if math.IsInf(d.Nu, 1) {
+		return nodes.rangeCDF(q, d.K)
+	}
+	sd := newScaleDensity(d.Nu)
+	v := sd.expect(rule, func(s float64) float64 { return nodes.rangeCDF(q*s, d.K) })
+	// The mass of S above hi, where W(q·s) is within 1e-14 of W(q·hi) ≤ 1,
+	// is sTail; adding it keeps the upper limit exact to that order.
+	return clamp01(v + sTail*nodes.rangeCDF(q*sd.hi, d.K))
+}
+
+// Survival returns P(Q > q) = 1 − CDF(q), with the CDF's absolute accuracy.
+func (d StudentizedRange) Survival(q float64) float64 {
+	return 1 - d.CDF(q)
+}
+
+// Quantile returns the q with P(Q ≤ q) = p for 0 < p < 1; it returns 0 for
+// p = 0, +Inf for p = 1 and NaN outside [0, 1]. The root is found by the
+// Illinois variant of regula falsi (Dowell and Jarratt 1971, BIT 11,
+// 168–174) on a bracket widened by doubling, to a relative tolerance of 1e-10
+// in q.
+func (d StudentizedRange) Quantile(p float64) float64 {
+	if !d.valid() || math.IsNaN(p) || p < 0 || p > 1 {
+		return math.NaN()
+	}
+	switch p {
+	case 0:
+		return 0
+	case 1:
+		return math.Inf(1)
+	}
+	f := func(q float64) float64 { return d.CDF(q) - p }
+	lo, hi := 0.0, 4.0
+	flo, fhi := -p, f(hi)
+	for fhi < 0 {
+		lo, flo = hi, fhi
+		hi *= 2
+		fhi = f(hi)
+		if hi > 1e6 {
+			return math.NaN()
+		}
+	}
+	return illinois(f, lo, hi, flo, fhi, 1e-10)
+}
+
+// illinois finds a root of f in [a, b] with f(a) ≤ 0 ≤ f(b) by the Illinois
+// method, stopping when the bracket is narrower than tol·|x|.
+func illinois(f func(float64) float64, a, b, fa, fb, tol float64) float64 {
+	side := 0
+	x := b
+	for i := 0; i < 200; i++ {
+		x = (a*fb - b*fa) / (fb - fa)
+		if !(x > a && x < b) {
+			x = (a + b) / 2
+		}
+		fx := f(x)
+		if fx == 0 {
+			return x
+		}
+		if fx < 0 {
+			a, fa = x, fx
+			if side == -1 {
+				fb /= 2
+			}
+			side = -1
+		} else {
+			b, fb = x, fx
+			if side == 1 {
+				fa /= 2
+			}
+			side = 1
+		}
+		if b-a <= tol*math.Abs(x) {
+			break
+		}
+	}
+	return x
+}
