@@ -171,6 +171,10 @@ func (d Design) Evaluate(n int, f, alpha float64) Result {
 		r.DF2 = float64(total - cells)
 	}
 	r.Lambda = f * f * float64(total)
+	if r.DF2 < 1 {
+		r.FCrit, r.Power = math.NaN(), math.NaN()
+		return r
+	}
 	r.FCrit = distuv.F{D1: r.DF1, D2: r.DF2}.Quantile(1 - alpha)
 	r.Power = dist.NoncentralF{D1: r.DF1, D2: r.DF2, Lambda: r.Lambda}.Survival(r.FCrit)
 	return r

@@ -46,6 +46,10 @@ func (g TwoGroups) Evaluate(n int, d, alpha float64) TResult {
 	n2 := int(math.Ceil(float64(n)*g.Ratio - 1e-9))
 	r := TResult{N1: n, N2: n2, Total: n + n2, DF: float64(n + n2 - 2)}
 	r.Delta = d * math.Sqrt(float64(n)*float64(n2)/float64(n+n2))
+	if r.DF < 1 {
+		r.TCrit, r.Power = math.NaN(), math.NaN()
+		return r
+	}
 	st := distuv.StudentsT{Mu: 0, Sigma: 1, Nu: r.DF}
 	if g.Sides == 1 {
 		r.TCrit = st.Quantile(1 - alpha)
@@ -108,3 +112,4 @@ func searchN(lo int, power func(int) float64, target float64) (int, error) {
 	}
 	return hi, nil
 }
+
