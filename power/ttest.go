@@ -112,4 +112,3 @@ func searchN(lo int, power func(int) float64, target float64) (int, error) {
 	}
 	return hi, nil
 }
-
