@@ -1,0 +1,364 @@
+package analyze
+
+import (
+	"errors"
+	"fmt"
+	"math"
+	"strings"
+
+	"gonum.org/v1/gonum/stat/distuv"
+)
+
+// Options controls a fit.
+type Options struct {
+	// SSType is 1 (sequential), 2 (hierarchical) or 3 (each term adjusted
+	// for all others, with sum-to-zero coding). 0 means 3.
+	SSType int
+	// Alpha is the level for post-hoc comparisons and the plain reading.
+	// 0 means 0.05.
+	Alpha float64
+}
+
+// Term is one row of the ANOVA table.
+type Term struct {
+	Source      string  `json:"source"`
+	DF          int     `json:"df"`
+	SS          float64 `json:"ss"`
+	MS          float64 `json:"ms"`
+	F           float64 `json:"f"`
+	P           float64 `json:"p"`
+	PartialEta2 float64 `json:"partial_eta2"`
+	// PartialOmega2 is (SS − df·MSe)/(SS + (N − df)·MSe), the less biased
+	// companion of partial η² (Olejnik and Algina 2003, Psychological
+	// Methods 8(4) 434–447, Table 2); it may be negative, and is reported
+	// as computed.
+	PartialOmega2 float64 `json:"partial_omega2"`
+	// Factors names the design factors of the term; Block marks the block
+	// term.
+	Factors []string `json:"factors,omitempty"`
+	Block   bool     `json:"block,omitempty"`
+}
+
+// Residual is the error line of the table.
+type Residual struct {
+	DF int     `json:"df"`
+	SS float64 `json:"ss"`
+	MS float64 `json:"ms"`
+}
+
+// Table is the fitted ANOVA of one response.
+type Table struct {
+	Response  string   `json:"response"`
+	SSType    int      `json:"ss_type"`
+	N         int      `json:"n"`
+	Terms     []Term   `json:"terms"`
+	Residual  Residual `json:"residual"`
+	TotalDF   int      `json:"total_df"`
+	TotalSS   float64  `json:"total_ss"`
+	R2        float64  `json:"r2"`
+	ResidSD   float64  `json:"resid_sd"`
+	GrandMean float64  `json:"grand_mean"`
+	CV        float64  `json:"cv_percent"`
+	// RelEfficiency is the efficiency of the block design relative to a
+	// completely randomised one on the same units (0 without blocks).
+	RelEfficiency float64 `json:"relative_efficiency,omitempty"`
+	Residuals     []float64 `json:"-"`
+	Fitted        []float64 `json:"-"`
+	Alpha         float64   `json:"alpha"`
+}
+
+// model is the coded design matrix of a fit.
+type model struct {
+	n      int
+	terms  []modelTerm
+	shift  float64
+	y      []float64
+	levels [][]string // per factor
+	index  [][]int    // per factor: level of each observation
+	blockL []string
+	blockI []int
+}
+
+type modelTerm struct {
+	name    string
+	factors []int // indices into Data.Factors
+	block   bool
+	cols    [][]float64 // coded columns, each of length n
+}
+
+// contrasts returns the sum-to-zero coding of a factor: L−1 columns, column j
+// is 1 for level j, −1 for the last level, 0 otherwise.
+func contrasts(idx []int, levels int) [][]float64 {
+	cols := make([][]float64, levels-1)
+	for j := range cols {
+		c := make([]float64, len(idx))
+		for i, l := range idx {
+			switch l {
+			case j:
+				c[i] = 1
+			case levels - 1:
+				c[i] = -1
+			}
+		}
+		cols[j] = c
+	}
+	return cols
+}
+
+// buildModel codes the block term, the main effects and all interactions,
+// ordered by degree (the usual hierarchical order).
+func buildModel(d Data) (*model, error) {
+	n := len(d.Values)
+	y, shift, err := centred(d.Values)
+	if err != nil {
+		return nil, fmt.Errorf("response %q: %w", d.Response, err)
+	}
+	sh, _ := shift.Float64()
+	m := &model{n: n, y: y, shift: sh}
+	if d.Block != nil {
+		if len(d.Block.Values) != n {
+			return nil, fmt.Errorf("block column %q has %d values for %d observations", d.Block.Name, len(d.Block.Values), n)
+		}
+		lv, idx, err := d.Block.levels()
+		if err != nil {
+			return nil, err
+		}
+		if len(lv) < 2 {
+			return nil, fmt.Errorf("block column %q has only one block in the data: analyse without blocks", d.Block.Name)
+		}
+		m.blockL, m.blockI = lv, idx
+		m.terms = append(m.terms, modelTerm{name: d.Block.Name, block: true, cols: contrasts(idx, len(lv))})
+	}
+	if len(d.Factors) == 0 {
+		return nil, errors.New("no treatment factor")
+	}
+	main := make([][][]float64, len(d.Factors))
+	for fi, f := range d.Factors {
+		if len(f.Values) != n {
+			return nil, fmt.Errorf("factor %q has %d values for %d observations", f.Name, len(f.Values), n)
+		}
+		lv, idx, err := f.levels()
+		if err != nil {
+			return nil, err
+		}
+		if len(lv) < 2 {
+			return nil, fmt.Errorf("factor %q has only one level in the data (%q): a comparison needs at least 2", f.Name, lv[0])
+		}
+		m.levels = append(m.levels, lv)
+		m.index = append(m.index, idx)
+		main[fi] = contrasts(idx, len(lv))
+	}
+	k := len(d.Factors)
+	for deg := 1; deg <= k; deg++ {
+		for _, set := range subsets(k, deg) {
+			cols := [][]float64{make([]float64, n)}
+			for i := range cols[0] {
+				cols[0][i] = 1
+			}
+			var names []string
+			for _, fi := range set {
+				names = append(names, d.Factors[fi].Name)
+				var next [][]float64
+				for _, a := range cols {
+					for _, b := range main[fi] {
+						c := make([]float64, n)
+						for i := range c {
+							c[i] = a[i] * b[i]
+						}
+						next = append(next, c)
+					}
+				}
+				cols = next
+			}
+			m.terms = append(m.terms, modelTerm{name: strings.Join(names, " × "), factors: set, cols: cols})
+		}
+	}
+	return m, nil
+}
+
+// subsets returns the size-r subsets of {0..k−1} in lexicographic order.
+func subsets(k, r int) [][]int {
+	var out [][]int
+	var rec func(start int, cur []int)
+	rec = func(start int, cur []int) {
+		if len(cur) == r {
+			out = append(out, append([]int(nil), cur...))
+			return
+		}
+		for i := start; i < k; i++ {
+			rec(i+1, append(cur, i))
+		}
+	}
+	rec(0, nil)
+	return out
+}
+
+// fitOrder fits the intercept followed by the given terms in order and
+// returns the fit with each term's column range.
+func (m *model) fitOrder(order []int) (*qrFit, [][2]int) {
+	p := 1
+	for _, t := range order {
+		p += len(m.terms[t].cols)
+	}
+	x := make([]float64, m.n*p)
+	for i := 0; i < m.n; i++ {
+		x[i*p] = 1
+	}
+	ranges := make([][2]int, len(order))
+	c := 1
+	for k, t := range order {
+		ranges[k][0] = c
+		for _, col := range m.terms[t].cols {
+			for i, v := range col {
+				x[i*p+c] = v
+			}
+			c++
+		}
+		ranges[k][1] = c
+	}
+	return fitQR(x, m.n, p, m.y), ranges
+}
+
+// contains reports whether term a's factors include all of term b's (and a
+// is not b).
+func (m *model) contains(a, b int) bool {
+	ta, tb := m.terms[a], m.terms[b]
+	if a == b || ta.block || tb.block || len(ta.factors) <= len(tb.factors) {
+		return false
+	}
+	for _, f := range tb.factors {
+		found := false
+		for _, g := range ta.factors {
+			found = found || f == g
+		}
+		if !found {
+			return false
+		}
+	}
+	return true
+}
+
+// ErrEmptyCell reports a rank-deficient model: some combination of levels
+// has no observations, so some terms cannot be estimated.
+var ErrEmptyCell = errors.New("analyze: empty cell")
+
+// Fit fits the full model to d and returns its ANOVA table.
+func Fit(d Data, opt Options) (*Table, error) {
+	if opt.SSType == 0 {
+		opt.SSType = 3
+	}
+	if opt.SSType < 1 || opt.SSType > 3 {
+		return nil, fmt.Errorf("sum-of-squares type %d: must be 1, 2 or 3", opt.SSType)
+	}
+	if opt.Alpha == 0 {
+		opt.Alpha = 0.05
+	}
+	m, err := buildModel(d)
+	if err != nil {
+		return nil, err
+	}
+	all := make([]int, len(m.terms))
+	for i := range all {
+		all[i] = i
+	}
+	full, ranges := m.fitOrder(all)
+	p := 1
+	for _, t := range m.terms {
+		p += len(t.cols)
+	}
+	if full.rank < p {
+		var bad []string
+		for k, r := range ranges {
+			if full.dependent(r[0], r[1]) {
+				bad = append(bad, m.terms[k].name)
+			}
+		}
+		return nil, fmt.Errorf("%w: some combinations of levels have no observations, so these terms cannot be estimated: %s", ErrEmptyCell, strings.Join(bad, ", "))
+	}
+	n := m.n
+	resDF := n - p
+	if resDF < 1 {
+		return nil, fmt.Errorf("response %q: %d observations for %d parameters leave no residual degrees of freedom; at least 2 observations are needed in some group", d.Response, n, p)
+	}
+	t := &Table{Response: d.Response, SSType: opt.SSType, N: n, Alpha: opt.Alpha}
+	t.Residual.DF = resDF
+	t.Residual.SS = full.ss(p, n)
+	t.Residual.MS = t.Residual.SS / float64(resDF)
+	t.TotalDF = n - 1
+	t.TotalSS = full.ss(1, n)
+
+	for k, term := range m.terms {
+		var ss float64
+		switch opt.SSType {
+		case 1:
+			ss = full.ss(ranges[k][0], ranges[k][1])
+		case 2, 3:
+			var order []int
+			for j := range m.terms {
+				if j == k || opt.SSType == 2 && m.contains(j, k) {
+					continue
+				}
+				order = append(order, j)
+			}
+			order = append(order, k)
+			f, r := m.fitOrder(order)
+			last := r[len(r)-1]
+			ss = f.ss(last[0], last[1])
+		}
+		df := len(term.cols)
+		row := Term{Source: term.name, DF: df, SS: ss, MS: ss / float64(df), Block: term.block}
+		for _, fi := range term.factors {
+			row.Factors = append(row.Factors, d.Factors[fi].Name)
+		}
+		row.F = row.MS / t.Residual.MS
+		row.P = distuv.F{D1: float64(df), D2: float64(resDF)}.Survival(row.F)
+		if t.Residual.MS == 0 {
+			row.F, row.P = math.Inf(1), 0
+		}
+		row.PartialEta2 = ss / (ss + t.Residual.SS)
+		row.PartialOmega2 = (ss - float64(df)*t.Residual.MS) / (ss + float64(n-df)*t.Residual.MS)
+		t.Terms = append(t.Terms, row)
+	}
+	t.R2 = 1 - t.Residual.SS/t.TotalSS
+	t.ResidSD = math.Sqrt(t.Residual.MS)
+	all0 := make([]int, n)
+	for i := range all0 {
+		all0[i] = i
+	}
+	t.GrandMean = ratMean(d.Values, all0)
+	t.CV = 100 * t.ResidSD / math.Abs(t.GrandMean)
+	t.Residuals = full.residuals()
+	t.Fitted = make([]float64, n)
+	for i := range t.Fitted {
+		t.Fitted[i] = m.y[i] - t.Residuals[i] + m.shift
+	}
+	if d.Block != nil {
+		t.RelEfficiency = relEfficiency(t)
+	}
+	return t, nil
+}
+
+// relEfficiency returns the efficiency of the block design relative to a
+// completely randomised design on the same units: the error mean square a
+// CRD would have had, [df_b·MS_b + (df_t + df_e)·MS_e]/(df_b + df_t + df_e),
+// over the block design's MS_e, with Fisher's correction for the error
+// degrees of freedom, (df_e + 1)(df_crd + 3)/((df_e + 3)(df_crd + 1))
+// (Cochran and Cox 1957, Experimental Designs, 2nd ed., section 4.37).
+func relEfficiency(t *Table) float64 {
+	var bdf, bss, tdf float64
+	for _, r := range t.Terms {
+		if r.Block {
+			bdf, bss = float64(r.DF), r.SS
+		} else {
+			tdf += float64(r.DF)
+		}
+	}
+	edf, mse := float64(t.Residual.DF), t.Residual.MS
+	if mse == 0 {
+		return math.Inf(1)
+	}
+	crdMSE := (bss + (tdf+edf)*mse) / (bdf + tdf + edf)
+	crdDF := bdf + edf
+	fisher := (edf + 1) * (crdDF + 3) / ((edf + 3) * (crdDF + 1))
+	return fisher * crdMSE / mse
+}

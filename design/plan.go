@@ -1,0 +1,240 @@
+// Package design defines the plan of a comparative experiment: treatment
+// factors and their levels, the treatments (the full factorial of the
+// levels), replication, blocks, responses to record, and the experimental
+// units with their positions. A Layout is a Plan with a treatment assigned
+// to every unit (package randomize makes one).
+//
+// A plan has one canonical JSON form (encoding/json of Plan, fields in
+// declaration order, no insignificant white space) and a fingerprint, the
+// lower-case hexadecimal SHA-256 of that form, so a plan embedded in a
+// workbook or a report can be checked for edits.
+package design
+
+import (
+	"crypto/sha256"
+	"encoding/hex"
+	"encoding/json"
+	"fmt"
+	"strings"
+)
+
+// Kind is the design's trade name.
+type Kind string
+
+// The designs allot lays out.
+const (
+	// CRD is the completely randomised design: treatments assigned to all
+	// units at random, no blocking.
+	CRD Kind = "crd"
+	// RCBD is the randomised complete block design: every block holds each
+	// treatment Reps times, randomised separately within each block.
+	RCBD Kind = "rcbd"
+)
+
+// MaxUnits is the most units a plan may have: one worksheet row each below
+// the header (1,048,576 rows in an .xlsx sheet).
+const MaxUnits = 1_048_575
+
+// Factor is a treatment factor with its levels, in the order given.
+type Factor struct {
+	Name   string   `json:"name"`
+	Levels []string `json:"levels"`
+}
+
+// Response is a measured outcome, with an optional plausible range that the
+// workbook enforces on entry and the check reports.
+type Response struct {
+	Name string   `json:"name"`
+	Min  *float64 `json:"min,omitempty"`
+	Max  *float64 `json:"max,omitempty"`
+}
+
+// Plan is everything needed to lay out, record and analyse the experiment.
+type Plan struct {
+	Title   string   `json:"title"`
+	Design  Kind     `json:"design"`
+	Factors []Factor `json:"factors"`
+	// Control is the level (one-factor plans) that the others are compared
+	// with, or empty.
+	Control string `json:"control,omitempty"`
+	// Reps holds the replication of each treatment, in Treatments order:
+	// units in total for CRD, units per block for RCBD.
+	Reps []int `json:"reps"`
+	// Blocks is the number of blocks (1 for CRD).
+	Blocks int `json:"blocks"`
+	// BlockName is what a block is called here: bench, litter, day, rack.
+	BlockName string     `json:"block_name"`
+	Responses []Response `json:"responses"`
+	// Seed and Generator identify the randomisation (see package randomize).
+	Seed      uint64 `json:"seed"`
+	Generator string `json:"generator"`
+}
+
+// Treatment is one combination of factor levels.
+type Treatment struct {
+	Index  int
+	Name   string   // the levels joined by " × "
+	Levels []string // one level per factor
+}
+
+// Treatments returns the full factorial of the factor levels, the first
+// factor varying slowest.
+func (p Plan) Treatments() []Treatment {
+	combos := [][]string{{}}
+	for _, f := range p.Factors {
+		var next [][]string
+		for _, c := range combos {
+			for _, l := range f.Levels {
+				next = append(next, append(append([]string{}, c...), l))
+			}
+		}
+		combos = next
+	}
+	out := make([]Treatment, len(combos))
+	for i, c := range combos {
+		out[i] = Treatment{Index: i, Name: strings.Join(c, " × "), Levels: c}
+	}
+	return out
+}
+
+// BlockSize returns the number of units in each block.
+func (p Plan) BlockSize() int {
+	n := 0
+	for _, r := range p.Reps {
+		n += r
+	}
+	return n
+}
+
+// Units returns the number of experimental units.
+func (p Plan) Units() int { return p.BlockSize() * p.Blocks }
+
+// Canonical returns the plan's canonical JSON form.
+func (p Plan) Canonical() []byte {
+	b, err := json.Marshal(p)
+	if err != nil {
+		panic("design: plan does not marshal: " + err.Error())
+	}
+	return b
+}
+
+// Fingerprint returns the SHA-256 of the canonical form, in hexadecimal.
+func (p Plan) Fingerprint() string {
+	sum := sha256.Sum256(p.Canonical())
+	return hex.EncodeToString(sum[:])
+}
+
+// ParsePlan decodes a plan from its JSON form and validates it.
+func ParsePlan(b []byte) (Plan, error) {
+	var p Plan
+	dec := json.NewDecoder(strings.NewReader(string(b)))
+	dec.DisallowUnknownFields()
+	if err := dec.Decode(&p); err != nil {
+		return Plan{}, fmt.Errorf("plan JSON: %w", err)
+	}
+	if err := p.Validate(); err != nil {
+		return Plan{}, err
+	}
+	return p, nil
+}
+
+// Error is a problem with a plan, naming the field it concerns so that a
+// command can name its flag.
+type Error struct {
+	Field string // factor, control, reps, blocks, block_name, response, design, title
+	Msg   string
+}
+
+func (e *Error) Error() string { return e.Msg }
+
+func errf(field, format string, args ...any) error {
+	return &Error{Field: field, Msg: fmt.Sprintf(format, args...)}
+}
+
+// Validate checks the plan and returns an *Error for the first problem.
+func (p Plan) Validate() error {
+	switch p.Design {
+	case CRD, RCBD:
+	default:
+		return errf("design", "design %q: must be %q (completely randomised) or %q (randomised complete blocks)", p.Design, CRD, RCBD)
+	}
+	if len(p.Factors) == 0 {
+		return errf("factor", "no treatment factor: give at least one, for example feed=A,B,C")
+	}
+	if len(p.Factors) > 4 {
+		return errf("factor", "%d factors: at most 4 are supported", len(p.Factors))
+	}
+	names := map[string]bool{}
+	for _, f := range p.Factors {
+		if strings.TrimSpace(f.Name) == "" {
+			return errf("factor", "a factor has no name")
+		}
+		if names[f.Name] {
+			return errf("factor", "factor %q is given twice", f.Name)
+		}
+		names[f.Name] = true
+		if len(f.Levels) < 2 {
+			return errf("factor", "factor %q needs at least 2 levels", f.Name)
+		}
+		seen := map[string]bool{}
+		for _, l := range f.Levels {
+			if strings.TrimSpace(l) == "" {
+				return errf("factor", "factor %q has an empty level name", f.Name)
+			}
+			if seen[l] {
+				return errf("factor", "factor %q: level %q is given twice", f.Name, l)
+			}
+			seen[l] = true
+		}
+	}
+	if p.Control != "" {
+		if len(p.Factors) != 1 {
+			return errf("control", "a control level is supported for one-factor plans only")
+		}
+		found := false
+		for _, l := range p.Factors[0].Levels {
+			found = found || l == p.Control
+		}
+		if !found {
+			return errf("control", "control %q is not a level of factor %q (levels: %s)", p.Control, p.Factors[0].Name, strings.Join(p.Factors[0].Levels, ", "))
+		}
+	}
+	nt := len(p.Treatments())
+	if len(p.Reps) != nt {
+		return errf("reps", "%d replication counts for %d treatments", len(p.Reps), nt)
+	}
+	for i, r := range p.Reps {
+		if r < 1 {
+			return errf("reps", "treatment %q has replication %d: must be at least 1", p.Treatments()[i].Name, r)
+		}
+	}
+	if p.Blocks < 1 {
+		return errf("blocks", "%d blocks: must be at least 1", p.Blocks)
+	}
+	if p.Design == CRD && p.Blocks != 1 {
+		return errf("blocks", "a completely randomised design has no blocks; use design %q for %d blocks", RCBD, p.Blocks)
+	}
+	if p.Design == RCBD && p.Blocks < 2 {
+		return errf("blocks", "a randomised complete block design needs at least 2 blocks")
+	}
+	if strings.TrimSpace(p.BlockName) == "" {
+		return errf("block_name", "the block name is empty (for example bench, litter, day)")
+	}
+	if n := p.Units(); n > MaxUnits {
+		return errf("reps", "%d units: more than a worksheet can hold (%d)", n, MaxUnits)
+	}
+	rn := map[string]bool{}
+	for _, r := range p.Responses {
+		if strings.TrimSpace(r.Name) == "" {
+			return errf("response", "a response has no name")
+		}
+		if rn[r.Name] || names[r.Name] {
+			return errf("response", "response %q clashes with another response or factor", r.Name)
+		}
+		rn[r.Name] = true
+		if r.Min != nil && r.Max != nil && *r.Min > *r.Max {
+			return errf("response", "response %q: range %g..%g is empty", r.Name, *r.Min, *r.Max)
+		}
+	}
+	return nil
+}
