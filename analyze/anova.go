@@ -61,7 +61,7 @@ type Table struct {
 	CV        float64  `json:"cv_percent"`
 	// RelEfficiency is the efficiency of the block design relative to a
 	// completely randomised one on the same units (0 without blocks).
-	RelEfficiency float64 `json:"relative_efficiency,omitempty"`
+	RelEfficiency float64   `json:"relative_efficiency,omitempty"`
 	Residuals     []float64 `json:"-"`
 	Fitted        []float64 `json:"-"`
 	Alpha         float64   `json:"alpha"`

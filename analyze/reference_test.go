@@ -26,7 +26,7 @@ type refCase struct {
 		ResidSS float64 `json:"resid_ss"`
 	} `json:"anova"`
 	Tukey []struct {
-		A, B                   string
+		A, B                  string
 		Diff, P, Lower, Upper float64
 	} `json:"tukey"`
 }
