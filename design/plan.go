@@ -238,3 +238,18 @@ func (p Plan) Validate() error {
 	}
 	return nil
 }
+
+// Plural returns the English plural of a block name: bench → benches,
+// litter → litters, day → days, colony → colonies.
+func Plural(word string) string {
+	switch {
+	case word == "":
+		return word
+	case strings.HasSuffix(word, "s"), strings.HasSuffix(word, "x"), strings.HasSuffix(word, "z"),
+		strings.HasSuffix(word, "ch"), strings.HasSuffix(word, "sh"):
+		return word + "es"
+	case strings.HasSuffix(word, "y") && len(word) > 1 && !strings.ContainsRune("aeiou", rune(word[len(word)-2])):
+		return word[:len(word)-1] + "ies"
+	}
+	return word + "s"
+}

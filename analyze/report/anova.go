@@ -1,0 +1,215 @@
+package report
+
+import (
+	"encoding/json"
+	"fmt"
+	"io"
+	"math"
+	"strings"
+
+	"allot/analyze"
+	"allot/design"
+)
+
+// Analysis is everything reported for one response.
+type Analysis struct {
+	Table   *analyze.Table    `json:"anova"`
+	PostHoc []*analyze.PostHoc `json:"posthoc"`
+	// Groups holds the treatment summaries (per factor), for the SD check.
+	Groups  [][]analyze.Group `json:"groups"`
+	Missing int               `json:"missing"`
+	// Unit names the experimental unit (pot, plot, animal) for the
+	// unit-of-analysis reminder.
+	Unit      string `json:"unit"`
+	BlockName string `json:"block_name,omitempty"`
+	Simulated bool   `json:"simulated,omitempty"`
+}
+
+func (a Analysis) anovaTable() table {
+	t := a.Table
+	tb := table{
+		head:  []string{"source of variation", "df", "SS", "MS", "F", "p", "partial η²"},
+		right: []bool{false, true, true, true, true, true, true},
+	}
+	for _, r := range t.Terms {
+		tb.rows = append(tb.rows, []string{r.Source, fmt.Sprint(r.DF), num(r.SS, 5), num(r.MS, 5), num(r.F, 4), pval(r.P), fixed(r.PartialEta2, 3)})
+	}
+	tb.rows = append(tb.rows,
+		[]string{"residual", fmt.Sprint(t.Residual.DF), num(t.Residual.SS, 5), num(t.Residual.MS, 5), "", "", ""},
+		[]string{"total (corrected)", fmt.Sprint(t.TotalDF), num(t.TotalSS, 5), "", "", "", ""},
+	)
+	return tb
+}
+
+func ssTypeText(k int) string {
+	switch k {
+	case 1:
+		return "Type I (sequential) sums of squares"
+	case 2:
+		return "Type II sums of squares"
+	}
+	return "Type III sums of squares, sum-to-zero coding"
+}
+
+func (a Analysis) summaryLines() []string {
+	t := a.Table
+	lines := []string{fmt.Sprintf("n = %d, grand mean %s, residual SD %s, R² %s, CV %s%%",
+		t.N, num(t.GrandMean, 5), num(t.ResidSD, 4), fixed(t.R2, 3), num(t.CV, 3))}
+	if t.RelEfficiency > 0 {
+		lines = append(lines, fmt.Sprintf("Relative efficiency of blocking by %s: %s (a completely randomised layout would have needed about %s times as many units for the same precision; Cochran and Cox 1957).",
+			a.BlockName, num(t.RelEfficiency, 3), num(t.RelEfficiency, 2)))
+	}
+	return lines
+}
+
+func groupTable(gs []analyze.Group) table {
+	tb := table{head: []string{"level", "n", "mean", "SD"}, right: []bool{false, true, true, true}}
+	for _, g := range gs {
+		tb.rows = append(tb.rows, []string{g.Level, fmt.Sprint(g.N), num(g.Mean, 5), num(g.SD, 4)})
+	}
+	return tb
+}
+
+func pairTable(ph *analyze.PostHoc) table {
+	tb := table{head: []string{"pair", "difference", "lower", "upper", "p (adjusted)"}, right: []bool{false, true, true, true, true}}
+	for _, c := range ph.Pairs {
+		tb.rows = append(tb.rows, []string{c.Pair, num(c.Diff, 4), num(c.Lower, 4), num(c.Upper, 4), pval(c.P)})
+	}
+	return tb
+}
+
+// Reading returns the plain-language reading of each treatment term. It does
+// not over-claim: a non-significant F is "consistent with equal means", a
+// significant one says at least one mean differs.
+func (a Analysis) Reading() []string {
+	t := a.Table
+	var out []string
+	for _, r := range t.Terms {
+		stat := fmt.Sprintf("F(%d, %d) = %s, p %s", r.DF, t.Residual.DF, num(r.F, 4), pvalPhrase(r.P))
+		switch {
+		case r.Block:
+			out = append(out, fmt.Sprintf("Differences between %s (%s) are taken out of the error; they are not a question the study asks.", design.Plural(r.Source), stat))
+		case r.P < t.Alpha:
+			what := "the mean " + t.Response + " differs between at least two levels of " + r.Source
+			if len(r.Factors) > 1 {
+				what = "the effect of one of " + strings.Join(r.Factors, ", ") + " depends on the level of the other(s) (an interaction), so their main effects should be read level by level"
+			}
+			out = append(out, fmt.Sprintf("%s: at α = %s the data show that %s (%s). The comparisons say which levels differ.", r.Source, short(t.Alpha), what, stat))
+		default:
+			out = append(out, fmt.Sprintf("%s: at α = %s the data are consistent with equal means (%s). This is not evidence that the means are equal: a difference smaller than the study could detect may exist.", r.Source, short(t.Alpha), stat))
+		}
+	}
+	return out
+}
+
+func pvalPhrase(p float64) string {
+	if p < 0.0001 {
+		return "< 0.0001"
+	}
+	return "= " + pval(p)
+}
+
+// Cautions returns the reminders printed with every analysis.
+func (a Analysis) Cautions() []string {
+	unit := a.Unit
+	if unit == "" {
+		unit = "unit"
+	}
+	c := []string{
+		fmt.Sprintf("Unit of analysis: each %s that was randomised to a treatment is one observation; measurements repeated on the same %s are not independent replicates and must be averaged first.", unit, unit),
+		"The p-values assume independent units, normally distributed errors and equal variances across treatments.",
+	}
+	for _, gs := range a.Groups {
+		lo, hi := math.Inf(1), 0.0
+		for _, g := range gs {
+			if !math.IsNaN(g.SD) {
+				lo, hi = math.Min(lo, g.SD), math.Max(hi, g.SD)
+			}
+		}
+		if lo > 0 && hi > 0 && !math.IsInf(lo, 1) {
+			r := hi / lo
+			verdict := "unremarkable"
+			if r > 3 {
+				verdict = "large: the equal-variance assumption is doubtful, consult a statistician before relying on the p-values"
+			}
+			c = append(c, fmt.Sprintf("Largest to smallest treatment SD: %s (common practice: below about 3 is %s).", num(r, 3), verdict))
+			break
+		}
+	}
+	if a.Missing > 0 {
+		c = append(c, fmt.Sprintf("%d unit(s) had no value and were left out; if losses depend on the treatment, the comparison is biased.", a.Missing))
+	}
+	if a.Simulated {
+		c = append(c, "These data are SIMULATED by allot's demo, not measurements.")
+	}
+	return c
+}
+
+// AnalysisText writes the analysis as aligned text.
+func AnalysisText(w io.Writer, a Analysis) error {
+	var b strings.Builder
+	t := a.Table
+	fmt.Fprintf(&b, "Analysis of variance: %s (%s)\n", t.Response, ssTypeText(t.SSType))
+	b.WriteString(a.anovaTable().text("  "))
+	for _, l := range a.summaryLines() {
+		b.WriteString(wrap(l, 78, "  "))
+	}
+	for i, ph := range a.PostHoc {
+		fmt.Fprintf(&b, "\nMeans of %s\n", ph.Term)
+		b.WriteString(groupTable(a.PostHoc[i].Groups).text("  "))
+		fmt.Fprintf(&b, "\n%s comparisons of %s: %s%% simultaneous intervals, df %d, critical q %s\n",
+			ph.Method, ph.Term, short(100*(1-ph.Alpha)), ph.DF, num(ph.Crit, 4))
+		b.WriteString(pairTable(ph).text("  "))
+	}
+	b.WriteString("\nReading\n")
+	for _, r := range a.Reading() {
+		b.WriteString(wrap(r, 78, "  "))
+	}
+	b.WriteString("\nCautions\n")
+	for _, c := range a.Cautions() {
+		b.WriteString(wrap(c, 78, "  "))
+	}
+	_, err := io.WriteString(w, b.String())
+	return err
+}
+
+// AnalysisMarkdown writes the analysis as Markdown.
+func AnalysisMarkdown(w io.Writer, a Analysis) error {
+	var b strings.Builder
+	t := a.Table
+	fmt.Fprintf(&b, "## Analysis of variance: %s\n\n%s.\n\n", t.Response, ssTypeText(t.SSType))
+	b.WriteString(a.anovaTable().markdown())
+	b.WriteString("\n")
+	for _, l := range a.summaryLines() {
+		b.WriteString(l + "\n\n")
+	}
+	for _, ph := range a.PostHoc {
+		fmt.Fprintf(&b, "### Means of %s\n\n", ph.Term)
+		b.WriteString(groupTable(ph.Groups).markdown())
+		fmt.Fprintf(&b, "\n### %s comparisons of %s\n\n%s%% simultaneous intervals, df %d, critical q %s.\n\n",
+			ph.Method, ph.Term, short(100*(1-ph.Alpha)), ph.DF, num(ph.Crit, 4))
+		b.WriteString(pairTable(ph).markdown())
+		b.WriteString("\n")
+	}
+	b.WriteString("### Reading\n\n")
+	for _, r := range a.Reading() {
+		b.WriteString("- " + r + "\n")
+	}
+	b.WriteString("\n### Cautions\n\n")
+	for _, c := range a.Cautions() {
+		b.WriteString("- " + c + "\n")
+	}
+	_, err := io.WriteString(w, b.String())
+	return err
+}
+
+// AnalysisJSON writes the analysis as one JSON object.
+func AnalysisJSON(w io.Writer, a Analysis) error {
+	enc := json.NewEncoder(w)
+	enc.SetIndent("", "  ")
+	return enc.Encode(struct {
+		Analysis
+		Reading  []string `json:"reading"`
+		Cautions []string `json:"cautions"`
+	}{a, a.Reading(), a.Cautions()})
+}

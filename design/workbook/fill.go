@@ -1,0 +1,113 @@
+package workbook
+
+import (
+	"fmt"
+	"strings"
+
+	"allot/design"
+
+	"github.com/xuri/excelize/v2"
+)
+
+// Fill copies the workbook src to dst with response values written in, as a
+// technician would type them. values[r][i] is response r of
+// layout unit i (NaN leaves the cell empty). label is written in red at the
+// top of the Study sheet and into every Notes cell, so that simulated numbers
+// can never pass for measurements. dst is written through a temporary file
+// and is not replaced unless force is set.
+func Fill(src, dst string, values [][]float64, label string, force bool) error {
+	f, err := excelize.OpenFile(src, excelize.Options{RawCellValue: true, UnzipSizeLimit: UnzipSizeLimit, UnzipXMLSizeLimit: UnzipXMLSizeLimit})
+	if err != nil {
+		return fmt.Errorf("%s: cannot be opened as an .xlsx workbook: %w", src, err)
+	}
+	defer f.Close()
+	l, err := readData(f, src)
+	if err != nil {
+		return err
+	}
+	p := l.Plan
+	if len(p.Responses) == 0 {
+		return ErrNotFilled
+	}
+	if len(values) != len(p.Responses) {
+		return fmt.Errorf("workbook: %d value columns for %d responses", len(values), len(p.Responses))
+	}
+	c := layoutColumns(p)
+	nd := c.designCount(p)
+	rows, err := f.GetRows(SheetEntry, excelize.Options{RawCellValue: true})
+	if err != nil {
+		return err
+	}
+	rowOf := map[string]int{}
+	for r := 1; r < len(rows); r++ {
+		if len(rows[r]) > 0 {
+			rowOf[strings.TrimSpace(rows[r][0])] = r + 1
+		}
+	}
+	notes := nd + len(p.Responses) + 1
+	for i, u := range l.Units {
+		row, ok := rowOf[u.ID]
+		if !ok {
+			return fmt.Errorf("%s: unit %s has no row on sheet %q", src, u.ID, SheetEntry)
+		}
+		for k := range p.Responses {
+			v := values[k][i]
+			if v != v { // NaN: leave empty
+				continue
+			}
+			if err := f.SetCellFloat(SheetEntry, cell(nd+1+k, row), v, -1, 64); err != nil {
+				return err
+			}
+		}
+		if label != "" {
+			f.SetCellStr(SheetEntry, cell(notes, row), label)
+		}
+	}
+	if label != "" {
+		red, _ := f.NewStyle(&excelize.Style{Font: &excelize.Font{Bold: true, Color: "B00020", Size: 12}})
+		f.SetCellStr(SheetStudy, "A2", label)
+		f.SetCellStyle(SheetStudy, "A2", "A2", red)
+	}
+	return writeAtomic(dst, force, func(tmp string) error {
+		if err := f.SaveAs(tmp); err != nil {
+			return fmt.Errorf("writing %s: %w", dst, err)
+		}
+		return nil
+	})
+}
+
+// Observations holds the observations of one response for analysis: the decimal
+// texts of the units that have a value, with their treatment levels, block,
+// unit IDs and cells.
+type Observations struct {
+	Values    []string
+	Levels    [][]string // per factor, one level per observation
+	Blocks    []string   // block number as text, per observation (nil for CRD)
+	Units     []string
+	Cells     []string
+	Treatment []string
+}
+
+// Observations collects the non-missing values of response r.
+func (fl *Filled) Observations(r int) Observations {
+	p := fl.Layout.Plan
+	tr := p.Treatments()
+	o := Observations{Levels: make([][]string, len(p.Factors))}
+	for i, u := range fl.Layout.Units {
+		v := fl.Values[r][i]
+		if v.Missing {
+			continue
+		}
+		o.Values = append(o.Values, v.Text)
+		for fi := range p.Factors {
+			o.Levels[fi] = append(o.Levels[fi], tr[u.Treatment].Levels[fi])
+		}
+		if p.Design == design.RCBD {
+			o.Blocks = append(o.Blocks, fmt.Sprint(u.Block))
+		}
+		o.Units = append(o.Units, u.ID)
+		o.Cells = append(o.Cells, SheetEntry+"!"+v.Cell)
+		o.Treatment = append(o.Treatment, tr[u.Treatment].Name)
+	}
+	return o
+}

@@ -1,0 +1,313 @@
+package workbook
+
+import (
+	"encoding/json"
+	"errors"
+	"fmt"
+	"regexp"
+	"strconv"
+	"strings"
+
+	"allot/design"
+
+	"github.com/xuri/excelize/v2"
+)
+
+// Severity grades a problem: errors stop analysis, warnings do not.
+type Severity int
+
+// Severities.
+const (
+	Warning Severity = iota
+	Error
+)
+
+func (s Severity) String() string {
+	if s == Error {
+		return "error"
+	}
+	return "warning"
+}
+
+// Problem is one finding of the read-back check, located by sheet and cell.
+type Problem struct {
+	Severity Severity `json:"-"`
+	Level    string   `json:"severity"`
+	Sheet    string   `json:"sheet"`
+	Cell     string   `json:"cell,omitempty"`
+	Unit     string   `json:"unit,omitempty"`
+	Msg      string   `json:"message"`
+}
+
+func (p Problem) String() string {
+	loc := "sheet " + strconv.Quote(p.Sheet)
+	if p.Cell != "" {
+		loc += " cell " + p.Cell
+	}
+	if p.Unit != "" {
+		loc += " (unit " + p.Unit + ")"
+	}
+	return fmt.Sprintf("%s: %s: %s", p.Severity, loc, p.Msg)
+}
+
+// Value is one response cell as read: its decimal text, where it is, and
+// whether it was left empty.
+type Value struct {
+	Text    string
+	Cell    string
+	Missing bool
+}
+
+// Filled is a read-back workbook: the stored layout, the responses of every
+// unit (in layout order) and everything the check found.
+type Filled struct {
+	Layout    design.Layout
+	Responses []string
+	// Values[r][i] is response r of unit Layout.Units[i].
+	Values   [][]Value
+	Problems []Problem
+}
+
+// Errors returns the number of error-level problems.
+func (f *Filled) Errors() int {
+	n := 0
+	for _, p := range f.Problems {
+		if p.Severity == Error {
+			n++
+		}
+	}
+	return n
+}
+
+// FileError is a problem that stops reading altogether.
+type FileError struct {
+	Path, Sheet, Cell, Msg string
+}
+
+func (e *FileError) Error() string {
+	loc := e.Path
+	if e.Sheet != "" {
+		loc += ": sheet " + strconv.Quote(e.Sheet)
+	}
+	if e.Cell != "" {
+		loc += " cell " + e.Cell
+	}
+	return loc + ": " + e.Msg
+}
+
+// ReadOptions tunes the check.
+type ReadOptions struct {
+	// DecimalComma accepts "12,5" as 12.5 in response cells.
+	DecimalComma bool
+}
+
+var decimalComma = regexp.MustCompile(`^[+-]?\d+,\d+$`)
+
+// Read opens a filled workbook, verifies its stored plan and checks every
+// row of the Entry sheet. The file is only read. Problems found in cells are
+// in Filled.Problems; a *FileError is returned when the file cannot be used
+// at all (not a workbook, plan sheet missing or edited).
+func Read(path string, opt ReadOptions) (*Filled, error) {
+	f, err := excelize.OpenFile(path, excelize.Options{RawCellValue: true, UnzipSizeLimit: UnzipSizeLimit, UnzipXMLSizeLimit: UnzipXMLSizeLimit})
+	if err != nil {
+		return nil, &FileError{Path: path, Msg: "cannot be read as an .xlsx workbook (" + err.Error() + "); give the file written by `allot layout` or a copy re-saved as .xlsx"}
+	}
+	defer f.Close()
+	l, err := readData(f, path)
+	if err != nil {
+		return nil, err
+	}
+	return readEntry(f, path, l, opt)
+}
+
+func readData(f *excelize.File, path string) (design.Layout, error) {
+	fail := func(cell, msg string) error {
+		return &FileError{Path: path, Sheet: SheetData, Cell: cell, Msg: msg}
+	}
+	if idx, err := f.GetSheetIndex(SheetData); err != nil || idx < 0 {
+		return design.Layout{}, fail("", "the hidden plan sheet is missing, so the workbook cannot be matched to its plan; start again from the workbook written by `allot layout`")
+	}
+	get := func(c string) string {
+		v, _ := f.GetCellValue(SheetData, c, excelize.Options{RawCellValue: true})
+		return v
+	}
+	fp, sum := get("B1"), get("B2")
+	n, err := strconv.Atoi(get("B3"))
+	if err != nil || n < 1 {
+		return design.Layout{}, fail("B3", "the chunk count is not a positive number; the plan sheet was edited")
+	}
+	var sb strings.Builder
+	for i := 0; i < n; i++ {
+		sb.WriteString(get(cell(1, 4+i)))
+	}
+	doc := sb.String()
+	if digest([]byte(doc)) != sum {
+		return design.Layout{}, fail("A4", "the stored plan does not match its checksum in B2: the plan sheet was edited; use an unedited copy of the workbook")
+	}
+	var st stored
+	if err := json.Unmarshal([]byte(doc), &st); err != nil {
+		return design.Layout{}, fail("A4", "the stored plan is not valid JSON: "+err.Error())
+	}
+	p, err := design.ParsePlan(st.Plan)
+	if err != nil {
+		return design.Layout{}, fail("A4", "the stored plan is not valid: "+err.Error())
+	}
+	if p.Fingerprint() != fp {
+		return design.Layout{}, fail("B1", "the plan fingerprint does not match the stored plan: the plan sheet was edited")
+	}
+	var units []design.Unit
+	if err := json.Unmarshal(st.Units, &units); err != nil {
+		return design.Layout{}, fail("A4", "the stored units are not valid JSON: "+err.Error())
+	}
+	l := design.Layout{Plan: p, Units: units}
+	if err := l.Check(); err != nil {
+		return design.Layout{}, fail("A4", "the stored layout is inconsistent: "+err.Error())
+	}
+	return l, nil
+}
+
+func readEntry(f *excelize.File, path string, l design.Layout, opt ReadOptions) (*Filled, error) {
+	p := l.Plan
+	c := layoutColumns(p)
+	heads := c.headers(p)
+	rows, err := f.GetRows(SheetEntry, excelize.Options{RawCellValue: true})
+	if err != nil {
+		return nil, &FileError{Path: path, Sheet: SheetEntry, Msg: "the data-entry sheet is missing or unreadable (" + err.Error() + ")"}
+	}
+	out := &Filled{Layout: l}
+	for _, r := range p.Responses {
+		out.Responses = append(out.Responses, r.Name)
+	}
+	out.Values = make([][]Value, len(p.Responses))
+	for i := range out.Values {
+		out.Values[i] = make([]Value, len(l.Units))
+		for j := range out.Values[i] {
+			out.Values[i][j].Missing = true
+		}
+	}
+	add := func(sev Severity, cellRef, unit, msg string) {
+		out.Problems = append(out.Problems, Problem{Severity: sev, Level: sev.String(), Sheet: SheetEntry, Cell: cellRef, Unit: unit, Msg: msg})
+	}
+	if len(rows) == 0 {
+		return nil, &FileError{Path: path, Sheet: SheetEntry, Cell: "A1", Msg: "the sheet is empty: the header row and unit rows were deleted"}
+	}
+	for i, h := range heads {
+		got := ""
+		if i < len(rows[0]) {
+			got = strings.TrimSpace(rows[0][i])
+		}
+		if got != h {
+			return nil, &FileError{Path: path, Sheet: SheetEntry, Cell: cell(i+1, 1), Msg: fmt.Sprintf("header %q where %q belongs: columns were moved, renamed or deleted; restore the column order", got, h)}
+		}
+	}
+	index := map[string]int{}
+	for i, u := range l.Units {
+		index[u.ID] = i
+	}
+	tr := p.Treatments()
+	nd := c.designCount(p)
+	seenRow := map[string]string{}
+	for r := 1; r < len(rows); r++ {
+		row := rows[r]
+		at := func(j int) string {
+			if j < len(row) {
+				return strings.TrimSpace(row[j])
+			}
+			return ""
+		}
+		blank := true
+		for j := range row {
+			blank = blank && strings.TrimSpace(row[j]) == ""
+		}
+		if blank {
+			continue
+		}
+		ref := func(j int) string { return cell(j+1, r+1) }
+		id := at(0)
+		ui, ok := index[id]
+		if !ok {
+			add(Error, ref(0), id, fmt.Sprintf("unit %q is not in the plan; correct the ID or delete the row", id))
+			continue
+		}
+		if prev, dup := seenRow[id]; dup {
+			add(Error, ref(0), id, fmt.Sprintf("unit %s appears again (first in %s); delete the duplicate row", id, prev))
+			continue
+		}
+		seenRow[id] = ref(0)
+		want := designCells(c, l.Units[ui], tr)
+		for j := 1; j < len(want); j++ {
+			if got := at(j); got != want[j] {
+				add(Error, ref(j), id, fmt.Sprintf("%s was %q in the plan and is now %q; restore it (the plan, not the sheet, says what each unit received)", heads[j], want[j], got))
+			}
+		}
+		for k, resp := range p.Responses {
+			j := nd + k
+			v, prob := parseResponse(f, ref(j), at(j), resp, opt)
+			if prob != "" {
+				sev := Error
+				if v.Text != "" {
+					sev = Warning
+				}
+				add(sev, ref(j), id, prob)
+			}
+			out.Values[k][ui] = v
+		}
+	}
+	for i, u := range l.Units {
+		if _, ok := seenRow[u.ID]; !ok {
+			add(Error, "", u.ID, fmt.Sprintf("unit %s (%s) has no row: a row was deleted; add it back with its unit ID", u.ID, tr[l.Units[i].Treatment].Name))
+		}
+	}
+	for k, resp := range p.Responses {
+		missing := map[int]int{}
+		for i, u := range l.Units {
+			if _, ok := seenRow[u.ID]; ok && out.Values[k][i].Missing {
+				missing[u.Treatment]++
+			}
+		}
+		for t := range tr {
+			if missing[t] > 0 {
+				add(Warning, "", "", fmt.Sprintf("%s: %d unit(s) of treatment %q have no value (missing)", resp.Name, missing[t], tr[t].Name))
+			}
+		}
+	}
+	return out, nil
+}
+
+// parseResponse checks one response cell. It returns the value and, when
+// something is wrong, a message; a message with a usable value is a warning.
+func parseResponse(f *excelize.File, ref, raw string, r design.Response, opt ReadOptions) (Value, string) {
+	v := Value{Cell: ref, Missing: true}
+	if raw == "" {
+		return v, ""
+	}
+	typ, _ := f.GetCellType(SheetEntry, ref)
+	text := raw
+	var warn string
+	if typ != excelize.CellTypeNumber && typ != excelize.CellTypeUnset {
+		switch {
+		case decimalComma.MatchString(raw):
+			if !opt.DecimalComma {
+				return v, fmt.Sprintf("%q has a decimal comma; retype it with a decimal point, or run again with --decimal-comma", raw)
+			}
+			text = strings.Replace(raw, ",", ".", 1)
+		default:
+			if _, err := strconv.ParseFloat(raw, 64); err != nil {
+				return v, fmt.Sprintf("%q is not a number; correct the cell (leave it empty if the unit was not measured)", raw)
+			}
+			warn = fmt.Sprintf("%q is a number stored as text; it was read as %s", raw, raw)
+		}
+	}
+	x, err := strconv.ParseFloat(text, 64)
+	if err != nil {
+		return v, fmt.Sprintf("%q is not a number; correct the cell", raw)
+	}
+	if r.Min != nil && x < *r.Min || r.Max != nil && x > *r.Max {
+		return v, fmt.Sprintf("%s is outside the declared range %s for %s; correct it or widen the range in the plan", text, rangeText(r), r.Name)
+	}
+	v.Text, v.Missing = text, false
+	return v, warn
+}
+
+// ErrNotFilled is returned by Fill for a layout without responses.
+var ErrNotFilled = errors.New("workbook: the plan has no responses to fill")

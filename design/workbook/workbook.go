@@ -1,0 +1,88 @@
+// Package workbook owns allot's data-entry workbook (.xlsx, Office Open XML
+// as read and written by excelize): writing it from a layout, filling it (the
+// demo's stand-in for a technician), and reading it back with a check of
+// every cell. No other package knows its sheets, headers or cells.
+//
+// # Format
+//
+//   - "Study": the plan in plain words (title, design, treatments, blocks,
+//     seed, fingerprint, allot version, created time) and instructions.
+//   - "Entry": one row per unit below a frozen header row: Unit, the block
+//     column (RCBD), Position, Treatment, one column per factor (factorial
+//     plans), one column per response, Notes. Design columns are locked by
+//     sheet protection without a password; response and Notes cells are not.
+//   - "Map": each block as a row of positions with unit IDs and treatments.
+//   - "allot-data" (hidden): cell B1 the plan fingerprint, B2 the SHA-256 of
+//     the stored document, B3 the number of chunks, and from A4 down the
+//     JSON document {"plan":…, "units":…} in chunks of at most 30,000
+//     characters (a cell holds 32,767). Another program may re-save the
+//     sheet as merely hidden; reading does not depend on how hidden it is.
+package workbook
+
+import (
+	"crypto/sha256"
+	"encoding/hex"
+	"encoding/json"
+	"fmt"
+	"os"
+	"path/filepath"
+)
+
+// Sheet names and fixed headers.
+const (
+	SheetStudy = "Study"
+	SheetEntry = "Entry"
+	SheetMap   = "Map"
+	SheetData  = "allot-data"
+
+	headUnit      = "Unit"
+	headPosition  = "Position"
+	headTreatment = "Treatment"
+	headNotes     = "Notes"
+
+	chunkSize = 30000
+)
+
+// Limits applied when opening a workbook, so that an oversized or zip-bomb
+// file is refused instead of exhausting memory.
+const (
+	UnzipSizeLimit    = 1 << 30 // 1 GiB unpacked in all
+	UnzipXMLSizeLimit = 1 << 28 // 256 MiB for one worksheet in memory
+)
+
+// stored is the document kept on the hidden sheet.
+type stored struct {
+	Plan  json.RawMessage `json:"plan"`
+	Units json.RawMessage `json:"units"`
+}
+
+func digest(b []byte) string {
+	s := sha256.Sum256(b)
+	return hex.EncodeToString(s[:])
+}
+
+// writeAtomic calls write with a temporary file in dst's folder and renames
+// it to dst. Without force an existing dst is an error and is left as it is.
+func writeAtomic(dst string, force bool, write func(tmp string) error) error {
+	if !force {
+		if _, err := os.Stat(dst); err == nil {
+			return fmt.Errorf("%s already exists; use --force to replace it", dst)
+		}
+	}
+	dir := filepath.Dir(dst)
+	f, err := os.CreateTemp(dir, ".allot-*"+filepath.Ext(dst))
+	if err != nil {
+		return fmt.Errorf("creating a temporary file beside %s: %w", dst, err)
+	}
+	tmp := f.Name()
+	f.Close()
+	if err := write(tmp); err != nil {
+		os.Remove(tmp)
+		return err
+	}
+	if err := os.Rename(tmp, dst); err != nil {
+		os.Remove(tmp)
+		return fmt.Errorf("renaming %s to %s: %w", tmp, dst, err)
+	}
+	return nil
+}

@@ -1,0 +1,357 @@
+package workbook
+
+import (
+	"encoding/json"
+	"fmt"
+	"strconv"
+	"strings"
+	"time"
+
+	"allot/design"
+
+	"github.com/xuri/excelize/v2"
+)
+
+// Meta is what the Study sheet records besides the plan.
+type Meta struct {
+	Version string    // allot version
+	Created time.Time // when the workbook was written
+}
+
+// columns describes the Entry sheet's columns for a plan.
+type columns struct {
+	block     bool
+	factors   bool
+	responses []design.Response
+}
+
+func layoutColumns(p design.Plan) columns {
+	return columns{block: p.Design == design.RCBD, factors: len(p.Factors) > 1, responses: p.Responses}
+}
+
+// headers returns the Entry header row.
+func (c columns) headers(p design.Plan) []string {
+	h := []string{headUnit}
+	if c.block {
+		h = append(h, blockHeader(p))
+	}
+	h = append(h, headPosition, headTreatment)
+	if c.factors {
+		for _, f := range p.Factors {
+			h = append(h, f.Name)
+		}
+	}
+	for _, r := range c.responses {
+		h = append(h, r.Name)
+	}
+	return append(h, headNotes)
+}
+
+// designCount is the number of leading design columns.
+func (c columns) designCount(p design.Plan) int {
+	n := 3
+	if c.block {
+		n++
+	}
+	if c.factors {
+		n += len(p.Factors)
+	}
+	return n
+}
+
+func blockHeader(p design.Plan) string {
+	n := p.BlockName
+	if n == "" {
+		return "Block"
+	}
+	return strings.ToUpper(n[:1]) + n[1:]
+}
+
+// designCells returns the design cells of a unit's row, as written.
+func designCells(c columns, u design.Unit, tr []design.Treatment) []string {
+	row := []string{u.ID}
+	if c.block {
+		row = append(row, strconv.Itoa(u.Block))
+	}
+	row = append(row, strconv.Itoa(u.Position), tr[u.Treatment].Name)
+	if c.factors {
+		row = append(row, tr[u.Treatment].Levels...)
+	}
+	return row
+}
+
+// Write writes the data-entry workbook for layout l to path. It refuses to
+// replace an existing file unless force is set, and writes through a
+// temporary file in the same folder.
+func Write(path string, l design.Layout, meta Meta, force bool) error {
+	f, err := build(l, meta)
+	if err != nil {
+		return err
+	}
+	defer f.Close()
+	return writeAtomic(path, force, func(tmp string) error {
+		if err := f.SaveAs(tmp); err != nil {
+			return fmt.Errorf("writing %s: %w", path, err)
+		}
+		return nil
+	})
+}
+
+func build(l design.Layout, meta Meta) (*excelize.File, error) {
+	f := excelize.NewFile()
+	if err := f.SetSheetName("Sheet1", SheetStudy); err != nil {
+		return nil, err
+	}
+	for _, s := range []string{SheetEntry, SheetMap, SheetData} {
+		if _, err := f.NewSheet(s); err != nil {
+			return nil, err
+		}
+	}
+	if err := writeStudy(f, l, meta); err != nil {
+		return nil, err
+	}
+	if err := writeEntry(f, l); err != nil {
+		return nil, err
+	}
+	if err := writeMap(f, l); err != nil {
+		return nil, err
+	}
+	if err := writeData(f, l); err != nil {
+		return nil, err
+	}
+	if err := f.SetSheetVisible(SheetData, false, true); err != nil {
+		return nil, err
+	}
+	idx, _ := f.GetSheetIndex(SheetEntry)
+	f.SetActiveSheet(idx)
+	return f, nil
+}
+
+func writeStudy(f *excelize.File, l design.Layout, meta Meta) error {
+	p := l.Plan
+	bold, _ := f.NewStyle(&excelize.Style{Font: &excelize.Font{Bold: true}})
+	title, _ := f.NewStyle(&excelize.Style{Font: &excelize.Font{Bold: true, Size: 14}})
+	var levels []string
+	for _, fa := range p.Factors {
+		levels = append(levels, fmt.Sprintf("%s: %s", fa.Name, strings.Join(fa.Levels, ", ")))
+	}
+	var resp []string
+	for _, r := range p.Responses {
+		s := r.Name
+		if r.Min != nil || r.Max != nil {
+			s += " (" + rangeText(r) + ")"
+		}
+		resp = append(resp, s)
+	}
+	designName := "completely randomised design"
+	if p.Design == design.RCBD {
+		designName = fmt.Sprintf("randomised complete block design, %d %ss", p.Blocks, p.BlockName)
+	}
+	rows := [][2]string{
+		{"Title", p.Title},
+		{"Design", designName},
+		{"Factors", strings.Join(levels, "; ")},
+		{"Treatments", strconv.Itoa(len(p.Treatments()))},
+		{"Units", strconv.Itoa(p.Units())},
+		{"Responses", strings.Join(resp, "; ")},
+		{"Seed", strconv.FormatUint(p.Seed, 10)},
+		{"Generator", p.Generator},
+		{"Plan fingerprint", p.Fingerprint()},
+		{"Written by", "allot " + meta.Version},
+		{"Created", meta.Created.UTC().Format(time.RFC3339)},
+	}
+	if p.Control != "" {
+		rows = append(rows[:4], append([][2]string{{"Control", p.Control}}, rows[4:]...)...)
+	}
+	if err := f.SetCellValue(SheetStudy, "A1", "Data-entry workbook: "+p.Title); err != nil {
+		return err
+	}
+	f.SetCellStyle(SheetStudy, "A1", "A1", title)
+	r := 3
+	for _, kv := range rows {
+		f.SetCellValue(SheetStudy, cell(1, r), kv[0])
+		f.SetCellStyle(SheetStudy, cell(1, r), cell(1, r), bold)
+		f.SetCellStr(SheetStudy, cell(2, r), kv[1])
+		r++
+	}
+	r++
+	f.SetCellValue(SheetStudy, cell(1, r), "How to fill in")
+	f.SetCellStyle(SheetStudy, cell(1, r), cell(1, r), bold)
+	for _, line := range []string{
+		"Type each measurement into its unit's row on the Entry sheet, in the response column.",
+		"Leave a cell empty when a unit could not be measured, and say why in Notes.",
+		"Type numbers only (no units, no \"n/a\"); use a decimal point.",
+		"You may sort or filter the rows: allot matches rows by unit ID.",
+		"Do not change the Unit, " + blockOrNot(p) + "Position or Treatment cells.",
+		"Run `allot check` on the filled file before analysing it.",
+	} {
+		r++
+		f.SetCellStr(SheetStudy, cell(1, r), "• "+line)
+	}
+	f.SetColWidth(SheetStudy, "A", "A", 20)
+	f.SetColWidth(SheetStudy, "B", "B", 70)
+	return nil
+}
+
+func blockOrNot(p design.Plan) string {
+	if p.Design == design.RCBD {
+		return blockHeader(p) + ", "
+	}
+	return ""
+}
+
+func rangeText(r design.Response) string {
+	lo, hi := "", ""
+	if r.Min != nil {
+		lo = strconv.FormatFloat(*r.Min, 'g', -1, 64)
+	}
+	if r.Max != nil {
+		hi = strconv.FormatFloat(*r.Max, 'g', -1, 64)
+	}
+	return lo + ".." + hi
+}
+
+func cell(col, row int) string {
+	c, _ := excelize.CoordinatesToCellName(col, row)
+	return c
+}
+
+func writeEntry(f *excelize.File, l design.Layout) error {
+	p := l.Plan
+	c := layoutColumns(p)
+	heads := c.headers(p)
+	head, _ := f.NewStyle(&excelize.Style{Font: &excelize.Font{Bold: true}, Fill: excelize.Fill{Type: "pattern", Pattern: 1, Color: []string{"DDE7F0"}}, Border: []excelize.Border{{Type: "bottom", Color: "000000", Style: 1}}})
+	open, _ := f.NewStyle(&excelize.Style{Protection: &excelize.Protection{Locked: false}, Fill: excelize.Fill{Type: "pattern", Pattern: 1, Color: []string{"FFF8DC"}}})
+	for i, h := range heads {
+		f.SetCellStr(SheetEntry, cell(i+1, 1), h)
+	}
+	f.SetCellStyle(SheetEntry, cell(1, 1), cell(len(heads), 1), head)
+	tr := p.Treatments()
+	nd := c.designCount(p)
+	for i, u := range l.Units {
+		row := i + 2
+		for j, v := range designCells(c, u, tr) {
+			// Unit ID, block and position are numbers where they look like
+			// numbers; treatment and level names are always text.
+			n, err := strconv.Atoi(v)
+			if err == nil && j < c.numericCount() {
+				f.SetCellInt(SheetEntry, cell(j+1, row), int64(n))
+			} else {
+				f.SetCellStr(SheetEntry, cell(j+1, row), v)
+			}
+		}
+	}
+	last := len(l.Units) + 1
+	if last >= 2 {
+		f.SetCellStyle(SheetEntry, cell(nd+1, 2), cell(len(heads), last), open)
+	}
+	for k, r := range p.Responses {
+		col := nd + 1 + k
+		dv := excelize.NewDataValidation(true)
+		dv.SetSqref(cell(col, 2) + ":" + cell(col, max(last, 2)))
+		lo, hi := -1e307, 1e307
+		if r.Min != nil {
+			lo = *r.Min
+		}
+		if r.Max != nil {
+			hi = *r.Max
+		}
+		if err := dv.SetRange(lo, hi, excelize.DataValidationTypeDecimal, excelize.DataValidationOperatorBetween); err != nil {
+			return err
+		}
+		msg := "A number; leave empty if not measured."
+		if r.Min != nil || r.Max != nil {
+			msg = "A number in " + rangeText(r) + "; leave empty if not measured."
+		}
+		dv.SetInput(r.Name, msg)
+		dv.SetError(excelize.DataValidationErrorStyleStop, r.Name, "Not a number in the allowed range: "+msg)
+		if err := f.AddDataValidation(SheetEntry, dv); err != nil {
+			return err
+		}
+	}
+	f.SetPanes(SheetEntry, &excelize.Panes{Freeze: true, YSplit: 1, TopLeftCell: "A2", ActivePane: "bottomLeft"})
+	for i, h := range heads {
+		w := float64(len(h)) + 4
+		if h == headTreatment {
+			w = 24
+		}
+		if h == headNotes {
+			w = 30
+		}
+		col, _ := excelize.ColumnNumberToName(i + 1)
+		f.SetColWidth(SheetEntry, col, col, max(w, 9))
+	}
+	landscape := "landscape"
+	one := 1
+	zero := 0
+	f.SetPageLayout(SheetEntry, &excelize.PageLayoutOptions{Orientation: &landscape, FitToWidth: &one, FitToHeight: &zero})
+	f.SetDefinedName(&excelize.DefinedName{Name: "_xlnm.Print_Titles", RefersTo: "'" + SheetEntry + "'!$1:$1", Scope: SheetEntry})
+	return f.ProtectSheet(SheetEntry, &excelize.SheetProtectionOptions{
+		SelectLockedCells: true, SelectUnlockedCells: true, FormatColumns: true, FormatRows: true,
+		Sort: true, AutoFilter: true,
+	})
+}
+
+// numericCount is the number of leading columns written as numbers when they
+// parse as integers: Unit, the block column and Position.
+func (c columns) numericCount() int {
+	if c.block {
+		return 3
+	}
+	return 2
+}
+
+func writeMap(f *excelize.File, l design.Layout) error {
+	p := l.Plan
+	tr := p.Treatments()
+	bold, _ := f.NewStyle(&excelize.Style{Font: &excelize.Font{Bold: true}})
+	wrap, _ := f.NewStyle(&excelize.Style{Alignment: &excelize.Alignment{WrapText: true, Vertical: "top"}, Border: []excelize.Border{
+		{Type: "left", Color: "808080", Style: 1}, {Type: "right", Color: "808080", Style: 1},
+		{Type: "top", Color: "808080", Style: 1}, {Type: "bottom", Color: "808080", Style: 1}}})
+	f.SetCellStr(SheetMap, "A1", "Map: each row is a "+p.BlockName+", positions left to right; each cell shows unit ID and treatment")
+	f.SetCellStyle(SheetMap, "A1", "A1", bold)
+	for i := 1; i <= p.BlockSize(); i++ {
+		f.SetCellInt(SheetMap, cell(i+1, 3), int64(i))
+	}
+	f.SetCellStyle(SheetMap, cell(2, 3), cell(p.BlockSize()+1, 3), bold)
+	for _, u := range l.Units {
+		row := u.Block + 3
+		f.SetCellStr(SheetMap, cell(1, row), fmt.Sprintf("%s %d", blockHeader(p), u.Block))
+		f.SetCellStr(SheetMap, cell(u.Position+1, row), u.ID+"\n"+tr[u.Treatment].Name)
+	}
+	if p.BlockSize() > 0 {
+		f.SetCellStyle(SheetMap, cell(2, 4), cell(p.BlockSize()+1, p.Blocks+3), wrap)
+	}
+	f.SetColWidth(SheetMap, "A", "A", 12)
+	return nil
+}
+
+func writeData(f *excelize.File, l design.Layout) error {
+	units, err := json.Marshal(l.Units)
+	if err != nil {
+		return err
+	}
+	doc, err := json.Marshal(stored{Plan: l.Plan.Canonical(), Units: units})
+	if err != nil {
+		return err
+	}
+	s := string(doc)
+	var chunks []string
+	for len(s) > chunkSize {
+		chunks = append(chunks, s[:chunkSize])
+		s = s[chunkSize:]
+	}
+	chunks = append(chunks, s)
+	f.SetCellStr(SheetData, "A1", "plan fingerprint")
+	f.SetCellStr(SheetData, "B1", l.Plan.Fingerprint())
+	f.SetCellStr(SheetData, "A2", "document sha256")
+	f.SetCellStr(SheetData, "B2", digest(doc))
+	f.SetCellStr(SheetData, "A3", "chunks")
+	f.SetCellInt(SheetData, "B3", int64(len(chunks)))
+	for i, c := range chunks {
+		if err := f.SetCellStr(SheetData, cell(1, 4+i), c); err != nil {
+			return err
+		}
+	}
+	return nil
+}

@@ -1,0 +1,343 @@
+// Package demo runs allot's whole job on an embedded, invented scenario: a
+// growth-room trial of peat-free substrate blends for seedlings, with the
+// growth-room benches as blocks. It plans the number of benches, lays the
+// trial out, writes the data-entry workbook, fills a copy with SIMULATED
+// measurements (the stand-in for the technician), reads it back, analyses
+// it and writes the reports. The scenario is made up for the demo; its
+// numbers come from no study.
+package demo
+
+import (
+	"errors"
+	"fmt"
+	"io"
+	"os"
+	"path/filepath"
+	"strings"
+	"time"
+
+	"allot/analyze"
+	"allot/analyze/report"
+	"allot/design"
+	"allot/design/workbook"
+	"allot/power"
+	"allot/power/sim"
+	"allot/randomize"
+)
+
+// Scenario is the embedded trial.
+type Scenario struct {
+	Title    string
+	Factor   string
+	Levels   []string
+	Control  string
+	Response design.Response
+	// PlanMeans are the expected means used for planning; PlanSD the
+	// within-bench SD assumed (from the invented pilot).
+	PlanMeans []float64
+	PlanSD    float64
+	Alpha     float64
+	Power     float64
+	Dropout   float64
+	BlockName string
+	Seed      uint64
+	// TrueMeans, TrueSD and BlockSD generate the simulated data.
+	TrueMeans []float64
+	TrueSD    float64
+	BlockSD   float64
+}
+
+func f64(v float64) *float64 { return &v }
+
+// Default is the demo scenario.
+func Default() Scenario {
+	return Scenario{
+		Title:     "Peat-free substrate blends for basil seedlings (invented demo scenario)",
+		Factor:    "substrate",
+		Levels:    []string{"peat", "coir", "bark", "woodfibre"},
+		Control:   "peat",
+		Response:  design.Response{Name: "shoot_dry_mg", Min: f64(0), Max: f64(500)},
+		PlanMeans: []float64{140, 128, 120, 132},
+		PlanSD:    11,
+		Alpha:     0.05,
+		Power:     0.90,
+		Dropout:   0.10,
+		BlockName: "bench",
+		Seed:      20261201,
+		TrueMeans: []float64{141, 127, 118, 134},
+		TrueSD:    11,
+		BlockSD:   9,
+	}
+}
+
+// Options controls a demo run.
+type Options struct {
+	Out     string
+	Force   bool
+	Version string
+	Now     func() time.Time
+	Stdout  io.Writer
+	Stderr  io.Writer
+}
+
+// ErrOutExists reports a non-empty output folder without Force.
+var ErrOutExists = errors.New("output folder is not empty")
+
+// Result is what a run produced, for tests.
+type Result struct {
+	Size     power.Result
+	Layout   design.Layout
+	Table    *analyze.Table
+	PostHoc  *analyze.PostHoc
+	Problems []workbook.Problem
+	Files    []string
+}
+
+// Files written into the output folder.
+const (
+	FileWorkbook      = "trial.xlsx"
+	FileFilled        = "trial-filled-SIMULATED.xlsx"
+	FileJustification = "sample-size.txt"
+	FileLayout        = "layout.json"
+	FileReport        = "report-SIMULATED.md"
+	FileAnalysis      = "analysis-SIMULATED.json"
+)
+
+// SimulatedLabel marks every simulated value.
+const SimulatedLabel = "SIMULATED by allot demo: not measurements"
+
+// Run executes the demo.
+func Run(s Scenario, o Options) (*Result, error) {
+	if o.Now == nil {
+		o.Now = time.Now
+	}
+	if err := prepareOut(o.Out, o.Force); err != nil {
+		return nil, err
+	}
+	out, msg := o.Stdout, o.Stderr
+	res := &Result{}
+	section := func(t string) { fmt.Fprintf(out, "\n== %s ==\n\n", t) }
+
+	fmt.Fprintf(out, "allot demo: %s\n", s.Title)
+	fmt.Fprintf(out, "Every measurement below is SIMULATED; the scenario is invented.\n")
+
+	// 1. How many benches?
+	section("1. Sample size")
+	pd := power.Design{Factors: []power.Factor{{Name: s.Factor, Levels: len(s.Levels)}}, Blocked: true}
+	f, err := power.FFromMeans(s.PlanMeans, nil, s.PlanSD)
+	if err != nil {
+		return nil, err
+	}
+	sz, err := pd.Solve(f, s.Alpha, s.Power)
+	if err != nil {
+		return nil, err
+	}
+	res.Size = sz
+	blocks := sz.N
+	nDrop := ceilDiv(blocks, 1-s.Dropout)
+	rep := report.Size{
+		Method:     "randomised complete block ANOVA, F test of " + s.Factor + ", exact noncentral F",
+		Design:     fmt.Sprintf("randomised complete blocks, %d treatments, one unit of each per %s", len(s.Levels), s.BlockName),
+		Test:       "F test of " + s.Factor,
+		Mode:       "sample size",
+		Alpha:      s.Alpha,
+		Target:     s.Power,
+		F:          f,
+		EffectText: fmt.Sprintf("expected means %s (%s), Cohen's f = %s", joinF(s.PlanMeans), strings.Join(s.Levels, ", "), trim(f, 4)),
+		SD:         s.PlanSD,
+		SDText:     fmt.Sprintf("%s mg within a bench (from an invented pilot)", trim(s.PlanSD, 3)),
+		N:          blocks, NUnit: design.Plural(s.BlockName), GroupSizes: sz.GroupSizes, Total: sz.Total,
+		Dropout: s.Dropout, NDropout: nDrop, TotalDropout: nDrop * len(s.Levels),
+		DF1: sz.DF1, DF2: sz.DF2, Lambda: sz.Lambda, Crit: sz.FCrit, CritName: "critical F", Power: sz.Power,
+		ErrorDF: sz.DF2, Command: "allot demo", Version: o.Version,
+	}
+	if err := report.SizeText(out, rep); err != nil {
+		return nil, err
+	}
+	just := report.Justification(rep)
+	if err := writeFile(o.Out, FileJustification, just+"\n", res); err != nil {
+		return nil, err
+	}
+	fmt.Fprintf(out, "\nThe demo lays out %d %s, the allowance for attrition (%s%%) applied: losses in a growth room are seedlings that fail.\n", nDrop, design.Plural(s.BlockName), trim(100*s.Dropout, 3))
+
+	// 2. Which pot gets which substrate?
+	section("2. Randomised layout")
+	plan := design.Plan{
+		Title:     s.Title,
+		Design:    design.RCBD,
+		Factors:   []design.Factor{{Name: s.Factor, Levels: s.Levels}},
+		Control:   s.Control,
+		Reps:      ones(len(s.Levels)),
+		Blocks:    nDrop,
+		BlockName: s.BlockName,
+		Responses: []design.Response{s.Response},
+		Seed:      s.Seed,
+		Generator: randomize.Generator,
+	}
+	lay, err := randomize.Assign(plan)
+	if err != nil {
+		return nil, err
+	}
+	res.Layout = lay
+	if err := report.LayoutText(out, lay); err != nil {
+		return nil, err
+	}
+	var lj strings.Builder
+	report.LayoutJSON(&lj, lay)
+	if err := writeFile(o.Out, FileLayout, lj.String(), res); err != nil {
+		return nil, err
+	}
+
+	// 3. The workbook, and its simulated filling.
+	section("3. Data-entry workbook")
+	wbPath := filepath.Join(o.Out, FileWorkbook)
+	if err := workbook.Write(wbPath, lay, workbook.Meta{Version: o.Version, Created: o.Now()}, o.Force); err != nil {
+		return nil, err
+	}
+	res.Files = append(res.Files, wbPath)
+	fmt.Fprintf(out, "Wrote %s (sheets %s, %s, %s).\n", wbPath, workbook.SheetStudy, workbook.SheetEntry, workbook.SheetMap)
+	ys, err := sim.Responses(lay, sim.Model{Means: s.TrueMeans, SD: s.TrueSD, BlockSD: s.BlockSD, Decimals: 1}, s.Seed)
+	if err != nil {
+		return nil, err
+	}
+	filled := filepath.Join(o.Out, FileFilled)
+	if err := workbook.Fill(wbPath, filled, [][]float64{ys}, SimulatedLabel, o.Force); err != nil {
+		return nil, err
+	}
+	res.Files = append(res.Files, filled)
+	fmt.Fprintf(out, "Wrote %s: a copy filled with SIMULATED values (seed %d) standing in for the technician.\n", filled, s.Seed)
+
+	// 4. Read back and check.
+	section("4. Read-back check")
+	fl, err := workbook.Read(filled, workbook.ReadOptions{})
+	if err != nil {
+		return nil, err
+	}
+	res.Problems = fl.Problems
+	if len(fl.Problems) == 0 {
+		fmt.Fprintf(out, "%s: plan fingerprint verified; %d units, every row and cell as planned.\n", filled, len(fl.Layout.Units))
+	}
+	for _, p := range fl.Problems {
+		fmt.Fprintln(out, p)
+	}
+	if fl.Errors() > 0 {
+		return res, fmt.Errorf("the filled workbook has %d error(s)", fl.Errors())
+	}
+
+	// 5. Analysis.
+	section("5. Analysis (SIMULATED data)")
+	obs := fl.Observations(0)
+	data := analyze.Data{
+		Response: s.Response.Name,
+		Values:   obs.Values,
+		Factors:  []analyze.Column{{Name: s.Factor, Levels: s.Levels, Values: obs.Levels[0]}},
+		Block:    &analyze.Column{Name: s.BlockName, Values: obs.Blocks},
+		Units:    obs.Units,
+		Where:    obs.Cells,
+	}
+	tab, err := analyze.Fit(data, analyze.Options{Alpha: s.Alpha})
+	if err != nil {
+		return nil, err
+	}
+	res.Table = tab
+	groups, err := analyze.Summaries(data, 0)
+	if err != nil {
+		return nil, err
+	}
+	an := report.Analysis{Table: tab, Groups: [][]analyze.Group{groups}, Unit: "pot", BlockName: s.BlockName, Simulated: true, Missing: len(lay.Units) - len(obs.Values)}
+	for _, t := range tab.Terms {
+		if !t.Block && t.P < s.Alpha {
+			ph, err := analyze.Tukey(data, tab, 0)
+			if err != nil {
+				return nil, err
+			}
+			res.PostHoc = ph
+			an.PostHoc = append(an.PostHoc, ph)
+		}
+	}
+	if err := report.AnalysisText(out, an); err != nil {
+		return nil, err
+	}
+	var md, js strings.Builder
+	fmt.Fprintf(&md, "# %s\n\n**SIMULATED DATA** — produced by `allot demo`; the scenario is invented.\n\n", s.Title)
+	report.AnalysisMarkdown(&md, an)
+	if err := writeFile(o.Out, FileReport, md.String(), res); err != nil {
+		return nil, err
+	}
+	if err := report.AnalysisJSON(&js, an); err != nil {
+		return nil, err
+	}
+	if err := writeFile(o.Out, FileAnalysis, js.String(), res); err != nil {
+		return nil, err
+	}
+
+	section("Files")
+	for _, p := range res.Files {
+		fmt.Fprintln(out, "  "+p)
+	}
+	fmt.Fprintln(msg, "allot demo: done")
+	return res, nil
+}
+
+func prepareOut(dir string, force bool) error {
+	entries, err := os.ReadDir(dir)
+	switch {
+	case errors.Is(err, os.ErrNotExist):
+		return os.MkdirAll(dir, 0o755)
+	case err != nil:
+		return fmt.Errorf("--out %s: %w", dir, err)
+	case len(entries) > 0 && !force:
+		return fmt.Errorf("%w: --out %s already holds %d file(s); choose another folder or add --force to overwrite the demo's files", ErrOutExists, dir, len(entries))
+	}
+	return nil
+}
+
+func writeFile(dir, name, content string, res *Result) error {
+	p := filepath.Join(dir, name)
+	tmp, err := os.CreateTemp(dir, ".allot-*")
+	if err != nil {
+		return err
+	}
+	if _, err := tmp.WriteString(content); err != nil {
+		tmp.Close()
+		os.Remove(tmp.Name())
+		return err
+	}
+	if err := tmp.Close(); err != nil {
+		os.Remove(tmp.Name())
+		return err
+	}
+	if err := os.Rename(tmp.Name(), p); err != nil {
+		os.Remove(tmp.Name())
+		return err
+	}
+	res.Files = append(res.Files, p)
+	return nil
+}
+
+func ones(k int) []int {
+	r := make([]int, k)
+	for i := range r {
+		r[i] = 1
+	}
+	return r
+}
+
+func ceilDiv(n int, keep float64) int {
+	x := float64(n) / keep
+	c := int(x)
+	if float64(c) < x-1e-9 {
+		c++
+	}
+	return c
+}
+
+func joinF(v []float64) string {
+	s := make([]string, len(v))
+	for i, x := range v {
+		s[i] = trim(x, 4)
+	}
+	return strings.Join(s, ", ")
+}
+
+func trim(x float64, sig int) string { return fmt.Sprintf("%.*g", sig, x) }
