@@ -13,7 +13,7 @@ import (
 
 // Analysis is everything reported for one response.
 type Analysis struct {
-	Table   *analyze.Table    `json:"anova"`
+	Table   *analyze.Table     `json:"anova"`
 	PostHoc []*analyze.PostHoc `json:"posthoc"`
 	// Groups holds the treatment summaries (per factor), for the SD check.
 	Groups  [][]analyze.Group `json:"groups"`

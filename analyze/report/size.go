@@ -39,11 +39,11 @@ type Size struct {
 	Power        float64 `json:"achieved_power"`
 	// Detectable is the smallest effect (f or d) at the target power; DiffDetectable in
 	// response units when an SD was given (0 otherwise).
-	Detectable     float64 `json:"detectable_effect,omitempty"`
-	DiffDetectable float64 `json:"detectable_difference,omitempty"`
-	ErrorDF        float64 `json:"error_df"`
-	Command        string  `json:"command"`
-	Version        string  `json:"allot_version"`
+	Detectable     float64  `json:"detectable_effect,omitempty"`
+	DiffDetectable float64  `json:"detectable_difference,omitempty"`
+	ErrorDF        float64  `json:"error_df"`
+	Command        string   `json:"command"`
+	Version        string   `json:"allot_version"`
 	Notes          []string `json:"notes,omitempty"`
 }
 
