@@ -91,6 +91,16 @@ func TestSolveReference(t *testing.T) {
 			}
 			gotN, got = res.N, res.Power
 			gotM = d.Evaluate(res.N-1, f, alpha).Power
+		case "control", "pairs":
+			k, _ := strconv.Atoi(r[1])
+			sides, _ := strconv.Atoi(strings.Split(r[5], ":")[1])
+			c := Comparisons{Design: Design{Factors: []Factor{{Name: "g", Levels: k}}}, AllPair: r[0] == "pairs", Sides: sides}
+			res, err := c.Solve(eff, alpha, target)
+			if err != nil {
+				t.Fatal(err)
+			}
+			gotN, got = res.N, res.Power
+			gotM = c.Evaluate(res.N-1, eff, alpha).Power
 		case "ttest":
 			parts := strings.Split(r[5], ":")
 			sides, _ := strconv.Atoi(parts[1])

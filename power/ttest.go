@@ -26,6 +26,11 @@ type TResult struct {
 	Power         float64
 }
 
+// sizes returns the two group sizes at n.
+func (g TwoGroups) sizes(n int) []int {
+	return []int{n, int(math.Ceil(float64(n)*g.Ratio - 1e-9))}
+}
+
 // Validate checks the allocation ratio and the number of sides.
 func (g TwoGroups) Validate() error {
 	if !(g.Ratio > 0) || math.IsInf(g.Ratio, 0) {
@@ -43,7 +48,7 @@ func (g TwoGroups) Validate() error {
 // P(F > t²_{1−α/2}) with F noncentral F(1, df, δ²), which counts rejections
 // in both tails (Cohen 1988, chapter 2, with exact distributions).
 func (g TwoGroups) Evaluate(n int, d, alpha float64) TResult {
-	n2 := int(math.Ceil(float64(n)*g.Ratio - 1e-9))
+	n2 := g.sizes(n)[1]
 	r := TResult{N1: n, N2: n2, Total: n + n2, DF: float64(n + n2 - 2)}
 	r.Delta = d * math.Sqrt(float64(n)*float64(n2)/float64(n+n2))
 	if r.DF < 1 {

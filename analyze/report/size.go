@@ -5,46 +5,15 @@ import (
 	"fmt"
 	"io"
 	"strings"
+
+	"allot/power"
 )
 
-// Size is a sample-size or power calculation ready to render. The JSON
-// field names are part of allot's stable output.
+// Size is a planning answer with the command that produced it.
 type Size struct {
-	Method     string  `json:"method"` // e.g. "one-way ANOVA F test, exact noncentral F"
-	Design     string  `json:"design"` // e.g. "completely randomised, 4 groups"
-	Test       string  `json:"test"`   // e.g. "F test of feed"
-	Mode       string  `json:"mode"`   // "sample size", "power" or "detectable effect"
-	Alpha      float64 `json:"alpha"`
-	Sides      int     `json:"sides,omitempty"`
-	Target     float64 `json:"target_power"`
-	F          float64 `json:"f"`
-	D          float64 `json:"d,omitempty"`
-	EffectText string  `json:"effect"` // how the effect was given
-	SD         float64 `json:"sd,omitempty"`
-	SDText     string  `json:"sd_basis,omitempty"`
-	// N is units per group, or blocks for block designs (NUnit says which).
-	N          int     `json:"n_per_group"`
-	NUnit      string  `json:"n_unit"`
-	GroupSizes []int   `json:"group_sizes"`
-	Total      int     `json:"total_n"`
-	Dropout    float64 `json:"dropout"`
-	// NDropout and TotalDropout allow for attrition: ⌈n/(1−dropout)⌉.
-	NDropout     int     `json:"n_with_dropout"`
-	TotalDropout int     `json:"total_with_dropout"`
-	DF1          float64 `json:"df1"`
-	DF2          float64 `json:"df2"`
-	Lambda       float64 `json:"noncentrality"`
-	Crit         float64 `json:"critical_value"`
-	CritName     string  `json:"critical_name"`
-	Power        float64 `json:"achieved_power"`
-	// Detectable is the smallest effect (f or d) at the target power; DiffDetectable in
-	// response units when an SD was given (0 otherwise).
-	Detectable     float64  `json:"detectable_effect,omitempty"`
-	DiffDetectable float64  `json:"detectable_difference,omitempty"`
-	ErrorDF        float64  `json:"error_df"`
-	Command        string   `json:"command"`
-	Version        string   `json:"allot_version"`
-	Notes          []string `json:"notes,omitempty"`
+	power.Answer
+	Command string `json:"command"`
+	Version string `json:"allot_version"`
 }
 
 // Caution is printed with every justification and size summary.
@@ -64,10 +33,10 @@ func resourceNote(e float64) string {
 // SizeText writes the readable summary.
 func SizeText(w io.Writer, s Size) error {
 	var b strings.Builder
-	fmt.Fprintf(&b, "%s: %s\n", strings.ToUpper(s.Mode[:1])+s.Mode[1:], s.Method)
+	fmt.Fprintf(&b, "%s: %s, %s\n", strings.ToUpper(s.Mode[:1])+s.Mode[1:], s.TestName, s.Method)
 	rows := [][2]string{
 		{"design", s.Design},
-		{"test", s.Test},
+		{"test", s.TestName},
 		{"alpha", short(s.Alpha) + sidesText(s.Sides)},
 		{"effect", s.EffectText},
 	}
@@ -94,7 +63,11 @@ func SizeText(w io.Writer, s Size) error {
 	if s.Mode == "detectable effect" {
 		rows = append(rows, [2]string{"detectable effect", effectName(s) + " = " + num(s.Detectable, 4)})
 		if s.DiffDetectable > 0 {
-			rows = append(rows, [2]string{"detectable difference", num(s.DiffDetectable, 4) + " (response units, least favourable spread of means)"})
+			what := " (response units, between the two means)"
+			if s.CritName != "critical t" {
+				what = " (response units, between the most different means; least favourable spread)"
+			}
+			rows = append(rows, [2]string{"detectable difference", num(s.DiffDetectable, 4) + what})
 		}
 	}
 	width := 0
@@ -160,7 +133,7 @@ func joinInts(v []int) string {
 // Justification returns the paragraph for an ethics or grant application.
 func Justification(s Size) string {
 	var b strings.Builder
-	fmt.Fprintf(&b, "Sample size. The primary analysis is the %s (%s). ", s.Test, s.Design)
+	fmt.Fprintf(&b, "Sample size. The primary analysis is the %s (%s). ", s.TestName, s.Design)
 	fmt.Fprintf(&b, "With a significance level of %s%s, ", short(s.Alpha), sidesText(s.Sides))
 	switch s.Mode {
 	case "power":
@@ -187,6 +160,17 @@ func Justification(s Size) string {
 	}
 	b.WriteString("\n\n" + Caution)
 	return b.String()
+}
+
+// JustificationText writes the justification folded for a terminal.
+func JustificationText(w io.Writer, s Size) error {
+	var b strings.Builder
+	for _, para := range strings.Split(Justification(s), "\n\n") {
+		b.WriteString(wrap(para, 78, ""))
+		b.WriteString("\n")
+	}
+	_, err := io.WriteString(w, strings.TrimRight(b.String(), "\n")+"\n")
+	return err
 }
 
 // SizeJSON writes s as one indented JSON object.

@@ -2,9 +2,11 @@ package workbook
 
 import (
 	"fmt"
+	"io"
 	"strings"
 
 	"allot/design"
+	"allot/internal/atomicfile"
 
 	"github.com/xuri/excelize/v2"
 )
@@ -68,8 +70,8 @@ func Fill(src, dst string, values [][]float64, label string, force bool) error {
 		f.SetCellStr(SheetStudy, "A2", label)
 		f.SetCellStyle(SheetStudy, "A2", "A2", red)
 	}
-	return writeAtomic(dst, force, func(tmp string) error {
-		if err := f.SaveAs(tmp); err != nil {
+	return atomicfile.Write(dst, force, func(w io.Writer) error {
+		if _, err := f.WriteTo(w); err != nil {
 			return fmt.Errorf("writing %s: %w", dst, err)
 		}
 		return nil

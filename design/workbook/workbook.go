@@ -23,9 +23,6 @@ import (
 	"crypto/sha256"
 	"encoding/hex"
 	"encoding/json"
-	"fmt"
-	"os"
-	"path/filepath"
 )
 
 // Sheet names and fixed headers.
@@ -59,30 +56,4 @@ type stored struct {
 func digest(b []byte) string {
 	s := sha256.Sum256(b)
 	return hex.EncodeToString(s[:])
-}
-
-// writeAtomic calls write with a temporary file in dst's folder and renames
-// it to dst. Without force an existing dst is an error and is left as it is.
-func writeAtomic(dst string, force bool, write func(tmp string) error) error {
-	if !force {
-		if _, err := os.Stat(dst); err == nil {
-			return fmt.Errorf("%s already exists; use --force to replace it", dst)
-		}
-	}
-	dir := filepath.Dir(dst)
-	f, err := os.CreateTemp(dir, ".allot-*"+filepath.Ext(dst))
-	if err != nil {
-		return fmt.Errorf("creating a temporary file beside %s: %w", dst, err)
-	}
-	tmp := f.Name()
-	f.Close()
-	if err := write(tmp); err != nil {
-		os.Remove(tmp)
-		return err
-	}
-	if err := os.Rename(tmp, dst); err != nil {
-		os.Remove(tmp)
-		return fmt.Errorf("renaming %s to %s: %w", tmp, dst, err)
-	}
-	return nil
 }

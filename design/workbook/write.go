@@ -3,11 +3,13 @@ package workbook
 import (
 	"encoding/json"
 	"fmt"
+	"io"
 	"strconv"
 	"strings"
 	"time"
 
 	"allot/design"
+	"allot/internal/atomicfile"
 
 	"github.com/xuri/excelize/v2"
 )
@@ -89,8 +91,8 @@ func Write(path string, l design.Layout, meta Meta, force bool) error {
 		return err
 	}
 	defer f.Close()
-	return writeAtomic(path, force, func(tmp string) error {
-		if err := f.SaveAs(tmp); err != nil {
+	return atomicfile.Write(path, force, func(w io.Writer) error {
+		if _, err := f.WriteTo(w); err != nil {
 			return fmt.Errorf("writing %s: %w", path, err)
 		}
 		return nil

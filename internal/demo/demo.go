@@ -20,6 +20,7 @@ import (
 	"allot/analyze/report"
 	"allot/design"
 	"allot/design/workbook"
+	"allot/internal/atomicfile"
 	"allot/power"
 	"allot/power/sim"
 	"allot/randomize"
@@ -85,7 +86,7 @@ var ErrOutExists = errors.New("output folder is not empty")
 
 // Result is what a run produced, for tests.
 type Result struct {
-	Size     power.Result
+	Size     power.Answer
 	Layout   design.Layout
 	Table    *analyze.Table
 	PostHoc  *analyze.PostHoc
@@ -123,34 +124,23 @@ func Run(s Scenario, o Options) (*Result, error) {
 
 	// 1. How many benches?
 	section("1. Sample size")
-	pd := power.Design{Factors: []power.Factor{{Name: s.Factor, Levels: len(s.Levels)}}, Blocked: true}
-	f, err := power.FFromMeans(s.PlanMeans, nil, s.PlanSD)
+	ans, err := power.Compute(power.Request{
+		Factors: []power.Factor{{Name: s.Factor, Levels: len(s.Levels)}},
+		Blocked: true,
+		Means:   s.PlanMeans,
+		SD:      s.PlanSD,
+		Alpha:   s.Alpha,
+		Power:   s.Power,
+		Dropout: s.Dropout,
+	})
 	if err != nil {
 		return nil, err
 	}
-	sz, err := pd.Solve(f, s.Alpha, s.Power)
-	if err != nil {
-		return nil, err
-	}
-	res.Size = sz
-	blocks := sz.N
-	nDrop := ceilDiv(blocks, 1-s.Dropout)
-	rep := report.Size{
-		Method:     "randomised complete block ANOVA, F test of " + s.Factor + ", exact noncentral F",
-		Design:     fmt.Sprintf("randomised complete blocks, %d treatments, one unit of each per %s", len(s.Levels), s.BlockName),
-		Test:       "F test of " + s.Factor,
-		Mode:       "sample size",
-		Alpha:      s.Alpha,
-		Target:     s.Power,
-		F:          f,
-		EffectText: fmt.Sprintf("expected means %s (%s), Cohen's f = %s", joinF(s.PlanMeans), strings.Join(s.Levels, ", "), trim(f, 4)),
-		SD:         s.PlanSD,
-		SDText:     fmt.Sprintf("%s mg within a bench (from an invented pilot)", trim(s.PlanSD, 3)),
-		N:          blocks, NUnit: design.Plural(s.BlockName), GroupSizes: sz.GroupSizes, Total: sz.Total,
-		Dropout: s.Dropout, NDropout: nDrop, TotalDropout: nDrop * len(s.Levels),
-		DF1: sz.DF1, DF2: sz.DF2, Lambda: sz.Lambda, Crit: sz.FCrit, CritName: "critical F", Power: sz.Power,
-		ErrorDF: sz.DF2, Command: "allot demo", Version: o.Version,
-	}
+	res.Size = ans
+	ans.NUnit = design.Plural(s.BlockName)
+	ans.SDText = fmt.Sprintf("%s mg within a %s (from an invented pilot)", trim(s.PlanSD, 3), s.BlockName)
+	nDrop := ans.NDropout
+	rep := report.Size{Answer: ans, Command: "allot demo", Version: o.Version}
 	if err := report.SizeText(out, rep); err != nil {
 		return nil, err
 	}
@@ -294,21 +284,10 @@ func prepareOut(dir string, force bool) error {
 
 func writeFile(dir, name, content string, res *Result) error {
 	p := filepath.Join(dir, name)
-	tmp, err := os.CreateTemp(dir, ".allot-*")
-	if err != nil {
+	if err := atomicfile.Write(p, true, func(w io.Writer) error {
+		_, err := io.WriteString(w, content)
 		return err
-	}
-	if _, err := tmp.WriteString(content); err != nil {
-		tmp.Close()
-		os.Remove(tmp.Name())
-		return err
-	}
-	if err := tmp.Close(); err != nil {
-		os.Remove(tmp.Name())
-		return err
-	}
-	if err := os.Rename(tmp.Name(), p); err != nil {
-		os.Remove(tmp.Name())
+	}); err != nil {
 		return err
 	}
 	res.Files = append(res.Files, p)

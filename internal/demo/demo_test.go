@@ -30,7 +30,7 @@ func TestDemoEndToEnd(t *testing.T) {
 		t.Fatal(err)
 	}
 	// The plan: the exact solve reaches the target and is reported.
-	if res.Size.Power < 0.9 || res.Size.N < 2 {
+	if res.Size.Power < 0.9 || res.Size.N < 2 || res.Size.NDropout <= res.Size.N {
 		t.Errorf("sample size %d with power %.4f", res.Size.N, res.Size.Power)
 	}
 	// The layout is balanced: every bench holds each substrate once.

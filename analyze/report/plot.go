@@ -1,0 +1,89 @@
+package report
+
+import (
+	"fmt"
+	"image/color"
+	"io"
+	"path/filepath"
+	"strings"
+
+	"allot/internal/atomicfile"
+	"allot/power"
+
+	"gonum.org/v1/plot"
+	"gonum.org/v1/plot/plotter"
+	"gonum.org/v1/plot/vg"
+)
+
+// palette is the Okabe–Ito colour-blind-safe set (Okabe and Ito 2008,
+// "Color Universal Design"): blue, vermillion, bluish green, reddish purple.
+var palette = [...]color.RGBA{
+	{0x00, 0x72, 0xB2, 0xff},
+	{0xD5, 0x5E, 0x00, 0xff},
+	{0x00, 0x9E, 0x73, 0xff},
+	{0xCC, 0x79, 0xA7, 0xff},
+}
+
+var grey = color.RGBA{0x55, 0x55, 0x55, 0xff}
+
+// PowerCurve writes power against n for the series to path (.svg or .png,
+// by extension), with the target power and the answer's n marked. An
+// existing file is replaced only with force.
+func PowerCurve(path string, series []power.Series, a power.Answer, force bool) error {
+	ext := strings.TrimPrefix(strings.ToLower(filepath.Ext(path)), ".")
+	if ext != "svg" && ext != "png" {
+		return fmt.Errorf("--curve %s: the file name must end in .svg or .png", path)
+	}
+	p := plot.New()
+	p.Title.Text = fmt.Sprintf("Power of the %s (alpha %s)", a.TestName, short(a.Alpha))
+	p.X.Label.Text = a.NUnit
+	p.Y.Label.Text = "power (probability of a significant result)"
+	p.Y.Min, p.Y.Max = 0, 1
+	p.Add(plotter.NewGrid())
+	for i, s := range series {
+		xy := make(plotter.XYs, len(s.N))
+		for j := range s.N {
+			xy[j].X, xy[j].Y = float64(s.N[j]), s.Power[j]
+		}
+		l, err := plotter.NewLine(xy)
+		if err != nil {
+			return err
+		}
+		l.Color = palette[i%len(palette)]
+		l.Width = vg.Points(2)
+		if i != 1 {
+			l.Dashes = []vg.Length{vg.Points(6), vg.Points(3)}
+			l.Width = vg.Points(1.5)
+		}
+		p.Add(l)
+		label := s.Label
+		if i == 1 {
+			label += " (planned)"
+		}
+		p.Legend.Add(label, l)
+	}
+	target := plotter.NewFunction(func(float64) float64 { return a.Target })
+	target.Color, target.Dashes = grey, []vg.Length{vg.Points(2), vg.Points(2)}
+	p.Add(target)
+	p.Legend.Add(fmt.Sprintf("target power %s", fixed(a.Target, 2)), target)
+	if a.N > 0 {
+		mark, err := plotter.NewLine(plotter.XYs{{X: float64(a.N), Y: 0}, {X: float64(a.N), Y: 1}})
+		if err != nil {
+			return err
+		}
+		mark.Color, mark.Dashes = grey, []vg.Length{vg.Points(1), vg.Points(3)}
+		p.Add(mark)
+		p.Legend.Add(fmt.Sprintf("n = %d", a.N), mark)
+	}
+	p.Legend.Top, p.Legend.Left = false, false
+	p.Legend.XOffs, p.Legend.YOffs = -vg.Points(6), vg.Points(30)
+	p.Legend.ThumbnailWidth = vg.Points(24)
+	wt, err := p.WriterTo(7*vg.Inch, 4.5*vg.Inch, ext)
+	if err != nil {
+		return err
+	}
+	return atomicfile.Write(path, force, func(w io.Writer) error {
+		_, err := wt.WriteTo(w)
+		return err
+	})
+}

@@ -1,0 +1,165 @@
+package main
+
+import (
+	"bytes"
+	"encoding/json"
+	"flag"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+
+	"allot/power"
+)
+
+var update = flag.Bool("update", false, "rewrite golden files")
+
+func golden(t *testing.T, name, got string) {
+	t.Helper()
+	path := filepath.Join("testdata", name+".golden")
+	if *update {
+		if err := os.MkdirAll("testdata", 0o755); err != nil {
+			t.Fatal(err)
+		}
+		if err := os.WriteFile(path, []byte(got), 0o644); err != nil {
+			t.Fatal(err)
+		}
+	}
+	want, err := os.ReadFile(path)
+	if err != nil {
+		t.Fatalf("%v (run go test ./cmd/allot -update to create it)", err)
+	}
+	if got != string(want) {
+		t.Errorf("output differs from %s:\n--- got\n%s\n--- want\n%s", path, got, want)
+	}
+}
+
+func TestSizeParse(t *testing.T) {
+	tests := []struct {
+		name  string
+		args  []string
+		check func(*testing.T, *sizeOptions)
+	}{
+		{"one-way", []string{"--groups", "4", "--f", "0.25", "--power", "0.9"}, func(t *testing.T, o *sizeOptions) {
+			if o.req.Groups != 4 || o.req.F != 0.25 || o.req.Power != 0.9 || o.req.Alpha != 0.05 || o.req.Test != power.TestF {
+				t.Errorf("%+v", o.req)
+			}
+		}},
+		{"factorial", []string{"--factor", "dose=3", "--factor", "diet=chow,fat", "--term", "dose,diet", "--eta2", "0.06"}, func(t *testing.T, o *sizeOptions) {
+			if len(o.req.Factors) != 2 || o.req.Factors[1].Levels != 2 || len(o.req.Term) != 2 || o.req.Term[1] != "diet" {
+				t.Errorf("%+v", o.req)
+			}
+		}},
+		{"blocks", []string{"--groups", "5", "--f", "0.6", "--blocks", "6"}, func(t *testing.T, o *sizeOptions) {
+			if !o.req.Blocked || o.req.N != 6 {
+				t.Errorf("%+v", o.req)
+			}
+		}},
+		{"t test", []string{"--d", "0.5", "--sides", "1", "--means", "1,2", "--ratios", "1,2"}, func(t *testing.T, o *sizeOptions) {
+			if o.req.Test != power.TestT || o.req.Sides != 1 || len(o.req.Means) != 2 || o.req.Ratios[1] != 2 {
+				t.Errorf("%+v", o.req)
+			}
+		}},
+		{"comparisons", []string{"--groups", "4", "--compare", "control", "--diff", "3", "--sd", "2"}, func(t *testing.T, o *sizeOptions) {
+			if o.req.Test != power.TestControl || o.req.Diff != 3 {
+				t.Errorf("%+v", o.req)
+			}
+		}},
+	}
+	for _, tt := range tests {
+		t.Run(tt.name, func(t *testing.T) {
+			var got *sizeOptions
+			cmd := newSizeCmd(&streams{Out: &bytes.Buffer{}, Err: &bytes.Buffer{}}, func(o *sizeOptions) error { got = o; return nil })
+			cmd.SetArgs(tt.args)
+			if err := cmd.Execute(); err != nil {
+				t.Fatal(err)
+			}
+			tt.check(t, got)
+		})
+	}
+}
+
+func TestSizeRun(t *testing.T) {
+	tests := []struct {
+		name string
+		args []string
+	}{
+		{"size_oneway", []string{"size", "--groups", "3", "--f", "0.4"}},
+		{"size_pilot_justify", []string{"size", "--means", "12,15,15,18", "--sd", "3", "--pilot-n", "8", "--dropout", "0.15", "--justify"}},
+		{"size_rcbd_power", []string{"size", "--design", "rcbd", "--groups", "5", "--f", "0.6", "--blocks", "6"}},
+		{"size_ttest_detect", []string{"size", "--groups", "2", "--sides", "1", "--n", "10", "--detect", "--sd", "4"}},
+		{"size_factorial_json", []string{"size", "--factor", "dose=3", "--factor", "diet=chow,fat", "--term", "dose,diet", "--f", "0.3", "--json"}},
+		{"size_compare", []string{"size", "--groups", "4", "--compare", "control", "--diff", "3", "--sd", "2", "--ratios", "2,1,1,1"}},
+	}
+	for _, tt := range tests {
+		t.Run(tt.name, func(t *testing.T) {
+			code, out, errs := runArgs(t, tt.args...)
+			if code != 0 {
+				t.Fatalf("exit %d: %s", code, errs)
+			}
+			golden(t, tt.name, out)
+		})
+	}
+}
+
+func TestSizeJSONFields(t *testing.T) {
+	_, out, _ := runArgs(t, "size", "--groups", "4", "--f", "0.25", "--dropout", "0.1", "--json")
+	var m map[string]any
+	if err := json.Unmarshal([]byte(out), &m); err != nil {
+		t.Fatal(err)
+	}
+	for _, k := range []string{"n_per_group", "total_n", "total_with_dropout", "achieved_power", "df1", "df2", "noncentrality", "f", "alpha", "target_power", "method"} {
+		if _, ok := m[k]; !ok {
+			t.Errorf("JSON lacks %q", k)
+		}
+	}
+}
+
+func TestSizeBadInput(t *testing.T) {
+	tests := []struct {
+		args []string
+		want string
+	}{
+		{[]string{"--groups", "3", "--f", "0.25", "--alpha", "1.5"}, "--alpha 1.5: must be between 0 and 1"},
+		{[]string{"--groups", "3", "--f", "0.25", "--power", "0.03"}, "--power 0.03: must be above alpha"},
+		{[]string{"--groups", "3", "--f", "-0.2"}, "--f -0.2: must be greater than 0"},
+		{[]string{"--groups", "3", "--diff", "2", "--sd", "0"}, "--diff: needs --sd"},
+		{[]string{"--groups", "1", "--f", "0.3"}, "--groups 1: need at least 2 groups"},
+		{[]string{"--groups", "3", "--means", "1,2", "--sd", "1"}, "--means 1, 2: 2 means for 3 groups"},
+		{[]string{"--groups", "3", "--f", "0.3", "--dropout", "1"}, "--dropout 1: must be a fraction"},
+		{[]string{"--factor", "a=2", "--factor", "b=3", "--term", "c", "--f", "0.3"}, `unknown factor "c"`},
+		{[]string{"--groups", "3", "--f", "0.00001"}, "--f 1e-05: the effect is too small"},
+		{[]string{"--groups", "3", "--means", "1,x,3", "--sd", "1"}, `--means 1,x,3: "x" is not a number`},
+		{[]string{"--factor", "dose", "--f", "0.3"}, "--factor dose: write NAME=LEVELS"},
+		{[]string{"--factor", "dose=1", "--f", "0.3"}, `factor "dose" needs at least 2 levels`},
+		{[]string{"--design", "latin", "--groups", "3", "--f", "0.3"}, "--design latin: must be crd"},
+		{[]string{"--groups", "3", "--f", "0.3", "--curve", "x.pdf"}, "--curve x.pdf: the file name must end in .svg or .png"},
+	}
+	for _, tt := range tests {
+		t.Run(strings.Join(tt.args, " "), func(t *testing.T) {
+			code, out, errs := runArgs(t, append([]string{"size"}, tt.args...)...)
+			if code != exitUsage || out != "" || !strings.Contains(errs, tt.want) {
+				t.Errorf("exit %d, stdout %q, stderr %q; want exit 2 and %q", code, out, errs, tt.want)
+			}
+		})
+	}
+}
+
+func TestSizeCurve(t *testing.T) {
+	dir := t.TempDir()
+	for _, ext := range []string{"svg", "png"} {
+		p := filepath.Join(dir, "curve."+ext)
+		code, _, errs := runArgs(t, "size", "--groups", "4", "--f", "0.3", "--curve", p)
+		if code != 0 {
+			t.Fatalf("exit %d: %s", code, errs)
+		}
+		if st, err := os.Stat(p); err != nil || st.Size() < 2000 {
+			t.Errorf("%s: %v", p, err)
+		}
+		// A second run does not replace the file without --force.
+		code, _, errs = runArgs(t, "size", "--groups", "4", "--f", "0.3", "--curve", p)
+		if code != exitUsage || !strings.Contains(errs, "--force") {
+			t.Errorf("second run: exit %d, %s", code, errs)
+		}
+	}
+}

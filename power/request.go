@@ -1,0 +1,632 @@
+package power
+
+import (
+	"fmt"
+	"math"
+	"strconv"
+	"strings"
+)
+
+// Test names the planned analysis.
+type Test string
+
+// Planned analyses.
+const (
+	TestF        Test = "anova"   // F test of a term
+	TestT        Test = "t"       // two-sample t test
+	TestControl  Test = "control" // each treatment against a control, Bonferroni
+	TestAllPairs Test = "pairs"   // all pairs, Bonferroni
+)
+
+// Request is a planning question as a person states it: the layout, the
+// test, the error rates, and the effect in whichever form is at hand. Zero
+// values mean "not given".
+type Request struct {
+	Test    Test
+	Groups  int      // one-way: number of groups
+	Factors []Factor // factorial (overrides Groups)
+	Term    []string
+	Blocked bool
+	Ratios  []float64 // unequal allocation (one-way); for t tests group 2 over group 1
+	Control int       // 1-based control group for TestControl (default 1)
+	Alpha   float64
+	Power   float64
+	Sides   int
+
+	F, Eta2, D, Diff float64
+	Means            []float64
+	SD               float64
+	PilotN           int
+	PilotConf        float64
+	BlockShare       float64
+
+	Dropout float64
+	N       int  // evaluate power (or the detectable effect) at this n
+	Detect  bool // report the smallest detectable effect at N
+}
+
+// FieldError is a problem with one input; Field is the name of the
+// parameter (the flag name in allot size).
+type FieldError struct {
+	Field string
+	Value string
+	Msg   string
+}
+
+func (e *FieldError) Error() string {
+	if e.Value != "" {
+		return fmt.Sprintf("--%s %s: %s", e.Field, e.Value, e.Msg)
+	}
+	return fmt.Sprintf("--%s: %s", e.Field, e.Msg)
+}
+
+func ferr(field string, v any, format string, args ...any) error {
+	val := ""
+	switch x := v.(type) {
+	case nil:
+	case float64:
+		val = strconv.FormatFloat(x, 'g', -1, 64)
+	default:
+		val = fmt.Sprint(x)
+	}
+	return &FieldError{Field: field, Value: val, Msg: fmt.Sprintf(format, args...)}
+}
+
+// Answer is the result of a request, with every assumption that produced
+// it, ready to render.
+type Answer struct {
+	Method     string  `json:"method"`
+	Design     string  `json:"design"`
+	TestName   string  `json:"test"`
+	Mode       string  `json:"mode"` // "sample size", "power", "detectable effect"
+	Alpha      float64 `json:"alpha"`
+	Sides      int     `json:"sides,omitempty"`
+	Target     float64 `json:"target_power"`
+	F          float64 `json:"f"`
+	D          float64 `json:"d,omitempty"`
+	EffectText string  `json:"effect"`
+	SD         float64 `json:"sd,omitempty"`
+	SDText     string  `json:"sd_basis,omitempty"`
+	// N is units per group, or blocks for block designs (NUnit says which).
+	N            int     `json:"n_per_group"`
+	NUnit        string  `json:"n_unit"`
+	GroupSizes   []int   `json:"group_sizes"`
+	Total        int     `json:"total_n"`
+	Dropout      float64 `json:"dropout"`
+	NDropout     int     `json:"n_with_dropout"`
+	TotalDropout int     `json:"total_with_dropout"`
+	DF1          float64 `json:"df1"`
+	DF2          float64 `json:"df2"`
+	Lambda       float64 `json:"noncentrality"`
+	Crit         float64 `json:"critical_value"`
+	CritName     string  `json:"critical_name"`
+	Power        float64 `json:"achieved_power"`
+	// Detectable is the smallest effect (f, or d for t tests and
+	// comparisons) at the target power; DiffDetectable the same in response
+	// units when an SD was given.
+	Detectable     float64  `json:"detectable_effect,omitempty"`
+	DiffDetectable float64  `json:"detectable_difference,omitempty"`
+	ErrorDF        float64  `json:"error_df"`
+	Notes          []string `json:"notes,omitempty"`
+}
+
+// normalise fills defaults and checks the request, returning a *FieldError
+// naming the input.
+func (r *Request) normalise() error {
+	if r.Alpha == 0 {
+		r.Alpha = 0.05
+	}
+	if r.Power == 0 {
+		r.Power = 0.80
+	}
+	if r.Test == "" {
+		r.Test = TestF
+	}
+	if r.Sides == 0 {
+		r.Sides = 2
+	}
+	if r.PilotConf == 0 {
+		r.PilotConf = 0.8
+	}
+	if r.Control == 0 {
+		r.Control = 1
+	}
+	if !(r.Alpha > 0 && r.Alpha < 1) {
+		return ferr("alpha", r.Alpha, "must be between 0 and 1 (for example 0.05)")
+	}
+	if !(r.Power > r.Alpha && r.Power < 1) {
+		return ferr("power", r.Power, "must be above alpha (%g) and below 1 (for example 0.8)", r.Alpha)
+	}
+	if r.Sides != 1 && r.Sides != 2 {
+		return ferr("sides", r.Sides, "must be 1 or 2")
+	}
+	if r.Sides == 1 && r.Test == TestF {
+		return ferr("sides", r.Sides, "an F test has no sides; one-sided tests are for two groups (--d) or planned comparisons (--compare)")
+	}
+	if !(r.Dropout >= 0 && r.Dropout < 1) {
+		return ferr("dropout", r.Dropout, "must be a fraction from 0 up to (not including) 1, for example 0.1 for 10%%")
+	}
+	if !(r.BlockShare >= 0 && r.BlockShare < 1) {
+		return ferr("block-share", r.BlockShare, "must be a fraction from 0 up to (not including) 1")
+	}
+	if r.BlockShare > 0 && !r.Blocked {
+		return ferr("block-share", r.BlockShare, "only applies to randomised complete blocks (--design rcbd)")
+	}
+	if r.N < 0 {
+		return ferr("n", r.N, "must be a positive whole number")
+	}
+	if r.N == 1 {
+		return ferr("n", r.N, "one unit per group leaves no error degrees of freedom; give at least 2")
+	}
+	if r.N > MaxPerGroup {
+		return ferr("n", r.N, "above the limit of %d per group", MaxPerGroup)
+	}
+	if r.Detect && r.N == 0 {
+		return ferr("detect", nil, "needs --n, the number of units per group (or blocks) to evaluate")
+	}
+	for _, v := range []struct {
+		name string
+		x    float64
+	}{{"f", r.F}, {"eta2", r.Eta2}, {"d", r.D}, {"diff", r.Diff}, {"sd", r.SD}} {
+		if v.x < 0 || math.IsNaN(v.x) || math.IsInf(v.x, 0) {
+			return ferr(v.name, v.x, "must be greater than 0")
+		}
+	}
+	if r.Eta2 >= 1 {
+		return ferr("eta2", r.Eta2, "must be below 1")
+	}
+	return nil
+}
+
+func (r Request) effectsGiven() []string {
+	var g []string
+	if r.F > 0 {
+		g = append(g, "--f")
+	}
+	if r.Eta2 > 0 {
+		g = append(g, "--eta2")
+	}
+	if r.D > 0 {
+		g = append(g, "--d")
+	}
+	if r.Diff > 0 {
+		g = append(g, "--diff")
+	}
+	if len(r.Means) > 0 {
+		g = append(g, "--means")
+	}
+	return g
+}
+
+// design builds the Design of the request.
+func (r Request) design() (Design, error) {
+	d := Design{Blocked: r.Blocked, Ratios: r.Ratios, Term: r.Term}
+	switch {
+	case len(r.Factors) > 0:
+		d.Factors = r.Factors
+		if r.Groups != 0 {
+			return d, ferr("groups", r.Groups, "give either --groups or --factor, not both")
+		}
+		if len(r.Factors) == 1 && len(d.Term) == 1 && d.Term[0] == r.Factors[0].Name {
+			d.Term = nil
+		}
+	default:
+		k := r.Groups
+		if k == 0 {
+			k = max(len(r.Means), len(r.Ratios))
+			if k == 0 && (r.Test == TestT || r.D > 0) {
+				k = 2
+			}
+		}
+		if k < 2 {
+			return d, ferr("groups", r.Groups, "need at least 2 groups (give --groups K, --means or --factor)")
+		}
+		d.Factors = []Factor{{Name: "group", Levels: k}}
+		if len(r.Term) > 0 && !(len(r.Term) == 1 && r.Term[0] == "group") {
+			return d, ferr("term", strings.Join(r.Term, ","), "a one-way layout has no factor %q; --term is for --factor layouts", r.Term[0])
+		}
+		d.Term = nil
+	}
+	if len(d.Factors) > 1 && len(d.Term) == 0 {
+		return d, ferr("term", nil, "a factorial needs the effect to plan for: --term NAME for a main effect, --term NAME1,NAME2 for an interaction")
+	}
+	if err := d.Validate(); err != nil {
+		field := "factor"
+		switch {
+		case strings.Contains(err.Error(), "term"):
+			field = "term"
+		case strings.Contains(err.Error(), "ratio") || strings.Contains(err.Error(), "allocation"):
+			field = "ratios"
+		}
+		return d, &FieldError{Field: field, Msg: err.Error()}
+	}
+	if len(r.Means) > 0 && len(r.Means) != d.Cells() {
+		return d, ferr("means", joinFloats(r.Means), "%d means for %d groups: give one mean per group", len(r.Means), d.Cells())
+	}
+	return d, nil
+}
+
+// sd resolves the SD to plan with and says where it comes from.
+func (r Request) sd() (float64, string, []string, error) {
+	if r.SD == 0 {
+		if r.PilotN > 0 {
+			return 0, "", nil, ferr("pilot-n", r.PilotN, "needs --sd, the SD the pilot gave")
+		}
+		if r.BlockShare > 0 {
+			return 0, "", nil, ferr("block-share", r.BlockShare, "needs --sd, the total SD")
+		}
+		return 0, "", nil, nil
+	}
+	s := r.SD
+	text := short(s)
+	var notes []string
+	if r.PilotN > 0 {
+		if r.PilotN < 2 {
+			return 0, "", nil, ferr("pilot-n", r.PilotN, "a pilot SD needs at least 2 units")
+		}
+		if !(r.PilotConf > 0 && r.PilotConf < 1) {
+			return 0, "", nil, ferr("pilot-conf", r.PilotConf, "must be between 0 and 1 (for example 0.8)")
+		}
+		up, err := PilotSD(s, r.PilotN, r.PilotConf)
+		if err != nil {
+			return 0, "", nil, err
+		}
+		text = fmt.Sprintf("%s, the upper one-sided %s%% confidence limit of the pilot SD %s from %d units (Browne 1995)", trimSig(up, 4), short(100*r.PilotConf), short(s), r.PilotN)
+		notes = append(notes, fmt.Sprintf("With the pilot SD %s itself the plan would rest on a small pilot that may have been quiet; the plan uses %s instead.", short(s), trimSig(up, 4)))
+		s = up
+	}
+	if r.BlockShare > 0 {
+		w := s * math.Sqrt(1-r.BlockShare)
+		text = fmt.Sprintf("%s within blocks = total SD %s × sqrt(1 − %s), blocks taking %s%% of the variance", trimSig(w, 4), text, short(r.BlockShare), short(100*r.BlockShare))
+		s = w
+	} else if r.Blocked {
+		text += " (the SD within a block)"
+	}
+	return s, text, notes, nil
+}
+
+// effect resolves the effect into Cohen's f (F tests) or a standardised
+// difference d (t tests and comparisons).
+func (r Request) effect(d Design, sd float64) (float64, string, error) {
+	given := r.effectsGiven()
+	if r.Detect {
+		if len(given) > 0 {
+			return 0, "", ferr("detect", nil, "asks for the effect; drop %s", strings.Join(given, " and "))
+		}
+		return 0, "the smallest detectable at the target power (solved for)", nil
+	}
+	if len(given) == 0 {
+		return 0, "", &FieldError{Field: "f", Msg: "give the effect to detect: --f, --eta2, --means with --sd, --diff with --sd, or --d for two groups"}
+	}
+	if len(given) > 1 {
+		return 0, "", &FieldError{Field: strings.TrimPrefix(given[1], "--"), Msg: "give only one effect size; also given: " + given[0]}
+	}
+	needSD := func(flag string) error {
+		if sd == 0 {
+			return &FieldError{Field: flag, Msg: "needs --sd, the SD of the response between units"}
+		}
+		return nil
+	}
+	standardised := r.Test != TestF
+	switch {
+	case r.F > 0:
+		if standardised {
+			return 0, "", ferr("f", r.F, "is for F tests; for two groups or comparisons give --d, or --diff with --sd")
+		}
+		return r.F, "Cohen's f = " + short(r.F), nil
+	case r.Eta2 > 0:
+		if standardised {
+			return 0, "", ferr("eta2", r.Eta2, "is for F tests; give --d, or --diff with --sd")
+		}
+		f, err := FFromEta2(r.Eta2)
+		if err != nil {
+			return 0, "", ferr("eta2", r.Eta2, "%v", err)
+		}
+		return f, fmt.Sprintf("η² = %s, Cohen's f = %s", short(r.Eta2), trimSig(f, 4)), nil
+	case r.D > 0:
+		if !standardised {
+			if d.Cells() != 2 {
+				return 0, "", ferr("d", r.D, "is for two groups; for %d groups give --f, --means or --diff", d.Cells())
+			}
+			f := r.D / 2
+			return f, fmt.Sprintf("d = %s (Cohen's f = d/2 = %s)", short(r.D), trimSig(f, 4)), nil
+		}
+		return r.D, "d = " + short(r.D), nil
+	case len(r.Means) > 0:
+		if err := needSD("means"); err != nil {
+			return 0, "", err
+		}
+		if standardised {
+			if r.Test != TestT {
+				return 0, "", ferr("means", joinFloats(r.Means), "planned comparisons take the smallest difference that matters: --diff with --sd")
+			}
+			dd := math.Abs(r.Means[1]-r.Means[0]) / sd
+			if dd == 0 {
+				return 0, "", ferr("means", joinFloats(r.Means), "the means are equal: there is no effect to detect")
+			}
+			return dd, fmt.Sprintf("means %s with SD %s, d = %s", joinFloats(r.Means), trimSig(sd, 4), trimSig(dd, 4)), nil
+		}
+		f, err := FFromMeans(r.Means, d.Ratios, sd)
+		if err != nil {
+			return 0, "", ferr("means", joinFloats(r.Means), "%v", err)
+		}
+		return f, fmt.Sprintf("means %s with SD %s, Cohen's f = %s", joinFloats(r.Means), trimSig(sd, 4), trimSig(f, 4)), nil
+	default: // Diff
+		if err := needSD("diff"); err != nil {
+			return 0, "", err
+		}
+		if standardised {
+			dd := r.Diff / sd
+			return dd, fmt.Sprintf("smallest difference that matters %s with SD %s, d = %s", short(r.Diff), trimSig(sd, 4), trimSig(dd, 4)), nil
+		}
+		if len(d.Factors) > 1 {
+			return 0, "", ferr("diff", r.Diff, "is for one-way layouts; for a factorial term give --f or --eta2")
+		}
+		f, err := FFromDiff(r.Diff, sd, d.Cells())
+		if err != nil {
+			return 0, "", ferr("diff", r.Diff, "%v", err)
+		}
+		return f, fmt.Sprintf("smallest difference between any two means %s with SD %s, least favourable configuration, Cohen's f = %s", short(r.Diff), trimSig(sd, 4), trimSig(f, 4)), nil
+	}
+}
+
+// Compute answers the request.
+func Compute(r Request) (Answer, error) {
+	if err := r.normalise(); err != nil {
+		return Answer{}, err
+	}
+	d, err := r.design()
+	if err != nil {
+		return Answer{}, err
+	}
+	sd, sdText, notes, err := r.sd()
+	if err != nil {
+		return Answer{}, err
+	}
+	eff, effText, err := r.effect(d, sd)
+	if err != nil {
+		return Answer{}, err
+	}
+	a := Answer{Alpha: r.Alpha, Target: r.Power, SD: sd, SDText: sdText, EffectText: effText, Notes: notes, Dropout: r.Dropout}
+	a.Mode = "sample size"
+	switch {
+	case r.Detect:
+		a.Mode = "detectable effect"
+	case r.N > 0:
+		a.Mode = "power"
+	}
+	a.NUnit = "units per group"
+	if r.Blocked {
+		a.NUnit = "blocks"
+	}
+	a.Design = describeDesign(d)
+	switch r.Test {
+	case TestF:
+		err = a.fTest(r, d, eff)
+	case TestT:
+		err = a.tTest(r, d, eff)
+	case TestControl, TestAllPairs:
+		err = a.comparisons(r, d, eff)
+	default:
+		return Answer{}, ferr("compare", string(r.Test), "must be control or pairs")
+	}
+	if err != nil {
+		return a, err
+	}
+	a.NDropout = int(math.Ceil(float64(a.N)/(1-r.Dropout) - 1e-9))
+	for _, s := range sizesFor(d, r, a.NDropout) {
+		a.TotalDropout += s
+	}
+	return a, nil
+}
+
+func sizesFor(d Design, r Request, n int) []int {
+	if r.Test == TestT {
+		return TwoGroups{Ratio: ratioT(r)}.sizes(n)
+	}
+	return d.GroupSizes(n)
+}
+
+func (a *Answer) fTest(r Request, d Design, f float64) error {
+	a.Method = "exact noncentral F"
+	a.TestName = "F test of " + d.TermName()
+	if len(d.Term) > 1 {
+		a.TestName = "F test of the " + d.TermName() + " interaction"
+	}
+	a.CritName = "critical F"
+	var res Result
+	switch {
+	case r.Detect:
+		a.Detectable, res = d.Detectable(r.N, r.Alpha, r.Power)
+		a.F = a.Detectable
+		if a.SD > 0 && len(d.Factors) == 1 {
+			a.DiffDetectable = a.Detectable * a.SD * math.Sqrt(2*float64(d.Cells()))
+		}
+	case r.N > 0:
+		res = d.Evaluate(r.N, f, r.Alpha)
+		a.F = f
+	default:
+		var err error
+		res, err = d.Solve(f, r.Alpha, r.Power)
+		a.F = f
+		if err != nil {
+			return &FieldError{Field: "f", Value: short(f), Msg: "the effect is too small to reach the target power with at most " + strconv.Itoa(MaxPerGroup) + " units per group: " + err.Error()}
+		}
+	}
+	a.N, a.GroupSizes, a.Total = res.N, res.GroupSizes, res.Total
+	a.DF1, a.DF2, a.Lambda, a.Crit, a.Power = res.DF1, res.DF2, res.Lambda, res.FCrit, res.Power
+	a.ErrorDF = res.DF2
+	return nil
+}
+
+func ratioT(r Request) float64 {
+	if len(r.Ratios) == 2 {
+		return r.Ratios[1] / r.Ratios[0]
+	}
+	return 1
+}
+
+func (a *Answer) tTest(r Request, d Design, dd float64) error {
+	if d.Cells() != 2 || len(d.Factors) != 1 {
+		return ferr("groups", d.Cells(), "a t test compares exactly 2 groups")
+	}
+	if r.Blocked {
+		return ferr("design", "rcbd", "the two-sample t test plans a completely randomised layout; for blocks use the F test (--f or --means)")
+	}
+	g := TwoGroups{Ratio: ratioT(r), Sides: r.Sides}
+	a.Method = "exact noncentral t"
+	a.TestName = "two-sample t test (pooled variance)"
+	a.Sides = r.Sides
+	a.CritName = "critical t"
+	var res TResult
+	switch {
+	case r.Detect:
+		a.Detectable, res = g.Detectable(r.N, r.Alpha, r.Power)
+		a.D = a.Detectable
+		if a.SD > 0 {
+			a.DiffDetectable = a.Detectable * a.SD
+		}
+	case r.N > 0:
+		res = g.Evaluate(r.N, dd, r.Alpha)
+		a.D = dd
+	default:
+		var err error
+		res, err = g.Solve(dd, r.Alpha, r.Power)
+		a.D = dd
+		if err != nil {
+			return &FieldError{Field: "d", Value: short(dd), Msg: "the effect is too small to reach the target power: " + err.Error()}
+		}
+	}
+	a.N, a.GroupSizes, a.Total = res.N1, []int{res.N1, res.N2}, res.Total
+	a.DF1, a.DF2, a.Lambda, a.Crit, a.Power = 1, res.DF, res.Delta, res.TCrit, res.Power
+	a.ErrorDF = res.DF
+	if g.Ratio != 1 {
+		a.NUnit = "units in group 1"
+	}
+	return nil
+}
+
+func (a *Answer) comparisons(r Request, d Design, dd float64) error {
+	c := Comparisons{Design: d, AllPair: r.Test == TestAllPairs, Control: r.Control - 1, Sides: r.Sides}
+	if err := c.validate(); err != nil {
+		return ferr("control", r.Control, "%v", err)
+	}
+	a.Method = "exact noncentral t, Bonferroni-adjusted"
+	what := "each treatment against the control (group " + strconv.Itoa(r.Control) + ")"
+	if c.AllPair {
+		what = "all pairs of groups"
+	}
+	a.TestName = fmt.Sprintf("t comparisons of %s, %d comparisons at alpha/%d each", what, c.Count(), c.Count())
+	a.Sides = r.Sides
+	a.CritName = "critical t"
+	var res CResult
+	switch {
+	case r.Detect:
+		a.Detectable, res = c.Detectable(r.N, r.Alpha, r.Power)
+		a.D = a.Detectable
+		if a.SD > 0 {
+			a.DiffDetectable = a.Detectable * a.SD
+		}
+	case r.N > 0:
+		res = c.Evaluate(r.N, dd, r.Alpha)
+		a.D = dd
+	default:
+		var err error
+		res, err = c.Solve(dd, r.Alpha, r.Power)
+		a.D = dd
+		if err != nil {
+			return &FieldError{Field: "diff", Msg: "the difference is too small to reach the target power: " + err.Error()}
+		}
+	}
+	a.N, a.GroupSizes, a.Total = res.N, res.GroupSizes, res.Total
+	a.DF1, a.DF2, a.Lambda, a.Crit, a.Power = 1, res.DF, res.Delta, res.TCrit, res.Power
+	a.ErrorDF = res.DF
+	a.Notes = append(a.Notes, "Power is that of the weakest single comparison at level alpha/m (Bonferroni); the chance of detecting every true difference at once is lower.")
+	return nil
+}
+
+func describeDesign(d Design) string {
+	var fs []string
+	for _, f := range d.Factors {
+		fs = append(fs, fmt.Sprintf("%s (%d levels)", f.Name, f.Levels))
+	}
+	var s string
+	switch {
+	case len(d.Factors) == 1 && !d.Blocked:
+		s = fmt.Sprintf("completely randomised, %d groups", d.Cells())
+	case len(d.Factors) == 1:
+		s = fmt.Sprintf("randomised complete blocks, %d treatments, one unit of each per block", d.Cells())
+	case !d.Blocked:
+		s = fmt.Sprintf("completely randomised full factorial %s, %d cells", strings.Join(fs, " × "), d.Cells())
+	default:
+		s = fmt.Sprintf("full factorial %s in randomised complete blocks, %d cells per block", strings.Join(fs, " × "), d.Cells())
+	}
+	if d.Ratios != nil {
+		s += ", allocation " + joinFloatsSep(d.Ratios, ":")
+	}
+	return s
+}
+
+func short(x float64) string { return strconv.FormatFloat(x, 'g', -1, 64) }
+
+func trimSig(x float64, sig int) string { return strconv.FormatFloat(x, 'g', sig, 64) }
+
+func joinFloats(v []float64) string { return joinFloatsSep(v, ", ") }
+
+func joinFloatsSep(v []float64, sep string) string {
+	s := make([]string, len(v))
+	for i, x := range v {
+		s[i] = short(x)
+	}
+	return strings.Join(s, sep)
+}
+
+// Series is a power curve: power against n for one effect size.
+type Series struct {
+	Label  string    `json:"label"`
+	Effect float64   `json:"effect"`
+	N      []int     `json:"n"`
+	Power  []float64 `json:"power"`
+}
+
+// CurvePoints returns power against n for the answer's effect and two
+// neighbours (×0.75 and ×1.33), for n from the smallest usable to about
+// 2.5 times the answer's n.
+func CurvePoints(r Request, a Answer) ([]Series, error) {
+	if err := r.normalise(); err != nil {
+		return nil, err
+	}
+	d, err := r.design()
+	if err != nil {
+		return nil, err
+	}
+	eff, name := a.F, "f"
+	if r.Test != TestF {
+		eff, name = a.D, "d"
+	}
+	if r.Detect {
+		eff = a.Detectable
+	}
+	nmax := max(10, int(math.Ceil(2.5*float64(a.N))))
+	step := max(1, nmax/200)
+	powerAt := func(n int, e float64) float64 {
+		switch r.Test {
+		case TestT:
+			return TwoGroups{Ratio: ratioT(r), Sides: r.Sides}.Evaluate(n, e, r.Alpha).Power
+		case TestControl, TestAllPairs:
+			return Comparisons{Design: d, AllPair: r.Test == TestAllPairs, Control: r.Control - 1, Sides: r.Sides}.Evaluate(n, e, r.Alpha).Power
+		}
+		return d.Evaluate(n, e, r.Alpha).Power
+	}
+	var out []Series
+	for _, m := range []float64{0.75, 1, 4.0 / 3} {
+		e := eff * m
+		s := Series{Label: fmt.Sprintf("%s = %s", name, trimSig(e, 3)), Effect: e}
+		for n := d.MinN(); n <= nmax; n += step {
+			s.N = append(s.N, n)
+			s.Power = append(s.Power, powerAt(n, e))
+		}
+		out = append(out, s)
+	}
+	return out, nil
+}
