@@ -1,0 +1,42 @@
+package power
+
+import (
+	"fmt"
+	"testing"
+
+	"allot/analyze/dist"
+)
+
+func BenchmarkNoncentralFSurvival(b *testing.B) {
+	for _, lam := range []float64{5, 50, 500} {
+		b.Run(fmt.Sprintf("lambda=%g", lam), func(b *testing.B) {
+			b.ReportAllocs()
+			d := dist.NoncentralF{D1: 3, D2: 60, Lambda: lam}
+			for i := 0; i < b.N; i++ {
+				d.Survival(2.76)
+			}
+		})
+	}
+}
+
+// BenchmarkSolve is the sample-size solve the issue sets a target for:
+// k = 4, f = 0.25, alpha 0.05, power 0.90 (target: under 100 µs).
+func BenchmarkSolve(b *testing.B) {
+	d := Design{Factors: []Factor{{Name: "g", Levels: 4}}}
+	b.ReportAllocs()
+	for i := 0; i < b.N; i++ {
+		if _, err := d.Solve(0.25, 0.05, 0.90); err != nil {
+			b.Fatal(err)
+		}
+	}
+}
+
+func BenchmarkSolveTTest(b *testing.B) {
+	g := TwoGroups{Ratio: 1, Sides: 1}
+	b.ReportAllocs()
+	for i := 0; i < b.N; i++ {
+		if _, err := g.Solve(0.5, 0.05, 0.9); err != nil {
+			b.Fatal(err)
+		}
+	}
+}
