@@ -12,6 +12,12 @@ type Unit struct {
 	Block     int    `json:"block"`     // 1-based
 	Position  int    `json:"position"`  // 1-based within the block
 	Treatment int    `json:"treatment"` // index into Plan.Treatments
+	// Row and Col place the unit on the plan's grid (0 without a grid).
+	Row int `json:"row,omitempty"`
+	Col int `json:"col,omitempty"`
+	// Order is the unit's rank in the block's measurement order (0 when no
+	// order was planned).
+	Order int `json:"order,omitempty"`
 }
 
 // Layout is a plan with a treatment assigned to each unit, units ordered by
@@ -19,6 +25,17 @@ type Unit struct {
 type Layout struct {
 	Plan  Plan   `json:"plan"`
 	Units []Unit `json:"units"`
+	// Codes holds the blind code of each treatment (Plan.Blind only).
+	Codes []string `json:"codes,omitempty"`
+}
+
+// Label returns what a person handling unit u sees as its treatment: the
+// blind code, or the treatment name.
+func (l Layout) Label(u Unit) string {
+	if l.Plan.Blind && len(l.Codes) > u.Treatment {
+		return l.Codes[u.Treatment]
+	}
+	return l.Plan.Treatments()[u.Treatment].Name
 }
 
 // IDMultiplier returns the multiplier of the default unit-ID scheme: a unit's
@@ -43,9 +60,10 @@ func UnitID(b, pos, blockSize int) string {
 // planned in each block.
 func (l Layout) Check() error {
 	p := l.Plan
-	if len(l.Units) != p.Units() {
-		return fmt.Errorf("layout has %d units, plan has %d", len(l.Units), p.Units())
+	if len(l.Units) != p.NumUnits() {
+		return fmt.Errorf("layout has %d units, plan has %d", len(l.Units), p.NumUnits())
 	}
+	sizes := p.BlockSizes()
 	ids := map[string]bool{}
 	count := make(map[[2]int]int)
 	pos := make(map[[2]int]bool)
@@ -55,7 +73,7 @@ func (l Layout) Check() error {
 			return fmt.Errorf("unit %s appears twice", u.ID)
 		}
 		ids[u.ID] = true
-		if u.Block < 1 || u.Block > p.Blocks || u.Position < 1 || u.Position > p.BlockSize() || u.Treatment < 0 || u.Treatment >= nt {
+		if u.Block < 1 || u.Block > p.Blocks || u.Position < 1 || u.Position > sizes[u.Block-1] || u.Treatment < 0 || u.Treatment >= nt {
 			return fmt.Errorf("unit %s: block %d, position %d or treatment %d out of range", u.ID, u.Block, u.Position, u.Treatment)
 		}
 		if pos[[2]int{u.Block, u.Position}] {
@@ -65,11 +83,15 @@ func (l Layout) Check() error {
 		count[[2]int{u.Block, u.Treatment}]++
 	}
 	for b := 1; b <= p.Blocks; b++ {
-		for t, r := range p.Reps {
-			if c := count[[2]int{b, t}]; c != r {
-				return fmt.Errorf("block %d has treatment %d %d times, plan says %d", b, t, c, r)
+		for t := range p.Reps {
+			lo, hi := p.Replication(b, t)
+			if c := count[[2]int{b, t}]; c < lo || c > hi {
+				return fmt.Errorf("block %d has treatment %d %d times, plan says %d to %d", b, t, c, lo, hi)
 			}
 		}
+	}
+	if p.Blind && len(l.Codes) != nt {
+		return fmt.Errorf("blind layout has %d codes for %d treatments", len(l.Codes), nt)
 	}
 	return nil
 }
@@ -84,4 +106,21 @@ func (l Layout) Counts() [][]int {
 		c[u.Treatment][u.Block-1]++
 	}
 	return c
+}
+
+// Replication returns the least and most units of treatment t in block b:
+// Reps[t] for planned blocks; for a block of a unit list of size s with nt
+// treatments, ⌊s/nt⌋ or one more (the remainder goes to distinct treatments
+// chosen at random).
+func (p Plan) Replication(b, t int) (lo, hi int) {
+	if p.Units == nil || p.Design == CRD {
+		return p.Reps[t], p.Reps[t]
+	}
+	nt := len(p.Reps)
+	s := p.BlockSizes()[b-1]
+	lo = s / nt
+	if s%nt != 0 {
+		return lo, lo + 1
+	}
+	return lo, lo
 }

@@ -15,6 +15,7 @@ import (
 	"encoding/hex"
 	"encoding/json"
 	"fmt"
+	"strconv"
 	"strings"
 )
 
@@ -68,6 +69,51 @@ type Plan struct {
 	// Seed and Generator identify the randomisation (see package randomize).
 	Seed      uint64 `json:"seed"`
 	Generator string `json:"generator"`
+	// Units is the given list of experimental units (animal IDs with their
+	// litters, say), or nil for units numbered by the default scheme. With
+	// a list, the blocks and their sizes come from it.
+	Units []UnitSpec `json:"units,omitempty"`
+	// Grid places each block's positions on a rows × columns grid.
+	Grid *Grid `json:"grid,omitempty"`
+	// Blind replaces treatment names by codes on everything the people
+	// scoring outcomes see; the key is kept apart.
+	Blind bool `json:"blind,omitempty"`
+	// Order adds a randomised measurement order within each block.
+	Order bool `json:"order,omitempty"`
+}
+
+// UnitSpec is one unit of a given unit list.
+type UnitSpec struct {
+	ID    string `json:"id"`
+	Block int    `json:"block"` // 1-based
+	// BlockLabel is the block's name in the list (a litter ID), if any.
+	BlockLabel string   `json:"block_label,omitempty"`
+	Covariate  *float64 `json:"covariate,omitempty"`
+}
+
+// Grid is the physical arrangement of a block's positions: Rows × Cols
+// places, numbered row by row ("rows") or back and forth ("serpentine":
+// odd rows left to right, even rows right to left, as one walks a bench).
+type Grid struct {
+	Rows      int    `json:"rows"`
+	Cols      int    `json:"cols"`
+	Numbering string `json:"numbering"`
+}
+
+// Numbering schemes of a grid.
+const (
+	RowWise    = "rows"
+	Serpentine = "serpentine"
+)
+
+// Place returns the 1-based row and column of position pos (1-based).
+func (g Grid) Place(pos int) (row, col int) {
+	row = (pos-1)/g.Cols + 1
+	col = (pos-1)%g.Cols + 1
+	if g.Numbering == Serpentine && row%2 == 0 {
+		col = g.Cols - col + 1
+	}
+	return row, col
 }
 
 // Treatment is one combination of factor levels.
@@ -97,7 +143,9 @@ func (p Plan) Treatments() []Treatment {
 	return out
 }
 
-// BlockSize returns the number of units in each block.
+// BlockSize returns the number of units in each block of a plan without a
+// unit list: the sum of Reps. With a unit list blocks may differ in size;
+// see BlockSizes.
 func (p Plan) BlockSize() int {
 	n := 0
 	for _, r := range p.Reps {
@@ -106,8 +154,50 @@ func (p Plan) BlockSize() int {
 	return n
 }
 
-// Units returns the number of experimental units.
-func (p Plan) Units() int { return p.BlockSize() * p.Blocks }
+// BlockSizes returns the number of units in each block (index 0 is block 1).
+func (p Plan) BlockSizes() []int {
+	s := make([]int, p.Blocks)
+	if p.Units == nil {
+		for i := range s {
+			s[i] = p.BlockSize()
+		}
+		return s
+	}
+	for _, u := range p.Units {
+		if u.Block >= 1 && u.Block <= p.Blocks {
+			s[u.Block-1]++
+		}
+	}
+	return s
+}
+
+// MaxBlockSize returns the size of the largest block.
+func (p Plan) MaxBlockSize() int {
+	m := 0
+	for _, s := range p.BlockSizes() {
+		m = max(m, s)
+	}
+	return m
+}
+
+// NumUnits returns the number of experimental units.
+func (p Plan) NumUnits() int {
+	if p.Units != nil {
+		return len(p.Units)
+	}
+	return p.BlockSize() * p.Blocks
+}
+
+// BlockLabel returns the name of block b (1-based): the label from the unit
+// list, or the number.
+func (p Plan) BlockLabel(b int) string {
+	for _, u := range p.Units {
+		if u.Block == b && u.BlockLabel != "" {
+			return u.BlockLabel
+		}
+	}
+	return strconv.Itoa(b)
+}
 
 // Canonical returns the plan's canonical JSON form.
 func (p Plan) Canonical() []byte {
@@ -141,7 +231,7 @@ func ParsePlan(b []byte) (Plan, error) {
 // Error is a problem with a plan, naming the field it concerns so that a
 // command can name its flag.
 type Error struct {
-	Field string // factor, control, reps, blocks, block_name, response, design, title
+	Field string // factor, control, reps, blocks, block_name, response, design, units, grid
 	Msg   string
 }
 
@@ -208,8 +298,18 @@ func (p Plan) Validate() error {
 			return errf("reps", "treatment %q has replication %d: must be at least 1", p.Treatments()[i].Name, r)
 		}
 	}
+	if p.Design == RCBD && p.Blocks < 2 {
+		return errf("blocks", "a randomised complete block design needs at least 2 blocks")
+	}
 	if p.Blocks < 1 {
 		return errf("blocks", "%d blocks: must be at least 1", p.Blocks)
+	}
+	if p.Units != nil && p.Design == RCBD {
+		for _, r := range p.Reps {
+			if r != 1 {
+				return errf("reps", "with a unit list the block sizes set the replication; leave the replication at 1")
+			}
+		}
 	}
 	if p.Design == CRD && p.Blocks != 1 {
 		return errf("blocks", "a completely randomised design has no blocks; use design %q for %d blocks", RCBD, p.Blocks)
@@ -220,8 +320,24 @@ func (p Plan) Validate() error {
 	if strings.TrimSpace(p.BlockName) == "" {
 		return errf("block_name", "the block name is empty (for example bench, litter, day)")
 	}
-	if n := p.Units(); n > MaxUnits {
-		return errf("reps", "%d units: more than a worksheet can hold (%d)", n, MaxUnits)
+	if p.Units != nil {
+		if err := p.validateUnits(nt); err != nil {
+			return err
+		}
+	}
+	if n := p.NumUnits(); n > MaxUnits {
+		return errf("reps", "%d units: more than a worksheet can hold (%d rows below the header)", n, MaxUnits)
+	}
+	if g := p.Grid; g != nil {
+		if g.Rows < 1 || g.Cols < 1 {
+			return errf("grid", "grid %dx%d: rows and columns must be at least 1", g.Rows, g.Cols)
+		}
+		if g.Numbering != RowWise && g.Numbering != Serpentine {
+			return errf("grid", "grid numbering %q: must be %q or %q", g.Numbering, RowWise, Serpentine)
+		}
+		if m := p.MaxBlockSize(); g.Rows*g.Cols < m {
+			return errf("grid", "grid %dx%d holds %d places, but a %s has %d units; use a larger grid", g.Rows, g.Cols, g.Rows*g.Cols, p.BlockName, m)
+		}
 	}
 	rn := map[string]bool{}
 	for _, r := range p.Responses {
@@ -252,4 +368,33 @@ func Plural(word string) string {
 		return word[:len(word)-1] + "ies"
 	}
 	return word + "s"
+}
+
+// validateUnits checks a given unit list against the plan.
+func (p Plan) validateUnits(nt int) error {
+	ids := map[string]bool{}
+	for i, u := range p.Units {
+		if strings.TrimSpace(u.ID) == "" {
+			return errf("units", "unit list row %d has an empty ID", i+1)
+		}
+		if ids[u.ID] {
+			return errf("units", "unit ID %q appears twice in the unit list", u.ID)
+		}
+		ids[u.ID] = true
+		if u.Block < 1 || u.Block > p.Blocks {
+			return errf("units", "unit %q is in block %d; the plan has %d", u.ID, u.Block, p.Blocks)
+		}
+	}
+	for b, s := range p.BlockSizes() {
+		if p.Design == RCBD && s < nt {
+			return errf("units", "%s %s has %d unit(s), fewer than the %d treatments: every %s must hold each treatment at least once; merge it with another or leave it out",
+				p.BlockName, p.BlockLabel(b+1), s, nt, p.BlockName)
+		}
+	}
+	if p.Design == CRD {
+		if sum := p.BlockSize(); sum != len(p.Units) {
+			return errf("reps", "the replication adds up to %d units but the unit list has %d", sum, len(p.Units))
+		}
+	}
+	return nil
 }

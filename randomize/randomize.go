@@ -22,6 +22,22 @@
 //     i repeated Reps[i] times. For i from len−1 down to 1, draw j uniform in
 //     [0, i] and swap entries i and j (Fisher and Yates; Durstenfeld 1964,
 //     CACM 7(7) 420). Entry k then goes to position k+1 of the block.
+//  4. Unit lists. A block of a given unit list holds its units in list
+//     order (position k+1 is the block's k-th unit). For a randomised
+//     complete block design with nt treatments and a block of s = q·nt + r
+//     units, the treatment list is q copies of each treatment in plan order
+//     followed by the first r entries of a Fisher–Yates shuffle of
+//     0..nt−1 drawn from the block's stream; the list is then shuffled by
+//     step 3, continuing the same stream.
+//  5. Measurement order (Plan.Order). Block b's order comes from stream
+//     2^32 + b: the list 1..s is shuffled by step 3 and entry k is the rank
+//     in which the unit at position k+1 is measured.
+//  6. Blind codes (Plan.Blind). From stream 2^33, each treatment in plan
+//     order gets three characters drawn uniformly (step 2) from the
+//     alphabet "ACDEFHJKMNPRTUVWXY3479", which leaves out characters that
+//     are easily misread for each other (0/O/D… are reduced to one; 1, I,
+//     L; 2, Z; 5, S; 6, G; 8, B); a code equal to an earlier one is
+//     drawn again.
 //
 // Rejected alternatives: one stream for all blocks would make each block's
 // layout depend on the sizes of the blocks before it, so a plan with one
@@ -93,6 +109,18 @@ func NewSeed() (uint64, error) {
 	return binary.LittleEndian.Uint64(b[:]), nil
 }
 
+// Stream offsets of steps 5 and 6.
+const (
+	orderStream = 1 << 32
+	codeStream  = 1 << 33
+)
+
+// CodeAlphabet is the alphabet of blind codes (step 6).
+const CodeAlphabet = "ACDEFHJKMNPRTUVWXY3479"
+
+// CodeLength is the number of characters of a blind code.
+const CodeLength = 3
+
 // Assign lays out the plan with its seed. The plan must be valid; its
 // Generator must be empty or Generator, and is set to Generator.
 func Assign(p design.Plan) (design.Layout, error) {
@@ -105,30 +133,135 @@ func Assign(p design.Plan) (design.Layout, error) {
 	if err := p.Validate(); err != nil {
 		return design.Layout{}, err
 	}
-	size := p.BlockSize()
-	base := make([]int, 0, size)
-	for t, r := range p.Reps {
-		for k := 0; k < r; k++ {
-			base = append(base, t)
-		}
+	nt := len(p.Reps)
+	sizes := p.BlockSizes()
+	byBlock := make([][]design.UnitSpec, p.Blocks+1)
+	for _, u := range p.Units {
+		byBlock[u.Block] = append(byBlock[u.Block], u)
 	}
-	units := make([]design.Unit, 0, p.Units())
-	slots := make([]int, size)
+	units := make([]design.Unit, 0, p.NumUnits())
 	for b := 1; b <= p.Blocks; b++ {
-		copy(slots, base)
-		Shuffle(Stream(p.Seed, uint64(b)), slots)
+		size := sizes[b-1]
+		src := Stream(p.Seed, uint64(b))
+		slots := make([]int, 0, size)
+		if p.Units != nil && p.Design == design.RCBD {
+			for q := 0; q < size/nt; q++ {
+				for t := 0; t < nt; t++ {
+					slots = append(slots, t)
+				}
+			}
+			if r := size % nt; r > 0 {
+				extra := make([]int, nt)
+				for t := range extra {
+					extra[t] = t
+				}
+				Shuffle(src, extra)
+				slots = append(slots, extra[:r]...)
+			}
+		} else {
+			for t, r := range p.Reps {
+				for k := 0; k < r; k++ {
+					slots = append(slots, t)
+				}
+			}
+		}
+		Shuffle(src, slots)
+		var order []int
+		if p.Order {
+			order = make([]int, size)
+			for k := range order {
+				order[k] = k + 1
+			}
+			Shuffle(Stream(p.Seed, orderStream+uint64(b)), order)
+		}
 		for k, t := range slots {
-			units = append(units, design.Unit{
-				ID:        design.UnitID(b, k+1, size),
-				Block:     b,
-				Position:  k + 1,
-				Treatment: t,
-			})
+			u := design.Unit{Block: b, Position: k + 1, Treatment: t}
+			if p.Units != nil {
+				u.ID = byBlock[b][k].ID
+			} else {
+				u.ID = design.UnitID(b, k+1, size)
+			}
+			if p.Grid != nil {
+				u.Row, u.Col = p.Grid.Place(k + 1)
+			}
+			if order != nil {
+				u.Order = order[k]
+			}
+			units = append(units, u)
 		}
 	}
 	l := design.Layout{Plan: p, Units: units}
+	if p.Blind {
+		l.Codes = Codes(p.Seed, nt)
+	}
 	if err := l.Check(); err != nil {
 		panic("randomize: layout breaks its invariants: " + err.Error())
 	}
 	return l, nil
+}
+
+// Codes returns n distinct blind codes from seed (step 6).
+func Codes(seed uint64, n int) []string {
+	src := Stream(seed, codeStream)
+	seen := map[string]bool{}
+	out := make([]string, 0, n)
+	for len(out) < n {
+		b := make([]byte, CodeLength)
+		for i := range b {
+			b[i] = CodeAlphabet[Bounded(src, uint64(len(CodeAlphabet)))]
+		}
+		if c := string(b); !seen[c] {
+			seen[c] = true
+			out = append(out, c)
+		}
+	}
+	return out
+}
+
+// Difference is a unit whose recorded assignment differs from the one the
+// plan and seed give.
+type Difference struct {
+	Unit     string
+	Recorded string // "block 2, position 3, treatment B" (or "missing")
+	Derived  string
+}
+
+// Verify re-derives the layout from l's plan and seed and returns every
+// unit that differs (nil when the layout matches).
+func Verify(l design.Layout) ([]Difference, error) {
+	d, err := Assign(l.Plan)
+	if err != nil {
+		return nil, err
+	}
+	describe := func(lay design.Layout, u design.Unit) string {
+		s := fmt.Sprintf("block %d, position %d, treatment %s", u.Block, u.Position, lay.Plan.Treatments()[u.Treatment].Name)
+		if u.Order > 0 {
+			s += fmt.Sprintf(", order %d", u.Order)
+		}
+		if lay.Plan.Blind {
+			s += ", code " + lay.Label(u)
+		}
+		return s
+	}
+	rec := map[string]design.Unit{}
+	for _, u := range l.Units {
+		rec[u.ID] = u
+	}
+	var diffs []Difference
+	for _, u := range d.Units {
+		r, ok := rec[u.ID]
+		switch {
+		case !ok:
+			diffs = append(diffs, Difference{Unit: u.ID, Recorded: "missing", Derived: describe(d, u)})
+		case r.Treatment < 0 || r.Treatment >= len(l.Plan.Reps):
+			diffs = append(diffs, Difference{Unit: u.ID, Recorded: fmt.Sprintf("treatment index %d", r.Treatment), Derived: describe(d, u)})
+		case describe(l, r) != describe(d, u):
+			diffs = append(diffs, Difference{Unit: u.ID, Recorded: describe(l, r), Derived: describe(d, u)})
+		}
+		delete(rec, u.ID)
+	}
+	for id := range rec {
+		diffs = append(diffs, Difference{Unit: id, Recorded: describe(l, rec[id]), Derived: "not in the plan"})
+	}
+	return diffs, nil
 }

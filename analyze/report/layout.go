@@ -45,7 +45,7 @@ func LayoutText(w io.Writer, l design.Layout) error {
 	bt := table{head: []string{"treatment"}, right: []bool{false}}
 	for k := 1; k <= p.Blocks; k++ {
 		if p.Design == design.RCBD {
-			bt.head = append(bt.head, fmt.Sprintf("%s %d", p.BlockName, k))
+			bt.head = append(bt.head, fmt.Sprintf("%s %s", p.BlockName, p.BlockLabel(k)))
 		} else {
 			bt.head = append(bt.head, "units")
 		}
@@ -65,26 +65,88 @@ func LayoutText(w io.Writer, l design.Layout) error {
 	}
 	b.WriteString(bt.text("  "))
 	if len(l.Units) <= MaxMapUnits {
-		fmt.Fprintf(&b, "\nMap: position → unit ID and treatment, one line per %s\n", blockWord(p))
-		byBlock := make([][]design.Unit, p.Blocks+1)
-		for _, u := range l.Units {
-			byBlock[u.Block] = append(byBlock[u.Block], u)
-		}
-		for k := 1; k <= p.Blocks; k++ {
-			fmt.Fprintf(&b, "  %s %d:", blockWord(p), k)
-			for _, u := range byBlock[k] {
-				fmt.Fprintf(&b, "  %d→%s %s", u.Position, u.ID, tr[u.Treatment].Name)
-			}
-			b.WriteString("\n")
-		}
+		writeMap(&b, l)
 	} else {
 		fmt.Fprintf(&b, "\nMap: %d units are too many to print here; see the workbook's Map sheet.\n", len(l.Units))
+	}
+	if p.Blind {
+		b.WriteString("\nBlind: codes replace treatment names in the map and the workbook; the key file holds their meaning.\n")
 	}
 	_, err := io.WriteString(w, b.String())
 	return err
 }
 
-func blockWord(p design.Plan) string {
+// writeMap writes each block as its grid (or as one line of positions),
+// each unit as its ID and treatment (or code), with the measurement rank
+// after "#" when an order was planned.
+func writeMap(b *strings.Builder, l design.Layout) {
+	p := l.Plan
+	cellText := func(u design.Unit) string {
+		t := u.ID + " " + l.Label(u)
+		if u.Order > 0 {
+			t += fmt.Sprintf(" #%d", u.Order)
+		}
+		return t
+	}
+	byBlock := make([][]design.Unit, p.Blocks+1)
+	width := 0
+	for _, u := range l.Units {
+		byBlock[u.Block] = append(byBlock[u.Block], u)
+		width = max(width, runeLen(cellText(u)))
+	}
+	if g := p.Grid; g != nil {
+		fmt.Fprintf(b, "\nMap: each %s as its %d×%d grid (%s numbering); unit ID and treatment", gridWord(p), g.Rows, g.Cols, g.Numbering)
+		if p.Order {
+			b.WriteString(", #measurement order")
+		}
+		b.WriteString("\n")
+		for k := 1; k <= p.Blocks; k++ {
+			if p.Design == design.RCBD {
+				fmt.Fprintf(b, "  %s %s\n", p.BlockName, p.BlockLabel(k))
+			}
+			grid := make([][]string, g.Rows)
+			for r := range grid {
+				grid[r] = make([]string, g.Cols)
+			}
+			for _, u := range byBlock[k] {
+				grid[u.Row-1][u.Col-1] = cellText(u)
+			}
+			for _, row := range grid {
+				line := "   "
+				for _, c := range row {
+					if c == "" {
+						c = "·"
+					}
+					line += "  " + c + strings.Repeat(" ", width-runeLen(c))
+				}
+				b.WriteString(strings.TrimRight(line, " ") + "\n")
+			}
+		}
+		return
+	}
+	if p.Design == design.RCBD {
+		fmt.Fprintf(b, "\nMap: position → unit ID and treatment, one line per %s", p.BlockName)
+	} else {
+		b.WriteString("\nMap: position → unit ID and treatment")
+	}
+	if p.Order {
+		b.WriteString(" (#measurement order)")
+	}
+	b.WriteString("\n")
+	for k := 1; k <= p.Blocks; k++ {
+		if p.Design == design.RCBD {
+			fmt.Fprintf(b, "  %s %s:", p.BlockName, p.BlockLabel(k))
+		} else {
+			b.WriteString("  units:")
+		}
+		for _, u := range byBlock[k] {
+			fmt.Fprintf(b, "  %d→%s", u.Position, cellText(u))
+		}
+		b.WriteString("\n")
+	}
+}
+
+func gridWord(p design.Plan) string {
 	if p.Design == design.RCBD {
 		return p.BlockName
 	}
@@ -92,10 +154,17 @@ func blockWord(p design.Plan) string {
 }
 
 func unitsText(p design.Plan) string {
-	if p.Design == design.RCBD {
-		return fmt.Sprintf("%d (%d per %s)", p.Units(), p.BlockSize(), p.BlockName)
+	if p.Design != design.RCBD {
+		return fmt.Sprint(p.NumUnits())
 	}
-	return fmt.Sprint(p.Units())
+	lo, hi := p.NumUnits(), 0
+	for _, s := range p.BlockSizes() {
+		lo, hi = min(lo, s), max(hi, s)
+	}
+	if lo == hi {
+		return fmt.Sprintf("%d (%d per %s)", p.NumUnits(), hi, p.BlockName)
+	}
+	return fmt.Sprintf("%d (%d to %d per %s)", p.NumUnits(), lo, hi, p.BlockName)
 }
 
 // LayoutJSON writes the resolved plan and assignment, with the fingerprint.

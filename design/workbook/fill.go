@@ -23,7 +23,7 @@ func Fill(src, dst string, values [][]float64, label string, force bool) error {
 		return fmt.Errorf("%s: cannot be opened as an .xlsx workbook: %w", src, err)
 	}
 	defer f.Close()
-	l, err := readData(f, src)
+	l, _, err := readData(f, src, nil)
 	if err != nil {
 		return err
 	}
@@ -90,8 +90,12 @@ type Observations struct {
 	Treatment []string
 }
 
-// Observations collects the non-missing values of response r.
+// Observations collects the non-missing values of response r. It panics on
+// a sealed (blind, unkeyed) workbook; check Filled.Sealed first.
 func (fl *Filled) Observations(r int) Observations {
+	if fl.Sealed {
+		panic("workbook: Observations of a blind workbook read without its key")
+	}
 	p := fl.Layout.Plan
 	tr := p.Treatments()
 	o := Observations{Levels: make([][]string, len(p.Factors))}
@@ -105,7 +109,7 @@ func (fl *Filled) Observations(r int) Observations {
 			o.Levels[fi] = append(o.Levels[fi], tr[u.Treatment].Levels[fi])
 		}
 		if p.Design == design.RCBD {
-			o.Blocks = append(o.Blocks, fmt.Sprint(u.Block))
+			o.Blocks = append(o.Blocks, p.BlockLabel(u.Block))
 		}
 		o.Units = append(o.Units, u.ID)
 		o.Cells = append(o.Cells, SheetEntry+"!"+v.Cell)

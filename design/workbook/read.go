@@ -66,6 +66,9 @@ type Filled struct {
 	// Values[r][i] is response r of unit Layout.Units[i].
 	Values   [][]Value
 	Problems []Problem
+	// Sealed marks a blind workbook read without its key: treatments are
+	// unknown (Treatment −1) and the data cannot be analysed.
+	Sealed bool
 }
 
 // Errors returns the number of error-level problems.
@@ -99,6 +102,8 @@ func (e *FileError) Error() string {
 type ReadOptions struct {
 	// DecimalComma accepts "12,5" as 12.5 in response cells.
 	DecimalComma bool
+	// Key unblinds a blind workbook.
+	Key *design.Key
 }
 
 var decimalComma = regexp.MustCompile(`^[+-]?\d+,\d+$`)
@@ -113,19 +118,27 @@ func Read(path string, opt ReadOptions) (*Filled, error) {
 		return nil, &FileError{Path: path, Msg: "cannot be read as an .xlsx workbook (" + err.Error() + "); give the file written by `allot layout` or a copy re-saved as .xlsx"}
 	}
 	defer f.Close()
-	l, err := readData(f, path)
+	l, labels, err := readData(f, path, opt.Key)
 	if err != nil {
 		return nil, err
 	}
-	return readEntry(f, path, l, opt)
+	fl, err := readEntry(f, path, l, labels, opt)
+	if err != nil {
+		return nil, err
+	}
+	fl.Sealed = l.Plan.Blind && opt.Key == nil
+	return fl, nil
 }
 
-func readData(f *excelize.File, path string) (design.Layout, error) {
+// readData reads the hidden sheet. It returns the layout and, for blind
+// plans, each unit's code; with a key the layout is unblinded (treatments
+// and seed restored) after the key is checked against the fingerprint.
+func readData(f *excelize.File, path string, key *design.Key) (design.Layout, []string, error) {
 	fail := func(cell, msg string) error {
 		return &FileError{Path: path, Sheet: SheetData, Cell: cell, Msg: msg}
 	}
 	if idx, err := f.GetSheetIndex(SheetData); err != nil || idx < 0 {
-		return design.Layout{}, fail("", "the hidden plan sheet is missing, so the workbook cannot be matched to its plan; start again from the workbook written by `allot layout`")
+		return design.Layout{}, nil, fail("", "the hidden plan sheet is missing, so the workbook cannot be matched to its plan; start again from the workbook written by `allot layout`")
 	}
 	get := func(c string) string {
 		v, _ := f.GetCellValue(SheetData, c, excelize.Options{RawCellValue: true})
@@ -134,7 +147,7 @@ func readData(f *excelize.File, path string) (design.Layout, error) {
 	fp, sum := get("B1"), get("B2")
 	n, err := strconv.Atoi(get("B3"))
 	if err != nil || n < 1 {
-		return design.Layout{}, fail("B3", "the chunk count is not a positive number; the plan sheet was edited")
+		return design.Layout{}, nil, fail("B3", "the chunk count is not a positive number; the plan sheet was edited")
 	}
 	var sb strings.Builder
 	for i := 0; i < n; i++ {
@@ -142,31 +155,61 @@ func readData(f *excelize.File, path string) (design.Layout, error) {
 	}
 	doc := sb.String()
 	if digest([]byte(doc)) != sum {
-		return design.Layout{}, fail("A4", "the stored plan does not match its checksum in B2: the plan sheet was edited; use an unedited copy of the workbook")
+		return design.Layout{}, nil, fail("A4", "the stored plan does not match its checksum in B2: the plan sheet was edited; use an unedited copy of the workbook")
 	}
 	var st stored
 	if err := json.Unmarshal([]byte(doc), &st); err != nil {
-		return design.Layout{}, fail("A4", "the stored plan is not valid JSON: "+err.Error())
+		return design.Layout{}, nil, fail("A4", "the stored plan is not valid JSON: "+err.Error())
 	}
 	p, err := design.ParsePlan(st.Plan)
 	if err != nil {
-		return design.Layout{}, fail("A4", "the stored plan is not valid: "+err.Error())
-	}
-	if p.Fingerprint() != fp {
-		return design.Layout{}, fail("B1", "the plan fingerprint does not match the stored plan: the plan sheet was edited")
+		return design.Layout{}, nil, fail("A4", "the stored plan is not valid: "+err.Error())
 	}
 	var units []design.Unit
 	if err := json.Unmarshal(st.Units, &units); err != nil {
-		return design.Layout{}, fail("A4", "the stored units are not valid JSON: "+err.Error())
+		return design.Layout{}, nil, fail("A4", "the stored units are not valid JSON: "+err.Error())
 	}
 	l := design.Layout{Plan: p, Units: units}
-	if err := l.Check(); err != nil {
-		return design.Layout{}, fail("A4", "the stored layout is inconsistent: "+err.Error())
+	if !p.Blind {
+		if p.Fingerprint() != fp {
+			return design.Layout{}, nil, fail("B1", "the plan fingerprint does not match the stored plan: the plan sheet was edited")
+		}
+		if err := l.Check(); err != nil {
+			return design.Layout{}, nil, fail("A4", "the stored layout is inconsistent: "+err.Error())
+		}
+		return l, nil, nil
 	}
-	return l, nil
+	if len(st.Labels) != len(units) {
+		return design.Layout{}, nil, fail("A4", "the stored blind codes do not match the units: the plan sheet was edited")
+	}
+	if key == nil {
+		return l, st.Labels, nil
+	}
+	// Unblind: the key's seed must reproduce the full plan's fingerprint.
+	full := p
+	full.Seed = key.Seed
+	if key.Fingerprint != fp || full.Fingerprint() != fp {
+		return design.Layout{}, nil, &FileError{Path: path, Sheet: SheetData, Cell: "B1", Msg: "the key belongs to another plan (its fingerprint and seed do not reproduce this workbook's); give the key file written with this layout"}
+	}
+	byCode := map[string]int{}
+	for t, c := range key.Codes {
+		byCode[c] = t
+	}
+	for i := range units {
+		t, ok := byCode[st.Labels[i]]
+		if !ok {
+			return design.Layout{}, nil, fail("A4", fmt.Sprintf("unit %s has code %q, which the key does not know", units[i].ID, st.Labels[i]))
+		}
+		units[i].Treatment = t
+	}
+	l = design.Layout{Plan: full, Units: units, Codes: key.Codes}
+	if err := l.Check(); err != nil {
+		return design.Layout{}, nil, fail("A4", "the unblinded layout is inconsistent: "+err.Error())
+	}
+	return l, st.Labels, nil
 }
 
-func readEntry(f *excelize.File, path string, l design.Layout, opt ReadOptions) (*Filled, error) {
+func readEntry(f *excelize.File, path string, l design.Layout, labels []string, opt ReadOptions) (*Filled, error) {
 	p := l.Plan
 	c := layoutColumns(p)
 	heads := c.headers(p)
@@ -234,7 +277,13 @@ func readEntry(f *excelize.File, path string, l design.Layout, opt ReadOptions) 
 			continue
 		}
 		seenRow[id] = ref(0)
-		want := designCells(c, l.Units[ui], tr)
+		label := ""
+		if labels != nil {
+			label = labels[ui]
+		} else {
+			label = l.Label(l.Units[ui])
+		}
+		want := designCells(c, l.Units[ui], label, tr)
 		for j := 1; j < len(want); j++ {
 			if got := at(j); got != want[j] {
 				add(Error, ref(j), id, fmt.Sprintf("%s was %q in the plan and is now %q; restore it (the plan, not the sheet, says what each unit received)", heads[j], want[j], got))
@@ -255,20 +304,36 @@ func readEntry(f *excelize.File, path string, l design.Layout, opt ReadOptions) 
 	}
 	for i, u := range l.Units {
 		if _, ok := seenRow[u.ID]; !ok {
-			add(Error, "", u.ID, fmt.Sprintf("unit %s (%s) has no row: a row was deleted; add it back with its unit ID", u.ID, tr[l.Units[i].Treatment].Name))
+			what := ""
+			switch {
+			case labels != nil:
+				what = " (" + labels[i] + ")"
+			case u.Treatment >= 0:
+				what = " (" + tr[u.Treatment].Name + ")"
+			}
+			add(Error, "", u.ID, fmt.Sprintf("unit %s%s has no row: a row was deleted; add it back with its unit ID", u.ID, what))
 		}
 	}
 	for k, resp := range p.Responses {
-		missing := map[int]int{}
+		missing := map[string]int{}
+		var order []string
 		for i, u := range l.Units {
 			if _, ok := seenRow[u.ID]; ok && out.Values[k][i].Missing {
-				missing[u.Treatment]++
+				name := ""
+				switch {
+				case labels != nil:
+					name = labels[i]
+				default:
+					name = tr[u.Treatment].Name
+				}
+				if missing[name] == 0 {
+					order = append(order, name)
+				}
+				missing[name]++
 			}
 		}
-		for t := range tr {
-			if missing[t] > 0 {
-				add(Warning, "", "", fmt.Sprintf("%s: %d unit(s) of treatment %q have no value (missing)", resp.Name, missing[t], tr[t].Name))
-			}
+		for _, name := range order {
+			add(Warning, "", "", fmt.Sprintf("%s: %d unit(s) of %s %q have no value (missing)", resp.Name, missing[name], strings.ToLower(treatmentWord(p)), name))
 		}
 	}
 	return out, nil
@@ -311,3 +376,21 @@ func parseResponse(f *excelize.File, ref, raw string, r design.Response, opt Rea
 
 // ErrNotFilled is returned by Fill for a layout without responses.
 var ErrNotFilled = errors.New("workbook: the plan has no responses to fill")
+
+// ReadLayout returns the layout stored in a workbook (unblinded with key
+// when the plan is blind), without checking the Entry sheet.
+func ReadLayout(path string, key *design.Key) (design.Layout, error) {
+	f, err := excelize.OpenFile(path, excelize.Options{RawCellValue: true, UnzipSizeLimit: UnzipSizeLimit, UnzipXMLSizeLimit: UnzipXMLSizeLimit})
+	if err != nil {
+		return design.Layout{}, &FileError{Path: path, Msg: "cannot be read as an .xlsx workbook (" + err.Error() + ")"}
+	}
+	defer f.Close()
+	l, _, err := readData(f, path, key)
+	if err != nil {
+		return design.Layout{}, err
+	}
+	if l.Plan.Blind && key == nil {
+		return design.Layout{}, &FileError{Path: path, Msg: "the workbook is blind: give its key file with --key to unblind it"}
+	}
+	return l, nil
+}

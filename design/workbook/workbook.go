@@ -15,7 +15,10 @@
 //   - "allot-data" (hidden): cell B1 the plan fingerprint, B2 the SHA-256 of
 //     the stored document, B3 the number of chunks, and from A4 down the
 //     JSON document {"plan":…, "units":…} in chunks of at most 30,000
-//     characters (a cell holds 32,767). Another program may re-save the
+//     characters (a cell holds 32,767). For a blind plan the document holds
+//     the plan without its seed, units without their treatment (−1) and
+//     "labels", each unit's code; B1 is the full plan's fingerprint, which
+//     a key file must reproduce. Another program may re-save the
 //     sheet as merely hidden; reading does not depend on how hidden it is.
 package workbook
 
@@ -35,6 +38,8 @@ const (
 	headUnit      = "Unit"
 	headPosition  = "Position"
 	headTreatment = "Treatment"
+	headCode      = "Code"
+	headOrder     = "Measure order"
 	headNotes     = "Notes"
 
 	chunkSize = 30000
@@ -51,6 +56,8 @@ const (
 type stored struct {
 	Plan  json.RawMessage `json:"plan"`
 	Units json.RawMessage `json:"units"`
+	// Labels holds each unit's blind code (blind plans only).
+	Labels []string `json:"labels,omitempty"`
 }
 
 func digest(b []byte) string {

@@ -24,11 +24,13 @@ type Meta struct {
 type columns struct {
 	block     bool
 	factors   bool
+	order     bool
+	blind     bool
 	responses []design.Response
 }
 
 func layoutColumns(p design.Plan) columns {
-	return columns{block: p.Design == design.RCBD, factors: len(p.Factors) > 1, responses: p.Responses}
+	return columns{block: p.Design == design.RCBD, factors: len(p.Factors) > 1 && !p.Blind, order: p.Order, blind: p.Blind, responses: p.Responses}
 }
 
 // headers returns the Entry header row.
@@ -37,11 +39,19 @@ func (c columns) headers(p design.Plan) []string {
 	if c.block {
 		h = append(h, blockHeader(p))
 	}
-	h = append(h, headPosition, headTreatment)
+	h = append(h, headPosition)
+	if c.blind {
+		h = append(h, headCode)
+	} else {
+		h = append(h, headTreatment)
+	}
 	if c.factors {
 		for _, f := range p.Factors {
 			h = append(h, f.Name)
 		}
+	}
+	if c.order {
+		h = append(h, headOrder)
 	}
 	for _, r := range c.responses {
 		h = append(h, r.Name)
@@ -58,6 +68,9 @@ func (c columns) designCount(p design.Plan) int {
 	if c.factors {
 		n += len(p.Factors)
 	}
+	if c.order {
+		n++
+	}
 	return n
 }
 
@@ -69,15 +82,19 @@ func blockHeader(p design.Plan) string {
 	return strings.ToUpper(n[:1]) + n[1:]
 }
 
-// designCells returns the design cells of a unit's row, as written.
-func designCells(c columns, u design.Unit, tr []design.Treatment) []string {
+// designCells returns the design cells of a unit's row, as written; label
+// is the treatment name or blind code.
+func designCells(c columns, u design.Unit, label string, tr []design.Treatment) []string {
 	row := []string{u.ID}
 	if c.block {
 		row = append(row, strconv.Itoa(u.Block))
 	}
-	row = append(row, strconv.Itoa(u.Position), tr[u.Treatment].Name)
+	row = append(row, strconv.Itoa(u.Position), label)
 	if c.factors {
 		row = append(row, tr[u.Treatment].Levels...)
+	}
+	if c.order {
+		row = append(row, strconv.Itoa(u.Order))
 	}
 	return row
 }
@@ -154,9 +171,9 @@ func writeStudy(f *excelize.File, l design.Layout, meta Meta) error {
 		{"Design", designName},
 		{"Factors", strings.Join(levels, "; ")},
 		{"Treatments", strconv.Itoa(len(p.Treatments()))},
-		{"Units", strconv.Itoa(p.Units())},
+		{"Units", strconv.Itoa(p.NumUnits())},
 		{"Responses", strings.Join(resp, "; ")},
-		{"Seed", strconv.FormatUint(p.Seed, 10)},
+		{"Seed", seedText(p)},
 		{"Generator", p.Generator},
 		{"Plan fingerprint", p.Fingerprint()},
 		{"Written by", "allot " + meta.Version},
@@ -184,7 +201,7 @@ func writeStudy(f *excelize.File, l design.Layout, meta Meta) error {
 		"Leave a cell empty when a unit could not be measured, and say why in Notes.",
 		"Type numbers only (no units, no \"n/a\"); use a decimal point.",
 		"You may sort or filter the rows: allot matches rows by unit ID.",
-		"Do not change the Unit, " + blockOrNot(p) + "Position or Treatment cells.",
+		"Do not change the Unit, " + blockOrNot(p) + "Position or " + treatmentWord(p) + " cells.",
 		"Run `allot check` on the filled file before analysing it.",
 	} {
 		r++
@@ -193,6 +210,20 @@ func writeStudy(f *excelize.File, l design.Layout, meta Meta) error {
 	f.SetColWidth(SheetStudy, "A", "A", 20)
 	f.SetColWidth(SheetStudy, "B", "B", 70)
 	return nil
+}
+
+func treatmentWord(p design.Plan) string {
+	if p.Blind {
+		return headCode
+	}
+	return headTreatment
+}
+
+func seedText(p design.Plan) string {
+	if p.Blind {
+		return "kept with the unblinding key (blind study)"
+	}
+	return strconv.FormatUint(p.Seed, 10)
 }
 
 func blockOrNot(p design.Plan) string {
@@ -232,11 +263,11 @@ func writeEntry(f *excelize.File, l design.Layout) error {
 	nd := c.designCount(p)
 	for i, u := range l.Units {
 		row := i + 2
-		for j, v := range designCells(c, u, tr) {
-			// Unit ID, block and position are numbers where they look like
-			// numbers; treatment and level names are always text.
+		for j, v := range designCells(c, u, l.Label(u), tr) {
+			// Unit ID, block, position and order are numbers where they look
+			// like numbers; treatment and level names are always text.
 			n, err := strconv.Atoi(v)
-			if err == nil && j < c.numericCount() {
+			if err == nil && (j < c.numericCount() || c.order && j == nd-1) {
 				f.SetCellInt(SheetEntry, cell(j+1, row), int64(n))
 			} else {
 				f.SetCellStr(SheetEntry, cell(j+1, row), v)
@@ -305,35 +336,49 @@ func (c columns) numericCount() int {
 
 func writeMap(f *excelize.File, l design.Layout) error {
 	p := l.Plan
-	tr := p.Treatments()
 	bold, _ := f.NewStyle(&excelize.Style{Font: &excelize.Font{Bold: true}})
 	wrap, _ := f.NewStyle(&excelize.Style{Alignment: &excelize.Alignment{WrapText: true, Vertical: "top"}, Border: []excelize.Border{
 		{Type: "left", Color: "808080", Style: 1}, {Type: "right", Color: "808080", Style: 1},
 		{Type: "top", Color: "808080", Style: 1}, {Type: "bottom", Color: "808080", Style: 1}}})
 	f.SetCellStr(SheetMap, "A1", "Map: each row is a "+p.BlockName+", positions left to right; each cell shows unit ID and treatment")
 	f.SetCellStyle(SheetMap, "A1", "A1", bold)
-	for i := 1; i <= p.BlockSize(); i++ {
+	width := p.MaxBlockSize()
+	for i := 1; i <= width; i++ {
 		f.SetCellInt(SheetMap, cell(i+1, 3), int64(i))
 	}
-	f.SetCellStyle(SheetMap, cell(2, 3), cell(p.BlockSize()+1, 3), bold)
+	f.SetCellStyle(SheetMap, cell(2, 3), cell(width+1, 3), bold)
 	for _, u := range l.Units {
 		row := u.Block + 3
-		f.SetCellStr(SheetMap, cell(1, row), fmt.Sprintf("%s %d", blockHeader(p), u.Block))
-		f.SetCellStr(SheetMap, cell(u.Position+1, row), u.ID+"\n"+tr[u.Treatment].Name)
+		f.SetCellStr(SheetMap, cell(1, row), fmt.Sprintf("%s %s", blockHeader(p), p.BlockLabel(u.Block)))
+		f.SetCellStr(SheetMap, cell(u.Position+1, row), u.ID+"\n"+l.Label(u))
 	}
-	if p.BlockSize() > 0 {
-		f.SetCellStyle(SheetMap, cell(2, 4), cell(p.BlockSize()+1, p.Blocks+3), wrap)
+	if width > 0 {
+		f.SetCellStyle(SheetMap, cell(2, 4), cell(width+1, p.Blocks+3), wrap)
 	}
 	f.SetColWidth(SheetMap, "A", "A", 12)
 	return nil
 }
 
 func writeData(f *excelize.File, l design.Layout) error {
-	units, err := json.Marshal(l.Units)
+	st := stored{Plan: l.Plan.Canonical()}
+	units := l.Units
+	if l.Plan.Blind {
+		// Keep the seed and the meaning of the codes out of the workbook:
+		// the key file has them.
+		st.Plan = l.Plan.Sealed().Canonical()
+		units = make([]design.Unit, len(l.Units))
+		for i, u := range l.Units {
+			u.Treatment = -1
+			units[i] = u
+			st.Labels = append(st.Labels, l.Label(l.Units[i]))
+		}
+	}
+	ub, err := json.Marshal(units)
 	if err != nil {
 		return err
 	}
-	doc, err := json.Marshal(stored{Plan: l.Plan.Canonical(), Units: units})
+	st.Units = ub
+	doc, err := json.Marshal(st)
 	if err != nil {
 		return err
 	}

@@ -1,0 +1,222 @@
+package design
+
+import (
+	"errors"
+	"strings"
+	"testing"
+)
+
+func u64(v uint64) *uint64 { return &v }
+
+func TestResolveErrors(t *testing.T) {
+	base := Spec{Factor: []string{"feed=A,B,C"}, Seed: u64(1)}
+	tests := []struct {
+		name  string
+		edit  func(*Spec)
+		units []UnitRow
+		field string
+		want  string
+	}{
+		{"duplicate level", func(s *Spec) { s.Factor = []string{"feed=A,B,A"} }, nil, "factor", `level "A" is given twice`},
+		{"one level", func(s *Spec) { s.Factor = []string{"feed=A"} }, nil, "factor", "needs at least 2 levels"},
+		{"no factor", func(s *Spec) { s.Factor = nil }, nil, "factor", "no treatment factor"},
+		{"five factors", func(s *Spec) { s.Factor = []string{"a=1,2", "b=1,2", "c=1,2", "d=1,2", "e=1,2"} }, nil, "factor", "at most 4"},
+		{"control not a level", func(s *Spec) { s.Control = "Z" }, nil, "control", `control "Z" is not a level`},
+		{"rcbd without blocks", func(s *Spec) { s.Design = "rcbd" }, nil, "blocks", "at least 2 blocks"},
+		{"crd with blocks", func(s *Spec) { s.Blocks = 3 }, nil, "blocks", "has no blocks"},
+		{"bad design", func(s *Spec) { s.Design = "latin" }, nil, "design", `design "latin"`},
+		{"reps unknown treatment", func(s *Spec) { s.Reps = "Q=3,default=2" }, nil, "reps", `names "Q"`},
+		{"reps missing default", func(s *Spec) { s.Reps = "A=3" }, nil, "reps", `no count for treatment "B"`},
+		{"reps zero", func(s *Spec) { s.Reps = "0" }, nil, "reps", "at least 1"},
+		{"grid too small", func(s *Spec) { s.Design, s.Blocks, s.Reps, s.Grid = "rcbd", 2, "2", "2x2" }, nil, "grid", "holds 4 places, but a block has 6 units"},
+		{"grid syntax", func(s *Spec) { s.Grid = "4by6" }, nil, "grid", "ROWSxCOLS"},
+		{"response range", func(s *Spec) { s.Response = []string{"h:10..1"} }, nil, "response", "empty"},
+		{"litter too small", func(s *Spec) { s.Design, s.BlockColumn, s.BlockName = "rcbd", "litter", "litter" },
+			[]UnitRow{{ID: "a", Block: "L1"}, {ID: "b", Block: "L1"}, {ID: "c", Block: "L1"}, {ID: "d", Block: "L2"}, {ID: "e", Block: "L2"}},
+			"units", "litter L2 has 2 unit(s), fewer than the 3 treatments"},
+		{"matching remainder", func(s *Spec) { s.Design, s.MatchOn = "rcbd", "weight" },
+			[]UnitRow{{ID: "a", Covariate: f(1)}, {ID: "b", Covariate: f(2)}, {ID: "c", Covariate: f(3)}, {ID: "d", Covariate: f(4)}},
+			"units", "4 units do not divide into matched blocks of 3"},
+		{"too many units", func(s *Spec) { s.Reps = "400000" }, nil, "reps", "more than a worksheet can hold"},
+	}
+	for _, tt := range tests {
+		t.Run(tt.name, func(t *testing.T) {
+			s := base
+			tt.edit(&s)
+			_, err := s.Resolve(tt.units)
+			var e *Error
+			if !errors.As(err, &e) {
+				t.Fatalf("got %v, want *Error", err)
+			}
+			if e.Field != tt.field || !strings.Contains(e.Msg, tt.want) {
+				t.Errorf("field %q msg %q; want %q containing %q", e.Field, e.Msg, tt.field, tt.want)
+			}
+		})
+	}
+}
+
+func f(v float64) *float64 { return &v }
+
+func TestResolve(t *testing.T) {
+	s := Spec{Title: "t", Design: "rcbd", Blocks: 3, Factor: []string{"N=N0,N1", "K=K0,K1,K2"}, Reps: "N0 × K0=2,default=1", Seed: u64(5), Response: []string{"yield:0..", "height"}}
+	p, err := s.Resolve(nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(p.Treatments()) != 6 || p.Reps[0] != 2 || p.Reps[1] != 1 || p.Units != nil || p.NumUnits() != 21 {
+		t.Errorf("plan %+v", p)
+	}
+	if *p.Responses[0].Min != 0 || p.Responses[0].Max != nil || p.Responses[1].Min != nil {
+		t.Errorf("responses %+v", p.Responses)
+	}
+	if p.Treatments()[5].Name != "N1 × K2" {
+		t.Errorf("treatment order: %v", p.Treatments())
+	}
+}
+
+func TestCanonicalAndFingerprint(t *testing.T) {
+	p, err := Spec{Factor: []string{"feed=A,B"}, Seed: u64(9)}.Resolve(nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	q, err := ParsePlan(p.Canonical())
+	if err != nil {
+		t.Fatal(err)
+	}
+	if q.Fingerprint() != p.Fingerprint() || len(p.Fingerprint()) != 64 {
+		t.Error("fingerprint does not survive a round trip")
+	}
+	q.Seed++
+	if q.Fingerprint() == p.Fingerprint() {
+		t.Error("fingerprint ignores the seed")
+	}
+	if _, err := ParsePlan([]byte(`{"title":"x","extra":1}`)); err == nil {
+		t.Error("unknown field accepted")
+	}
+}
+
+func TestParseSpec(t *testing.T) {
+	s, err := ParseSpec("trial.toml", []byte(`
+title = "Lettuce"
+design = "rcbd"
+blocks = 4
+block_name = "bench"
+factor = ["nitrogen=N0,N50,N100"]
+response = ["fresh_g:0..800"]
+seed = 20261201
+grid = "2x2"
+numbering = "serpentine"
+order = true
+`))
+	if err != nil {
+		t.Fatal(err)
+	}
+	p, err := s.Resolve(nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if p.Blocks != 4 || p.Grid.Numbering != Serpentine || !p.Order || p.Seed != 20261201 {
+		t.Errorf("%+v", p)
+	}
+	if _, err := ParseSpec("x.toml", []byte("blokcs = 4\n")); err == nil || !strings.Contains(err.Error(), "blokcs") {
+		t.Errorf("misspelt key: %v", err)
+	}
+}
+
+func TestReadUnitList(t *testing.T) {
+	csv := "tag,litter,weight\nM1,L1,20\nM2,L1,21\n\nM3,L2,19.5\n"
+	rows, err := ReadUnitList(strings.NewReader(csv), "mice.csv", "tag", "litter", "weight")
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(rows) != 3 || rows[2].ID != "M3" || rows[2].Block != "L2" || *rows[2].Covariate != 19.5 || rows[2].Line != 5 {
+		t.Errorf("%+v", rows)
+	}
+	for _, tt := range []struct{ csv, want string }{
+		{"tag\nM1\nM1\n", `line 3 column "tag": unit ID "M1" already appears on line 2`},
+		{"id\nM1\n", `column "tag": no such column`},
+		{"tag,weight\nM1,heavy\n", `line 2 column "weight": "heavy" is not a number`},
+		{"tag\n", "needs a header row and at least one unit"},
+	} {
+		_, err := ReadUnitList(strings.NewReader(tt.csv), "mice.csv", "tag", "", map[bool]string{true: "weight"}[strings.Contains(tt.csv, "weight")])
+		if err == nil || !strings.Contains(err.Error(), tt.want) {
+			t.Errorf("%q: got %v, want %q", tt.csv, err, tt.want)
+		}
+	}
+}
+
+func TestGridPlace(t *testing.T) {
+	g := Grid{Rows: 2, Cols: 3, Numbering: Serpentine}
+	want := [][2]int{{1, 1}, {1, 2}, {1, 3}, {2, 3}, {2, 2}, {2, 1}}
+	for i, w := range want {
+		if r, c := g.Place(i + 1); r != w[0] || c != w[1] {
+			t.Errorf("position %d at %d,%d; want %v", i+1, r, c, w)
+		}
+	}
+}
+
+func TestPlural(t *testing.T) {
+	for in, want := range map[string]string{"bench": "benches", "litter": "litters", "day": "days", "colony": "colonies", "box": "boxes", "rack": "racks"} {
+		if got := Plural(in); got != want {
+			t.Errorf("Plural(%q) = %q, want %q", in, got, want)
+		}
+	}
+}
+
+// The parsers never panic; what parses re-parses to the same value.
+func FuzzParseReps(f *testing.F) {
+	for _, s := range []string{"3", "A=2,default=1", "A=x", "", "default=4", ",=,"} {
+		f.Add(s)
+	}
+	tr := Plan{Factors: []Factor{{Name: "t", Levels: []string{"A", "B"}}}}.Treatments()
+	f.Fuzz(func(t *testing.T, s string) {
+		reps, err := ParseReps(s, tr)
+		if err != nil {
+			return
+		}
+		for _, r := range reps {
+			if r < 1 {
+				t.Fatalf("%q gave replication %d", s, r)
+			}
+		}
+	})
+}
+
+func FuzzParseSpec(f *testing.F) {
+	f.Add([]byte("title = \"x\"\nfactor = [\"a=1,2\"]\nseed = 3\n"))
+	f.Add([]byte("design = \"rcbd\"\nblocks = 2\nfactor = [\"a=1,2\", \"b=x,y\"]\nreps = \"2\"\nseed = 1\ngrid = \"2x2\"\n"))
+	f.Add([]byte("= broken"))
+	f.Fuzz(func(t *testing.T, b []byte) {
+		s, err := ParseSpec("fuzz.toml", b)
+		if err != nil {
+			return
+		}
+		p, err := s.Resolve(nil)
+		if err != nil {
+			return
+		}
+		// A resolved plan round-trips through its canonical JSON.
+		q, err := ParsePlan(p.Canonical())
+		if err != nil || q.Fingerprint() != p.Fingerprint() {
+			t.Fatalf("canonical round trip failed: %v", err)
+		}
+	})
+}
+
+func FuzzReadUnitList(f *testing.F) {
+	f.Add("id,litter,w\n1,a,2\n2,a,3\n")
+	f.Add("id\n\"unterminated\n")
+	f.Fuzz(func(t *testing.T, s string) {
+		rows, err := ReadUnitList(strings.NewReader(s), "fuzz.csv", "id", "", "")
+		if err != nil {
+			return
+		}
+		seen := map[string]bool{}
+		for _, r := range rows {
+			if r.ID == "" || seen[r.ID] {
+				t.Fatalf("empty or duplicate ID accepted: %q", r.ID)
+			}
+			seen[r.ID] = true
+		}
+	})
+}
