@@ -1,6 +1,7 @@
 package design
 
 import (
+	"encoding/json"
 	"fmt"
 	"strconv"
 )
@@ -123,4 +124,27 @@ func (p Plan) Replication(b, t int) (lo, hi int) {
 		return lo, lo + 1
 	}
 	return lo, lo
+}
+
+// ParseLayout decodes a layout file (the JSON of allot layout -o FILE.json:
+// the plan, its fingerprint and the units), checking the fingerprint and the
+// layout's invariants.
+func ParseLayout(b []byte) (Layout, error) {
+	var doc struct {
+		Fingerprint string `json:"fingerprint"`
+		Layout
+	}
+	if err := json.Unmarshal(b, &doc); err != nil {
+		return Layout{}, fmt.Errorf("not a layout JSON file: %w", err)
+	}
+	if err := doc.Plan.Validate(); err != nil {
+		return Layout{}, fmt.Errorf("the recorded plan is not valid: %w", err)
+	}
+	if doc.Fingerprint != doc.Plan.Fingerprint() {
+		return Layout{}, fmt.Errorf("the plan does not match its fingerprint %.12s…: the file was edited", doc.Fingerprint)
+	}
+	if err := doc.Layout.Check(); err != nil {
+		return Layout{}, fmt.Errorf("the recorded layout is inconsistent: %w", err)
+	}
+	return doc.Layout, nil
 }

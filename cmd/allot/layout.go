@@ -336,12 +336,22 @@ func verifyRun(s *streams, o *verifyOptions) error {
 		if err != nil {
 			return inputErr(err)
 		}
-		if err := json.Unmarshal(b, &lay); err != nil {
+		// Verify re-derives the assignment itself, so only the plan must be
+		// sound here: a moved unit is what verify reports, not an error.
+		var doc struct {
+			Fingerprint string `json:"fingerprint"`
+			design.Layout
+		}
+		if err := json.Unmarshal(b, &doc); err != nil {
 			return inputErr(fmt.Errorf("%s: not a layout JSON file: %w", o.file, err))
 		}
-		if err := lay.Plan.Validate(); err != nil {
+		if err := doc.Plan.Validate(); err != nil {
 			return inputErr(fmt.Errorf("%s: the recorded plan is not valid: %w", o.file, err))
 		}
+		if doc.Fingerprint != doc.Plan.Fingerprint() {
+			return inputErr(fmt.Errorf("%s: the plan does not match its fingerprint: the plan was edited", o.file))
+		}
+		lay = doc.Layout
 	default:
 		return usagef("%s: give a workbook (.xlsx) or a layout (.json)", o.file)
 	}

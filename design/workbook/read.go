@@ -1,7 +1,9 @@
 package workbook
 
 import (
+	"encoding/csv"
 	"encoding/json"
+	"io"
 	"errors"
 	"fmt"
 	"regexp"
@@ -210,13 +212,24 @@ func readData(f *excelize.File, path string, key *design.Key) (design.Layout, []
 }
 
 func readEntry(f *excelize.File, path string, l design.Layout, labels []string, opt ReadOptions) (*Filled, error) {
-	p := l.Plan
-	c := layoutColumns(p)
-	heads := c.headers(p)
 	rows, err := f.GetRows(SheetEntry, excelize.Options{RawCellValue: true})
 	if err != nil {
 		return nil, &FileError{Path: path, Sheet: SheetEntry, Msg: "the data-entry sheet is missing or unreadable (" + err.Error() + ")"}
 	}
+	isText := func(ref string) bool {
+		typ, _ := f.GetCellType(SheetEntry, ref)
+		return typ != excelize.CellTypeNumber && typ != excelize.CellTypeUnset
+	}
+	return checkRows(path, SheetEntry, rows, isText, l, labels, opt)
+}
+
+// checkRows checks the data rows of an Entry sheet or its CSV twin. isText
+// tells whether a cell holds text rather than a number (nil: every cell is
+// text, as in CSV, where a number in text is normal and not reported).
+func checkRows(path, sheet string, rows [][]string, isText func(ref string) bool, l design.Layout, labels []string, opt ReadOptions) (*Filled, error) {
+	p := l.Plan
+	c := layoutColumns(p)
+	heads := c.headers(p)
 	out := &Filled{Layout: l}
 	for _, r := range p.Responses {
 		out.Responses = append(out.Responses, r.Name)
@@ -229,10 +242,10 @@ func readEntry(f *excelize.File, path string, l design.Layout, labels []string, 
 		}
 	}
 	add := func(sev Severity, cellRef, unit, msg string) {
-		out.Problems = append(out.Problems, Problem{Severity: sev, Level: sev.String(), Sheet: SheetEntry, Cell: cellRef, Unit: unit, Msg: msg})
+		out.Problems = append(out.Problems, Problem{Severity: sev, Level: sev.String(), Sheet: sheet, Cell: cellRef, Unit: unit, Msg: msg})
 	}
 	if len(rows) == 0 {
-		return nil, &FileError{Path: path, Sheet: SheetEntry, Cell: "A1", Msg: "the sheet is empty: the header row and unit rows were deleted"}
+		return nil, &FileError{Path: path, Sheet: sheet, Cell: "A1", Msg: "the sheet is empty: the header row and unit rows were deleted"}
 	}
 	for i, h := range heads {
 		got := ""
@@ -240,7 +253,7 @@ func readEntry(f *excelize.File, path string, l design.Layout, labels []string, 
 			got = strings.TrimSpace(rows[0][i])
 		}
 		if got != h {
-			return nil, &FileError{Path: path, Sheet: SheetEntry, Cell: cell(i+1, 1), Msg: fmt.Sprintf("header %q where %q belongs: columns were moved, renamed or deleted; restore the column order", got, h)}
+			return nil, &FileError{Path: path, Sheet: sheet, Cell: cell(i+1, 1), Msg: fmt.Sprintf("header %q where %q belongs: columns were moved, renamed or deleted; restore the column order", got, h)}
 		}
 	}
 	index := map[string]int{}
@@ -291,7 +304,8 @@ func readEntry(f *excelize.File, path string, l design.Layout, labels []string, 
 		}
 		for k, resp := range p.Responses {
 			j := nd + k
-			v, prob := parseResponse(f, ref(j), at(j), resp, opt)
+			text := isText != nil && isText(ref(j))
+			v, prob := parseResponse(ref(j), at(j), text || isText == nil, isText == nil, resp, opt)
 			if prob != "" {
 				sev := Error
 				if v.Text != "" {
@@ -341,15 +355,14 @@ func readEntry(f *excelize.File, path string, l design.Layout, labels []string, 
 
 // parseResponse checks one response cell. It returns the value and, when
 // something is wrong, a message; a message with a usable value is a warning.
-func parseResponse(f *excelize.File, ref, raw string, r design.Response, opt ReadOptions) (Value, string) {
+func parseResponse(ref, raw string, isText, textNormal bool, r design.Response, opt ReadOptions) (Value, string) {
 	v := Value{Cell: ref, Missing: true}
 	if raw == "" {
 		return v, ""
 	}
-	typ, _ := f.GetCellType(SheetEntry, ref)
 	text := raw
 	var warn string
-	if typ != excelize.CellTypeNumber && typ != excelize.CellTypeUnset {
+	if isText {
 		switch {
 		case decimalComma.MatchString(raw):
 			if !opt.DecimalComma {
@@ -360,7 +373,9 @@ func parseResponse(f *excelize.File, ref, raw string, r design.Response, opt Rea
 			if _, err := strconv.ParseFloat(raw, 64); err != nil {
 				return v, fmt.Sprintf("%q is not a number; correct the cell (leave it empty if the unit was not measured)", raw)
 			}
-			warn = fmt.Sprintf("%q is a number stored as text; it was read as %s", raw, raw)
+			if !textNormal {
+				warn = fmt.Sprintf("%q is a number stored as text; it was read as %s", raw, raw)
+			}
 		}
 	}
 	x, err := strconv.ParseFloat(text, 64)
@@ -393,4 +408,29 @@ func ReadLayout(path string, key *design.Key) (design.Layout, error) {
 		return design.Layout{}, &FileError{Path: path, Msg: "the workbook is blind: give its key file with --key to unblind it"}
 	}
 	return l, nil
+}
+
+// ReadCSV checks a CSV export of the Entry sheet (header row and unit rows,
+// as allot layout -o FILE.csv writes them, filled in) against layout l. The
+// cells are named as in the sheet (A1 is the first header), under the
+// sheet name "CSV". A blind layout needs its key in opt.
+func ReadCSV(r io.Reader, path string, l design.Layout, opt ReadOptions) (*Filled, error) {
+	cr := csv.NewReader(r)
+	cr.FieldsPerRecord = -1
+	rows, err := cr.ReadAll()
+	if err != nil {
+		return nil, &FileError{Path: path, Msg: "not a readable CSV file: " + err.Error()}
+	}
+	for _, row := range rows {
+		for j := range row {
+			row[j] = UnescapeCell(row[j])
+		}
+	}
+	var labels []string
+	if l.Plan.Blind {
+		for _, u := range l.Units {
+			labels = append(labels, l.Label(u))
+		}
+	}
+	return checkRows(path, "CSV", rows, nil, l, labels, opt)
 }

@@ -282,7 +282,9 @@ func writeEntry(f *excelize.File, l design.Layout) error {
 		col := nd + 1 + k
 		dv := excelize.NewDataValidation(true)
 		dv.SetSqref(cell(col, 2) + ":" + cell(col, max(last, 2)))
-		lo, hi := -1e307, 1e307
+		// Unbounded sides get ±1E+300, written as formula text: excelize
+		// spells float bounds out in full, longer than a formula may be.
+		var lo, hi any = "-1E+300", "1E+300"
 		if r.Min != nil {
 			lo = *r.Min
 		}

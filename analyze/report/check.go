@@ -1,0 +1,88 @@
+package report
+
+import (
+	"encoding/json"
+	"fmt"
+	"io"
+	"strings"
+
+	"allot/design/workbook"
+)
+
+// CheckText writes the result of a read-back check: what was read, every
+// problem with its sheet and cell, and the count of values per response.
+func CheckText(w io.Writer, path string, fl *workbook.Filled) error {
+	var b strings.Builder
+	p := fl.Layout.Plan
+	fmt.Fprintf(&b, "%s: plan %q (fingerprint %.12s), %d units, responses: %s\n", path, p.Title, p.Fingerprint(), len(fl.Layout.Units), strings.Join(fl.Responses, ", "))
+	if fl.Sealed {
+		b.WriteString("  blind workbook read without its key: treatments stay hidden; give --key to unblind\n")
+	}
+	nerr, nwarn := 0, 0
+	for _, pr := range fl.Problems {
+		if pr.Severity == workbook.Error {
+			nerr++
+		} else {
+			nwarn++
+		}
+		b.WriteString(wrap(pr.String(), 100, "  "))
+	}
+	total := 0
+	for k, r := range fl.Responses {
+		have := 0
+		for _, v := range fl.Values[k] {
+			if !v.Missing {
+				have++
+			}
+		}
+		fmt.Fprintf(&b, "  %s: %d of %d units have a value\n", r, have, len(fl.Values[k]))
+		total += have
+	}
+	switch {
+	case nerr == 0 && total == 0:
+		b.WriteString("Result: no errors, but no values have been entered yet.\n")
+	case nerr > 0:
+		fmt.Fprintf(&b, "Result: %s and %s: correct the cells named above and run allot check again.\n", plural(nerr, "error", "errors"), plural(nwarn, "warning", "warnings"))
+	case nwarn > 0:
+		fmt.Fprintf(&b, "Result: no errors, %s; the data can be analysed.\n", plural(nwarn, "warning", "warnings"))
+	default:
+		b.WriteString("Result: no problems; the data can be analysed.\n")
+	}
+	_, err := io.WriteString(w, b.String())
+	return err
+}
+
+// CheckJSON writes the check result as JSON.
+func CheckJSON(w io.Writer, path string, fl *workbook.Filled) error {
+	type resp struct {
+		Name    string `json:"name"`
+		Values  int    `json:"values"`
+		Missing int    `json:"missing"`
+	}
+	out := struct {
+		File        string             `json:"file"`
+		Fingerprint string             `json:"plan_fingerprint"`
+		Units       int                `json:"units"`
+		Sealed      bool               `json:"blind_sealed"`
+		Errors      int                `json:"errors"`
+		Problems    []workbook.Problem `json:"problems"`
+		Responses   []resp             `json:"responses"`
+	}{File: path, Fingerprint: fl.Layout.Plan.Fingerprint(), Units: len(fl.Layout.Units), Sealed: fl.Sealed, Errors: fl.Errors(), Problems: fl.Problems}
+	if out.Problems == nil {
+		out.Problems = []workbook.Problem{}
+	}
+	for k, r := range fl.Responses {
+		rr := resp{Name: r}
+		for _, v := range fl.Values[k] {
+			if v.Missing {
+				rr.Missing++
+			} else {
+				rr.Values++
+			}
+		}
+		out.Responses = append(out.Responses, rr)
+	}
+	enc := json.NewEncoder(w)
+	enc.SetIndent("", "  ")
+	return enc.Encode(out)
+}

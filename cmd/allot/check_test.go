@@ -1,0 +1,96 @@
+package main
+
+import (
+	"bytes"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+
+	"github.com/xuri/excelize/v2"
+)
+
+func TestCheckParse(t *testing.T) {
+	var got *checkOptions
+	cmd := newCheckCmd(&streams{Out: &bytes.Buffer{}, Err: &bytes.Buffer{}}, func(o *checkOptions) error { got = o; return nil })
+	cmd.SetArgs([]string{"data.csv", "--plan", "layout.json", "--decimal-comma", "--key", "k.json", "--json"})
+	if err := cmd.Execute(); err != nil {
+		t.Fatal(err)
+	}
+	if got.file != "data.csv" || got.plan != "layout.json" || !got.decimalComma || got.key != "k.json" || !got.json {
+		t.Errorf("%+v", got)
+	}
+}
+
+// layoutFiles writes a small layout as workbook, CSV and JSON into dir.
+func layoutFiles(t *testing.T, dir string) {
+	t.Helper()
+	for _, ext := range []string{"xlsx", "csv", "json"} {
+		code, _, errs := runArgs(t, "layout", "--title", "Check test", "--factor", "feed=F0,F1,F2", "--design", "rcbd", "--blocks", "2",
+			"--block-name", "bench", "--seed", "5", "--response", "height_cm:0..100", "-o", filepath.Join(dir, "trial."+ext))
+		if code != 0 {
+			t.Fatal(errs)
+		}
+	}
+}
+
+func TestCheckRun(t *testing.T) {
+	dir := t.TempDir()
+	layoutFiles(t, dir)
+	wb := filepath.Join(dir, "trial.xlsx")
+	f, err := excelize.OpenFile(wb)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for r := 2; r <= 7; r++ {
+		f.SetCellFloat("Entry", "E"+string(rune('0'+r)), float64(10*r)+0.5, -1, 64)
+	}
+	f.SetCellStr("Entry", "E4", "n/a")
+	f.SaveAs(wb)
+
+	code, out, _ := runArgs(t, "check", wb)
+	want := `trial.xlsx: plan "Check test"`
+	if code != exitFailed || !strings.Contains(out, want) || !strings.Contains(out, `error: sheet "Entry" cell E4 (unit 103): "n/a" is not a number`) || !strings.Contains(out, "Result: 1 error and 1 warning") {
+		t.Errorf("exit %d:\n%s", code, out)
+	}
+	golden(t, "check_workbook", strings.ReplaceAll(out, dir+string(os.PathSeparator), ""))
+
+	// CSV with its layout.
+	csvPath := filepath.Join(dir, "trial.csv")
+	b, _ := os.ReadFile(csvPath)
+	lines := strings.Split(strings.TrimSpace(string(b)), "\n")
+	for i := 1; i < len(lines); i++ {
+		lines[i] = strings.Replace(lines[i], ",,", ",12,5,", 1)
+	}
+	os.WriteFile(csvPath, []byte(strings.Join(lines, "\n")+"\n"), 0o644)
+	code, out, _ = runArgs(t, "check", csvPath, "--plan", filepath.Join(dir, "trial.json"))
+	if code != 0 {
+		// "12,5" split by the CSV reader into two fields: 12 in height_cm, 5 in Notes.
+		t.Errorf("csv: exit %d\n%s", code, out)
+	}
+	code, out, _ = runArgs(t, "check", csvPath)
+	if code != exitUsage {
+		t.Errorf("csv without --plan: exit %d %s", code, out)
+	}
+}
+
+func TestCheckBadInput(t *testing.T) {
+	dir := t.TempDir()
+	junk := filepath.Join(dir, "junk.xlsx")
+	os.WriteFile(junk, []byte("not a workbook"), 0o644)
+	tests := []struct {
+		args []string
+		want string
+	}{
+		{[]string{junk}, "cannot be read as an .xlsx workbook"},
+		{[]string{filepath.Join(dir, "x.ods")}, "give a workbook (.xlsx) or a CSV file"},
+		{[]string{}, "check takes one FILE"},
+		{[]string{junk, "--plan", "p.json"}, "--plan p.json: a workbook carries its plan"},
+	}
+	for _, tt := range tests {
+		code, _, errs := runArgs(t, append([]string{"check"}, tt.args...)...)
+		if code != exitUsage || !strings.Contains(errs, tt.want) {
+			t.Errorf("%v: exit %d, %q; want 2 and %q", tt.args, code, errs, tt.want)
+		}
+	}
+}

@@ -1,0 +1,335 @@
+package workbook
+
+import (
+	"errors"
+	"fmt"
+	"os"
+	"os/exec"
+	"path/filepath"
+	"strings"
+	"testing"
+	"time"
+
+	"allot/design"
+	"allot/randomize"
+
+	"github.com/xuri/excelize/v2"
+)
+
+func f64(v float64) *float64 { return &v }
+
+func testLayout(t testing.TB, blind bool) design.Layout {
+	t.Helper()
+	p := design.Plan{
+		Title: "workbook test", Design: design.RCBD,
+		Factors:   []design.Factor{{Name: "feed", Levels: []string{"F0", "F1", "F2"}}},
+		Reps:      []int{1, 1, 1}, Blocks: 3, BlockName: "bench",
+		Responses: []design.Response{{Name: "height_cm", Min: f64(0), Max: f64(200)}, {Name: "mass_g"}},
+		Seed:      17, Blind: blind,
+	}
+	l, err := randomize.Assign(p)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return l
+}
+
+var meta = Meta{Version: "test", Created: time.Date(2026, 12, 1, 0, 0, 0, 0, time.UTC)}
+
+// filled writes the workbook and types values into it as a person would:
+// height = 10·row index + .25, mass a large value with one decimal.
+func filled(t *testing.T, l design.Layout) (string, *excelize.File) {
+	t.Helper()
+	path := filepath.Join(t.TempDir(), "trial.xlsx")
+	if err := Write(path, l, meta, false); err != nil {
+		t.Fatal(err)
+	}
+	f, err := excelize.OpenFile(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	c := layoutColumns(l.Plan)
+	nd := c.designCount(l.Plan)
+	for i := range l.Units {
+		f.SetCellFloat(SheetEntry, cell(nd+1, i+2), float64(10*i)+0.25, -1, 64)
+		f.SetCellValue(SheetEntry, cell(nd+2, i+2), 1000000000000.4+float64(i))
+	}
+	return path, f
+}
+
+func save(t *testing.T, f *excelize.File, path string) {
+	t.Helper()
+	if err := f.SaveAs(path); err != nil {
+		t.Fatal(err)
+	}
+}
+
+func TestRoundTrip(t *testing.T) {
+	l := testLayout(t, false)
+	path, f := filled(t, l)
+	save(t, f, path)
+	fl, err := Read(path, ReadOptions{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(fl.Problems) != 0 {
+		t.Fatalf("problems: %v", fl.Problems)
+	}
+	for i := range l.Units {
+		if got, want := fl.Values[0][i].Text, fmt.Sprint(float64(10*i)+0.25); got != want {
+			t.Errorf("unit %d height %q, want %q", i, got, want)
+		}
+		if got, want := fl.Values[1][i].Text, fmt.Sprintf("%.1f", 1000000000000.4+float64(i)); got != want {
+			t.Errorf("unit %d mass %q, want %q (every digit)", i, got, want)
+		}
+	}
+	if fl.Layout.Plan.Fingerprint() != l.Plan.Fingerprint() {
+		t.Error("plan changed in the round trip")
+	}
+}
+
+func TestMutations(t *testing.T) {
+	l := testLayout(t, false)
+	const (
+		colBlock = 2 // B
+		colTreat = 4 // D
+		colH     = 5 // E
+	)
+	tests := []struct {
+		name   string
+		mutate func(f *excelize.File)
+		opt    ReadOptions
+		fatal  string // a *FileError containing this
+		sev    Severity
+		cell   string
+		msg    string
+		clean  bool
+	}{
+		{name: "sorted rows are harmless", clean: true, mutate: func(f *excelize.File) {
+			// Reverse the data rows, as sorting by a column would.
+			rows, _ := f.GetRows(SheetEntry, excelize.Options{RawCellValue: true})
+			data := rows[1:]
+			for k := range data {
+				r := data[len(data)-1-k]
+				row := k + 2
+				for j, v := range r {
+					var n float64
+					if _, err := fmt.Sscan(v, &n); err == nil && j != 3 {
+						f.SetCellFloat(SheetEntry, cell(j+1, row), n, -1, 64)
+					} else {
+						f.SetCellStr(SheetEntry, cell(j+1, row), v)
+					}
+				}
+			}
+		}},
+		{name: "deleted row", mutate: func(f *excelize.File) { f.RemoveRow(SheetEntry, 3) }, sev: Error, msg: "unit 102", cell: ""},
+		{name: "duplicated row", mutate: func(f *excelize.File) { f.DuplicateRowTo(SheetEntry, 2, 11) }, sev: Error, cell: "A11", msg: "appears again (first in A2)"},
+		{name: "swapped treatments", mutate: func(f *excelize.File) {
+			a, _ := f.GetCellValue(SheetEntry, "D2")
+			b, _ := f.GetCellValue(SheetEntry, "D3")
+			f.SetCellStr(SheetEntry, "D2", b)
+			f.SetCellStr(SheetEntry, "D3", a)
+		}, sev: Error, cell: "D2", msg: "Treatment was"},
+		{name: "edited block", mutate: func(f *excelize.File) { f.SetCellInt(SheetEntry, cell(colBlock, 4), 3) }, sev: Error, cell: "B4", msg: `Bench was "1" in the plan and is now "3"`},
+		{name: "text in a number cell", mutate: func(f *excelize.File) { f.SetCellStr(SheetEntry, "E5", "n/a") }, sev: Error, cell: "E5", msg: `"n/a" is not a number`},
+		{name: "decimal comma", mutate: func(f *excelize.File) { f.SetCellStr(SheetEntry, "E5", "12,5") }, sev: Error, cell: "E5", msg: "--decimal-comma"},
+		{name: "decimal comma accepted", opt: ReadOptions{DecimalComma: true}, clean: true, mutate: func(f *excelize.File) { f.SetCellStr(SheetEntry, "E5", "12,5") }},
+		{name: "number stored as text", mutate: func(f *excelize.File) { f.SetCellStr(SheetEntry, "E5", "12.5") }, sev: Warning, cell: "E5", msg: "number stored as text"},
+		{name: "out of range", mutate: func(f *excelize.File) { f.SetCellFloat(SheetEntry, "E5", 999, -1, 64) }, sev: Error, cell: "E5", msg: "outside the declared range 0..200"},
+		{name: "blank response", mutate: func(f *excelize.File) { f.SetCellValue(SheetEntry, "E5", nil) }, sev: Warning, msg: "1 unit(s) of treatment"},
+		{name: "unknown unit", mutate: func(f *excelize.File) { f.SetCellInt(SheetEntry, "A4", 999) }, sev: Error, cell: "A4", msg: `unit "999" is not in the plan`},
+		{name: "moved column", mutate: func(f *excelize.File) { f.SetCellStr(SheetEntry, "E1", "mass_g") }, fatal: `cell E1: header "mass_g" where "height_cm" belongs`},
+		{name: "plan sheet deleted", mutate: func(f *excelize.File) { f.DeleteSheet(SheetData) }, fatal: "hidden plan sheet is missing"},
+		{name: "plan JSON edited", mutate: func(f *excelize.File) {
+			v, _ := f.GetCellValue(SheetData, "A4")
+			f.SetCellStr(SheetData, "A4", strings.Replace(v, `"seed":17`, `"seed":18`, 1))
+		}, fatal: "does not match its checksum"},
+	}
+	for _, tt := range tests {
+		t.Run(tt.name, func(t *testing.T) {
+			path, f := filled(t, l)
+			tt.mutate(f)
+			save(t, f, path)
+			before, _ := os.ReadFile(path)
+			fl, err := Read(path, tt.opt)
+			after, _ := os.ReadFile(path)
+			if string(before) != string(after) {
+				t.Error("Read modified the file")
+			}
+			if tt.fatal != "" {
+				var fe *FileError
+				if !errors.As(err, &fe) || !strings.Contains(err.Error(), tt.fatal) {
+					t.Fatalf("got %v, want a FileError with %q", err, tt.fatal)
+				}
+				return
+			}
+			if err != nil {
+				t.Fatal(err)
+			}
+			if tt.clean {
+				if len(fl.Problems) != 0 {
+					t.Errorf("problems: %v", fl.Problems)
+				}
+				return
+			}
+			for _, p := range fl.Problems {
+				if p.Severity == tt.sev && p.Cell == tt.cell && strings.Contains(p.Msg, tt.msg) {
+					return
+				}
+			}
+			t.Errorf("no %s at %q with %q; got %v", tt.sev, tt.cell, tt.msg, fl.Problems)
+		})
+	}
+}
+
+func TestBlind(t *testing.T) {
+	l := testLayout(t, true)
+	path, f := filled(t, l)
+	save(t, f, path)
+	// Nothing in the workbook names a treatment or the seed.
+	g, _ := excelize.OpenFile(path)
+	for _, sheet := range g.GetSheetList() {
+		rows, _ := g.GetRows(sheet)
+		for _, r := range rows {
+			for _, v := range r {
+				if strings.Contains(v, `"seed":17`) || v == "F1" || strings.Contains(v, "\nF1") {
+					t.Errorf("sheet %s reveals the blind: %q", sheet, v)
+				}
+			}
+		}
+	}
+	fl, err := Read(path, ReadOptions{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !fl.Sealed || fl.Errors() != 0 {
+		t.Errorf("sealed %v, problems %v", fl.Sealed, fl.Problems)
+	}
+	key := design.KeyOf(l)
+	fl, err = Read(path, ReadOptions{Key: &key})
+	if err != nil || fl.Sealed || fl.Layout.Units[0].Treatment != l.Units[0].Treatment {
+		t.Fatalf("with key: %v", err)
+	}
+	other := testLayout(t, true)
+	other.Plan.Seed = 18
+	other, _ = randomize.Assign(other.Plan)
+	wrong := design.KeyOf(other)
+	if _, err := Read(path, ReadOptions{Key: &wrong}); err == nil || !strings.Contains(err.Error(), "the key belongs to another plan") {
+		t.Errorf("wrong key: %v", err)
+	}
+}
+
+func TestRefusesOverwrite(t *testing.T) {
+	l := testLayout(t, false)
+	path := filepath.Join(t.TempDir(), "x.xlsx")
+	os.WriteFile(path, []byte("user data"), 0o644)
+	if err := Write(path, l, meta, false); err == nil || !strings.Contains(err.Error(), "--force") {
+		t.Fatalf("got %v", err)
+	}
+	if b, _ := os.ReadFile(path); string(b) != "user data" {
+		t.Error("file replaced")
+	}
+	if err := Write(path, l, meta, true); err != nil {
+		t.Fatal(err)
+	}
+}
+
+func TestNotAWorkbook(t *testing.T) {
+	path := filepath.Join(t.TempDir(), "x.xlsx")
+	os.WriteFile(path, []byte("this is not a zip"), 0o644)
+	_, err := Read(path, ReadOptions{})
+	var fe *FileError
+	if !errors.As(err, &fe) || !strings.Contains(err.Error(), "cannot be read as an .xlsx workbook") {
+		t.Errorf("got %v", err)
+	}
+}
+
+// TestLibreOfficeRoundTrip re-saves a filled workbook in another
+// spreadsheet program and reads it back: the data must be identical.
+func TestLibreOfficeRoundTrip(t *testing.T) {
+	lo, err := exec.LookPath("libreoffice")
+	if err != nil {
+		t.Skip("libreoffice not installed (Debian package libreoffice-calc-nogui; .ci/run installs it): skipping the re-save check")
+	}
+	l := testLayout(t, false)
+	path, f := filled(t, l)
+	save(t, f, path)
+	out := filepath.Join(t.TempDir(), "resaved")
+	home := t.TempDir() // a fresh profile, so parallel runs do not collide
+	cmd := exec.Command(lo, "--headless", "--norestore", "-env:UserInstallation=file://"+home, "--convert-to", "xlsx", "--outdir", out, path)
+	if b, err := cmd.CombinedOutput(); err != nil {
+		t.Fatalf("libreoffice: %v\n%s", err, b)
+	}
+	want, err := Read(path, ReadOptions{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	got, err := Read(filepath.Join(out, "trial.xlsx"), ReadOptions{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(got.Problems) != 0 {
+		t.Errorf("problems after re-save: %v", got.Problems)
+	}
+	for k := range want.Values {
+		for i := range want.Values[k] {
+			if got.Values[k][i].Text != want.Values[k][i].Text {
+				t.Errorf("response %d unit %d: %q after re-save, %q before", k, i, got.Values[k][i].Text, want.Values[k][i].Text)
+			}
+		}
+	}
+}
+
+// FuzzReadWorkbook feeds mutated workbooks and random bytes to the reader:
+// it must never panic, and must return either a result or an error. Run it
+// with -fuzzminimizetime=0: minimising an 8 kB workbook input byte by byte
+// takes minutes and looks like a stall.
+func FuzzReadWorkbook(f *testing.F) {
+	l := testLayout(f, false)
+	dir := f.TempDir()
+	path := filepath.Join(dir, "seed.xlsx")
+	if err := Write(path, l, meta, false); err != nil {
+		f.Fatal(err)
+	}
+	valid, _ := os.ReadFile(path)
+	f.Add(valid)
+	f.Add([]byte("PK\x03\x04 not really a zip"))
+	f.Add([]byte{})
+	f.Fuzz(func(t *testing.T, b []byte) {
+		p := filepath.Join(t.TempDir(), "f.xlsx")
+		if err := os.WriteFile(p, b, 0o644); err != nil {
+			t.Fatal(err)
+		}
+		fl, err := Read(p, ReadOptions{})
+		if err == nil && fl == nil {
+			t.Fatal("nil result without error")
+		}
+	})
+}
+
+func BenchmarkWorkbook(b *testing.B) {
+	for _, blocks := range []int{100, 1000} {
+		p := design.Plan{Title: "bench", Design: design.RCBD,
+			Factors: []design.Factor{{Name: "t", Levels: []string{"a", "b", "c", "d", "e", "f", "g", "h", "i", "j"}}},
+			Reps:    []int{1, 1, 1, 1, 1, 1, 1, 1, 1, 1}, Blocks: blocks, BlockName: "bench",
+			Responses: []design.Response{{Name: "y", Min: f64(0), Max: f64(100)}}, Seed: 1}
+		l, err := randomize.Assign(p)
+		if err != nil {
+			b.Fatal(err)
+		}
+		b.Run(fmt.Sprintf("units=%d/write+read", blocks*10), func(b *testing.B) {
+			b.ReportAllocs()
+			dir := b.TempDir()
+			for i := 0; i < b.N; i++ {
+				path := filepath.Join(dir, fmt.Sprintf("w%d.xlsx", i))
+				if err := Write(path, l, meta, false); err != nil {
+					b.Fatal(err)
+				}
+				fl, err := Read(path, ReadOptions{})
+				if err != nil || fl.Errors() != 0 {
+					b.Fatal(err)
+				}
+			}
+		})
+	}
+}
