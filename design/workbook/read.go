@@ -3,9 +3,9 @@ package workbook
 import (
 	"encoding/csv"
 	"encoding/json"
-	"io"
 	"errors"
 	"fmt"
+	"io"
 	"regexp"
 	"strconv"
 	"strings"

@@ -22,8 +22,8 @@ func testLayout(t testing.TB, blind bool) design.Layout {
 	t.Helper()
 	p := design.Plan{
 		Title: "workbook test", Design: design.RCBD,
-		Factors:   []design.Factor{{Name: "feed", Levels: []string{"F0", "F1", "F2"}}},
-		Reps:      []int{1, 1, 1}, Blocks: 3, BlockName: "bench",
+		Factors: []design.Factor{{Name: "feed", Levels: []string{"F0", "F1", "F2"}}},
+		Reps:    []int{1, 1, 1}, Blocks: 3, BlockName: "bench",
 		Responses: []design.Response{{Name: "height_cm", Min: f64(0), Max: f64(200)}, {Name: "mass_g"}},
 		Seed:      17, Blind: blind,
 	}
