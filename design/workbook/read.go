@@ -346,6 +346,14 @@ func checkRows(path, sheet string, rows [][]string, isText func(ref string) bool
 				missing[name]++
 			}
 		}
+		if labels == nil {
+			order = order[:0]
+			for _, t := range tr {
+				if missing[t.Name] > 0 {
+					order = append(order, t.Name)
+				}
+			}
+		}
 		for _, name := range order {
 			add(Warning, "", "", fmt.Sprintf("%s: %d unit(s) of %s %q have no value (missing)", resp.Name, missing[name], strings.ToLower(treatmentWord(p)), name))
 		}
