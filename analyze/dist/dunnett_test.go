@@ -4,8 +4,8 @@ import (
 	"math"
 	"testing"
 
-	"gonum.org/v1/gonum/stat/distuv"
 	"golang.org/x/exp/rand"
+	"gonum.org/v1/gonum/stat/distuv"
 )
 
 func equalLambda(p int) []float64 {
