@@ -64,7 +64,9 @@ type Table struct {
 	RelEfficiency float64   `json:"relative_efficiency,omitempty"`
 	Residuals     []float64 `json:"-"`
 	Fitted        []float64 `json:"-"`
-	Alpha         float64   `json:"alpha"`
+	// Leverage holds the diagonal of the hat matrix, h_ii.
+	Leverage []float64 `json:"-"`
+	Alpha    float64   `json:"alpha"`
 }
 
 // model is the coded design matrix of a fit.
@@ -332,10 +334,43 @@ func Fit(d Data, opt Options) (*Table, error) {
 	for i := range t.Fitted {
 		t.Fitted[i] = m.y[i] - t.Residuals[i] + m.shift
 	}
+	t.Leverage = m.leverage(full, all)
 	if d.Block != nil {
 		t.RelEfficiency = relEfficiency(t)
 	}
 	return t, nil
+}
+
+// leverage returns h_ii = ||R^{-T} x_i||² for the fit of the terms in order,
+// by forward substitution with the triangular factor R (p² operations a row).
+func (m *model) leverage(f *qrFit, order []int) []float64 {
+	p := f.p
+	r := func(i, j int) float64 { return f.a.Data[i*p+j] }
+	h := make([]float64, m.n)
+	x := make([]float64, p)
+	v := make([]float64, p)
+	for i := 0; i < m.n; i++ {
+		x[0] = 1
+		c := 1
+		for _, t := range order {
+			for _, col := range m.terms[t].cols {
+				x[c] = col[i]
+				c++
+			}
+		}
+		// Solve Rᵀ v = x.
+		var s float64
+		for j := 0; j < p; j++ {
+			acc := x[j]
+			for k := 0; k < j; k++ {
+				acc -= r(k, j) * v[k]
+			}
+			v[j] = acc / r(j, j)
+			s += v[j] * v[j]
+		}
+		h[i] = s
+	}
+	return h
 }
 
 // relEfficiency returns the efficiency of the block design relative to a

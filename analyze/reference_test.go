@@ -25,7 +25,9 @@ type refCase struct {
 		ResidDF float64 `json:"resid_df"`
 		ResidSS float64 `json:"resid_ss"`
 	} `json:"anova"`
-	Tukey []struct {
+	Studentized []float64 `json:"studentized"`
+	Leverage    []float64 `json:"leverage"`
+	Tukey       []struct {
 		A, B                  string
 		Diff, P, Lower, Upper float64
 	} `json:"tukey"`
@@ -103,6 +105,16 @@ func TestAgainstStatsmodels(t *testing.T) {
 				}
 				if !near(tab.R2, c.R2, 1e-10, 0) {
 					t.Errorf("R² %.12g; statsmodels %.12g", tab.R2, c.R2)
+				}
+				res, err := Run(c.data(), RunOptions{Options: Options{SSType: typ}})
+				if err != nil {
+					t.Fatal(err)
+				}
+				for i, want := range c.Studentized {
+					if !near(tab.Leverage[i], c.Leverage[i], 1e-9, 1e-12) || !near(res.Assumptions.Stud[i], want, 1e-9, 1e-12) {
+						t.Errorf("obs %d: leverage %.12g studentized %.12g; statsmodels %.12g %.12g", i, tab.Leverage[i], res.Assumptions.Stud[i], c.Leverage[i], want)
+						break
+					}
 				}
 			})
 		}

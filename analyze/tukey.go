@@ -23,19 +23,29 @@ type Comparison struct {
 	SE    float64 `json:"se"`
 	Lower float64 `json:"lower"`
 	Upper float64 `json:"upper"`
-	Q     float64 `json:"q"`
+	Q     float64 `json:"statistic"`
 	P     float64 `json:"p_adjusted"`
 }
 
 // PostHoc is a set of simultaneous comparisons among the levels of a term.
 type PostHoc struct {
-	Method string       `json:"method"`
-	Term   string       `json:"term"`
-	Alpha  float64      `json:"alpha"`
-	DF     int          `json:"df"`
-	Crit   float64      `json:"critical_q"`
-	Groups []Group      `json:"groups"`
-	Pairs  []Comparison `json:"pairs"`
+	Method string  `json:"method"`
+	Term   string  `json:"term"`
+	Alpha  float64 `json:"alpha"`
+	DF     int     `json:"df"`
+	// Crit is the critical value of the statistic (q for Tukey, |t| for
+	// Dunnett and Holm's Bonferroni intervals).
+	Crit     float64      `json:"critical_value"`
+	StatName string       `json:"statistic"`
+	Groups   []Group      `json:"groups"`
+	Pairs    []Comparison `json:"pairs"`
+	Control  string       `json:"control,omitempty"`
+	// Letters is the compact letter display, one entry per group (all-pairs
+	// methods only).
+	Letters []string `json:"letters,omitempty"`
+	// Within names the level of another factor when these are simple
+	// effects ("N1" for comparisons of K within N = N1).
+	Within string `json:"within,omitempty"`
 }
 
 // Summaries returns the level summaries of factor fi of d.
@@ -90,10 +100,16 @@ func Tukey(d Data, t *Table, fi int) (*PostHoc, error) {
 	if err != nil {
 		return nil, err
 	}
+	return tukeyGroups(groups, t, d.Factors[fi].Name), nil
+}
+
+// tukeyGroups runs Tukey–Kramer comparisons among groups with the table's
+// error.
+func tukeyGroups(groups []Group, t *Table, term string) *PostHoc {
 	k := float64(len(groups))
 	df := float64(t.Residual.DF)
 	sr := dist.StudentizedRange{K: k, Nu: df}
-	ph := &PostHoc{Method: "Tukey HSD", Term: d.Factors[fi].Name, Alpha: t.Alpha, DF: t.Residual.DF, Groups: groups}
+	ph := &PostHoc{Method: "Tukey HSD", Term: term, Alpha: t.Alpha, DF: t.Residual.DF, Groups: groups, StatName: "q"}
 	ph.Crit = sr.Quantile(1 - t.Alpha)
 	for i := 0; i < len(groups); i++ {
 		for j := i + 1; j < len(groups); j++ {
@@ -106,5 +122,5 @@ func Tukey(d Data, t *Table, fi int) (*PostHoc, error) {
 			ph.Pairs = append(ph.Pairs, c)
 		}
 	}
-	return ph, nil
+	return ph
 }

@@ -63,6 +63,8 @@ def anova(rows, nfac, blocked):
                           "f": float(row["F"]), "p": float(row["PR(>F)"])})
         res = tab.loc["Residual"]
         out[str(typ)] = {"terms": terms, "resid_df": float(res["df"]), "resid_ss": float(res["sum_sq"])}
+    out["studentized"] = [float(v) for v in fit.get_influence().resid_studentized_internal]
+    out["leverage"] = [float(v) for v in fit.get_influence().hat_matrix_diag]
     return out, float(fit.rsquared)
 
 
@@ -82,7 +84,9 @@ def tukey(rows):
 def case(name, levels, reps, blocks=0, drop=(), with_tukey=False):
     rows = make(levels, reps, blocks, drop)
     types, r2 = anova(rows, len(levels), bool(blocks))
-    c = {"name": name, "factors": len(levels), "blocked": bool(blocks), "rows": rows, "anova": types, "r2": r2}
+    stud, lev = types.pop("studentized"), types.pop("leverage")
+    c = {"name": name, "factors": len(levels), "blocked": bool(blocks), "rows": rows, "anova": types, "r2": r2,
+         "studentized": stud, "leverage": lev}
     if with_tukey:
         c["tukey"] = tukey(rows)
     return c

@@ -1,0 +1,337 @@
+package analyze
+
+import (
+	"fmt"
+	"math"
+	"sort"
+	"strings"
+)
+
+// Outlier is an observation whose studentized residual exceeds 3 in size.
+type Outlier struct {
+	Unit        string  `json:"unit"`
+	Where       string  `json:"cell"`
+	Value       string  `json:"value"`
+	Residual    float64 `json:"residual"`
+	Studentized float64 `json:"studentized"`
+}
+
+// Assumptions collects the checks of the model's assumptions.
+type Assumptions struct {
+	ShapiroW  float64   `json:"shapiro_w"`
+	ShapiroP  float64   `json:"shapiro_p"`
+	Levene    float64   `json:"brown_forsythe_f"`
+	LeveneDF  [2]int    `json:"brown_forsythe_df"`
+	LeveneP   float64   `json:"brown_forsythe_p"`
+	SDRatio   float64   `json:"sd_ratio"`
+	Outliers  []Outlier `json:"outliers"`
+	Verdicts  []string  `json:"verdicts"`
+	NormalOK  bool      `json:"-"`
+	LeveneOK  bool      `json:"-"`
+	Residuals []float64 `json:"-"`
+	Fitted    []float64 `json:"-"`
+	Stud      []float64 `json:"-"`
+}
+
+// Result is the analysis of one response.
+type Result struct {
+	Table       *Table      `json:"anova"`
+	Groups      [][]Group   `json:"groups"`
+	PostHoc     []*PostHoc  `json:"posthoc"`
+	Simple      []*PostHoc  `json:"simple_effects,omitempty"`
+	Assumptions Assumptions `json:"assumptions"`
+	Notes       []string    `json:"notes,omitempty"`
+}
+
+// RunOptions extends Options with the follow-up analyses.
+type RunOptions struct {
+	Options
+	PostHoc string // tukey (default), dunnett, holm, none
+	Control string // for dunnett
+	Sides   int    // dunnett: 1 or 2 (default)
+}
+
+// Run fits the model, follows significant treatment terms with the chosen
+// comparisons (and simple effects for a significant two-factor
+// interaction), and checks the assumptions on the residuals.
+func Run(d Data, opt RunOptions) (*Result, error) {
+	if opt.PostHoc == "" {
+		opt.PostHoc = MethodTukey
+	}
+	if opt.Sides == 0 {
+		opt.Sides = 2
+	}
+	switch opt.PostHoc {
+	case MethodTukey, MethodHolm, MethodNone:
+	case MethodDunnett:
+		if opt.Control == "" {
+			return nil, fmt.Errorf("Dunnett's test needs a control level")
+		}
+		if len(d.Factors) != 1 {
+			return nil, fmt.Errorf("Dunnett's test is for one-factor designs")
+		}
+	default:
+		return nil, fmt.Errorf("post-hoc method %q: must be tukey, dunnett, holm or none", opt.PostHoc)
+	}
+	t, err := Fit(d, opt.Options)
+	if err != nil {
+		return nil, err
+	}
+	res := &Result{Table: t}
+	for fi := range d.Factors {
+		g, err := Summaries(d, fi)
+		if err != nil {
+			return nil, err
+		}
+		res.Groups = append(res.Groups, g)
+	}
+	interaction := false
+	for _, term := range t.Terms {
+		if len(term.Factors) > 1 && term.P < t.Alpha {
+			interaction = true
+		}
+	}
+	for fi, f := range d.Factors {
+		var term *Term
+		for i := range t.Terms {
+			if len(t.Terms[i].Factors) == 1 && t.Terms[i].Factors[0] == f.Name {
+				term = &t.Terms[i]
+			}
+		}
+		if term == nil || term.P >= t.Alpha || opt.PostHoc == MethodNone {
+			continue
+		}
+		var ph *PostHoc
+		switch opt.PostHoc {
+		case MethodTukey:
+			ph, err = Tukey(d, t, fi)
+		case MethodHolm:
+			ph, err = Holm(d, t, fi)
+		case MethodDunnett:
+			ph, err = Dunnett(d, t, fi, opt.Control, opt.Sides)
+		}
+		if err != nil {
+			return nil, err
+		}
+		addLetters(ph)
+		res.PostHoc = append(res.PostHoc, ph)
+	}
+	if interaction && opt.PostHoc != MethodNone {
+		res.Simple, err = simpleEffects(d, t)
+		if err != nil {
+			return nil, err
+		}
+		res.Notes = append(res.Notes, "An interaction is significant: the effect of one factor depends on the level of another, so the main-effect comparisons average over effects that differ and can mislead; read the simple effects (one factor within each level of the other) instead.")
+	}
+	if d.Block != nil && !balanced(d) {
+		res.Notes = append(res.Notes, "Some units are missing, so the treatment means shown are raw means, not adjusted for blocks; the F tests are adjusted (least squares).")
+	}
+	res.Assumptions = checkAssumptions(d, t)
+	return res, nil
+}
+
+func addLetters(ph *PostHoc) {
+	if ph.Control != "" {
+		return
+	}
+	idx := map[string]int{}
+	for i, g := range ph.Groups {
+		idx[g.Level] = i
+	}
+	sig := map[[2]int]bool{}
+	for _, c := range ph.Pairs {
+		a, b := idx[c.A], idx[c.B]
+		if a > b {
+			a, b = b, a
+		}
+		sig[[2]int{a, b}] = c.P < ph.Alpha
+	}
+	ph.Letters = Letters(ph.Groups, func(a, b int) bool { return sig[[2]int{a, b}] })
+}
+
+// balanced reports whether every treatment cell has the same number of
+// observations in every block.
+func balanced(d Data) bool {
+	count := map[string]int{}
+	for i := range d.Values {
+		key := d.Block.Values[i]
+		for _, f := range d.Factors {
+			key += "\x00" + f.Values[i]
+		}
+		count[key]++
+	}
+	first := -1
+	cells := 1
+	for _, f := range d.Factors {
+		lv, _, _ := f.levels()
+		cells *= len(lv)
+	}
+	bl, _, _ := d.Block.levels()
+	if len(count) != cells*len(bl) {
+		return false
+	}
+	for _, c := range count {
+		if first < 0 {
+			first = c
+		}
+		if c != first {
+			return false
+		}
+	}
+	return true
+}
+
+// simpleEffects compares the levels of the first factor of each significant
+// two-factor interaction within each level of the second, by Tukey–Kramer on
+// the cell means with the model's error.
+func simpleEffects(d Data, t *Table) ([]*PostHoc, error) {
+	var out []*PostHoc
+	for _, term := range t.Terms {
+		if len(term.Factors) != 2 || term.P >= t.Alpha {
+			continue
+		}
+		ai, bi := factorIndex(d, term.Factors[0]), factorIndex(d, term.Factors[1])
+		blv, _, err := d.Factors[bi].levels()
+		if err != nil {
+			return nil, err
+		}
+		for _, bl := range blv {
+			var sub Data
+			sub.Response = d.Response
+			col := Column{Name: d.Factors[ai].Name, Levels: d.Factors[ai].Levels}
+			for i := range d.Values {
+				if d.Factors[bi].Values[i] == bl {
+					sub.Values = append(sub.Values, d.Values[i])
+					col.Values = append(col.Values, d.Factors[ai].Values[i])
+				}
+			}
+			sub.Factors = []Column{col}
+			groups, err := Summaries(sub, 0)
+			if err != nil {
+				return nil, err
+			}
+			if len(groups) < 2 {
+				continue
+			}
+			ph := tukeyGroups(groups, t, d.Factors[ai].Name)
+			ph.Within = d.Factors[bi].Name + " = " + bl
+			addLetters(ph)
+			out = append(out, ph)
+		}
+	}
+	return out, nil
+}
+
+func factorIndex(d Data, name string) int {
+	for i, f := range d.Factors {
+		if f.Name == name {
+			return i
+		}
+	}
+	return -1
+}
+
+// checkAssumptions runs the residual checks: Shapiro–Wilk on the residuals,
+// Brown–Forsythe on the residuals grouped by treatment cell, the ratio of
+// the largest to the smallest cell SD, and internally studentized
+// residuals r_i = e_i/(s·sqrt(1 − h_ii)) with |r| > 3 listed.
+func checkAssumptions(d Data, t *Table) Assumptions {
+	a := Assumptions{Residuals: t.Residuals, Fitted: t.Fitted}
+	a.Stud = make([]float64, len(t.Residuals))
+	for i, e := range t.Residuals {
+		h := t.Leverage[i]
+		if h < 1-1e-10 && t.ResidSD > 0 {
+			a.Stud[i] = e / (t.ResidSD * math.Sqrt(1-h))
+		} else {
+			a.Stud[i] = math.NaN()
+		}
+		if math.Abs(a.Stud[i]) > 3 {
+			o := Outlier{Value: d.Values[i], Residual: e, Studentized: a.Stud[i]}
+			if d.Units != nil {
+				o.Unit = d.Units[i]
+			}
+			if d.Where != nil {
+				o.Where = d.Where[i]
+			}
+			a.Outliers = append(a.Outliers, o)
+		}
+	}
+	sort.Slice(a.Outliers, func(i, j int) bool { return math.Abs(a.Outliers[i].Studentized) > math.Abs(a.Outliers[j].Studentized) })
+	var ok bool
+	a.ShapiroW, a.ShapiroP, ok = ShapiroWilk(t.Residuals)
+	a.NormalOK = ok
+	cells := map[string][]float64{}
+	var order []string
+	for i, e := range t.Residuals {
+		var key []string
+		for _, f := range d.Factors {
+			key = append(key, f.Values[i])
+		}
+		k := strings.Join(key, " × ")
+		if _, seen := cells[k]; !seen {
+			order = append(order, k)
+		}
+		cells[k] = append(cells[k], e)
+	}
+	var groups [][]float64
+	lo, hi := math.Inf(1), 0.0
+	for _, k := range order {
+		g := cells[k]
+		groups = append(groups, g)
+		if len(g) > 1 {
+			var m, ss float64
+			for _, v := range g {
+				m += v
+			}
+			m /= float64(len(g))
+			for _, v := range g {
+				ss += (v - m) * (v - m)
+			}
+			sd := math.Sqrt(ss / float64(len(g)-1))
+			lo, hi = math.Min(lo, sd), math.Max(hi, sd)
+		}
+	}
+	a.SDRatio = math.NaN()
+	if lo > 0 && !math.IsInf(lo, 1) {
+		a.SDRatio = hi / lo
+	}
+	var df1, df2 int
+	a.Levene, df1, df2, a.LeveneP, a.LeveneOK = BrownForsythe(groups)
+	a.LeveneDF = [2]int{df1, df2}
+	a.Verdicts = verdicts(a, t.Alpha)
+	return a
+}
+
+func verdicts(a Assumptions, alpha float64) []string {
+	var v []string
+	switch {
+	case !a.NormalOK:
+		v = append(v, "Normality of the residuals could not be tested (fewer than 3 or more than 5000 residuals, or all equal).")
+	case a.ShapiroP < 0.01:
+		v = append(v, fmt.Sprintf("The residuals depart from a normal distribution (Shapiro–Wilk W = %.4f, p = %.4g). With moderate group sizes the F test is fairly robust to this, but look at the quantile plot and consider a transformation or a statistician's advice.", a.ShapiroW, a.ShapiroP))
+	default:
+		v = append(v, fmt.Sprintf("The residuals are consistent with a normal distribution (Shapiro–Wilk W = %.4f, p = %.4g); this does not prove normality, and small samples have little power to show departures.", a.ShapiroW, a.ShapiroP))
+	}
+	switch {
+	case !a.LeveneOK:
+		v = append(v, "Equal variances could not be tested (too few units per treatment).")
+	case a.LeveneP < alpha:
+		v = append(v, fmt.Sprintf("The spread differs between treatments (Brown–Forsythe F(%d, %d) = %.3f, p = %.4g): the equal-variance assumption is doubtful; consider a transformation or a method for unequal variances.", a.LeveneDF[0], a.LeveneDF[1], a.Levene, a.LeveneP))
+	default:
+		v = append(v, fmt.Sprintf("The spread is consistent with equal variances across treatments (Brown–Forsythe F(%d, %d) = %.3f, p = %.4g).", a.LeveneDF[0], a.LeveneDF[1], a.Levene, a.LeveneP))
+	}
+	if !math.IsNaN(a.SDRatio) {
+		word := "within the common rule of thumb (below about 3)"
+		if a.SDRatio > 3 {
+			word = "above the common rule of thumb of about 3"
+		}
+		v = append(v, fmt.Sprintf("Largest to smallest treatment SD (of residuals): %.2f, %s.", a.SDRatio, word))
+	}
+	if n := len(a.Outliers); n > 0 {
+		v = append(v, fmt.Sprintf("%d observation(s) have a studentized residual beyond ±3: check them for typing errors before anything else (listed with their cells).", n))
+	} else {
+		v = append(v, "No studentized residual is beyond ±3.")
+	}
+	v = append(v, "Independence cannot be tested from the numbers: it holds when each experimental unit was randomised on its own and measured once; repeated measurements of one unit, or units sharing a pot, cage or tank, are not independent.")
+	return v
+}
