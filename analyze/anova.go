@@ -128,6 +128,15 @@ func buildModel(d Data) (*model, error) {
 		if len(lv) < 2 {
 			return nil, fmt.Errorf("block column %q has only one block in the data: analyse without blocks", d.Block.Name)
 		}
+		size := make([]int, len(lv))
+		for _, b := range idx {
+			size[b]++
+		}
+		for b, n := range size {
+			if n < 2 {
+				return nil, fmt.Errorf("%s %s has a single unit: a block must hold at least two units to compare treatments within it; check the %s column", d.Block.Name, lv[b], d.Block.Name)
+			}
+		}
 		m.blockL, m.blockI = lv, idx
 		m.terms = append(m.terms, modelTerm{name: d.Block.Name, block: true, cols: contrasts(idx, len(lv))})
 	}

@@ -70,6 +70,17 @@ func Run(d Data, opt RunOptions) (*Result, error) {
 		if len(d.Factors) != 1 {
 			return nil, fmt.Errorf("Dunnett's test is for one-factor designs")
 		}
+		lv, _, err := d.Factors[0].levels()
+		if err != nil {
+			return nil, err
+		}
+		found := false
+		for _, l := range lv {
+			found = found || l == opt.Control
+		}
+		if !found {
+			return nil, fmt.Errorf("control %q is not a level of %s in the data (levels: %s)", opt.Control, d.Factors[0].Name, strings.Join(lv, ", "))
+		}
 	default:
 		return nil, fmt.Errorf("post-hoc method %q: must be tukey, dunnett, holm or none", opt.PostHoc)
 	}

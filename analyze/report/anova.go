@@ -1,10 +1,8 @@
 package report
 
 import (
-	"encoding/json"
 	"fmt"
 	"io"
-	"math"
 	"strings"
 
 	"allot/analyze"
@@ -13,11 +11,8 @@ import (
 
 // Analysis is everything reported for one response.
 type Analysis struct {
-	Table   *analyze.Table     `json:"anova"`
-	PostHoc []*analyze.PostHoc `json:"posthoc"`
-	// Groups holds the treatment summaries (per factor), for the SD check.
-	Groups  [][]analyze.Group `json:"groups"`
-	Missing int               `json:"missing"`
+	*analyze.Result
+	Missing int `json:"missing"`
 	// Unit names the experimental unit (pot, plot, animal) for the
 	// unit-of-analysis reminder.
 	Unit      string `json:"unit"`
@@ -62,18 +57,49 @@ func (a Analysis) summaryLines() []string {
 	return lines
 }
 
-func groupTable(gs []analyze.Group) table {
+func groupTable(gs []analyze.Group, letters []string) table {
 	tb := table{head: []string{"level", "n", "mean", "SD"}, right: []bool{false, true, true, true}}
-	for _, g := range gs {
-		tb.rows = append(tb.rows, []string{g.Level, fmt.Sprint(g.N), num(g.Mean, 5), num(g.SD, 4)})
+	if letters != nil {
+		tb.head = append(tb.head, "group")
+		tb.right = append(tb.right, false)
+	}
+	for i, g := range gs {
+		row := []string{g.Level, fmt.Sprint(g.N), num(g.Mean, 5), num(g.SD, 4)}
+		if letters != nil {
+			row = append(row, letters[i])
+		}
+		tb.rows = append(tb.rows, row)
 	}
 	return tb
 }
 
 func pairTable(ph *analyze.PostHoc) table {
-	tb := table{head: []string{"pair", "difference", "lower", "upper", "p (adjusted)"}, right: []bool{false, true, true, true, true}}
+	tb := table{head: []string{"comparison", "difference", "lower", "upper", ph.StatName, "p (adjusted)"}, right: []bool{false, true, true, true, true, true}}
 	for _, c := range ph.Pairs {
-		tb.rows = append(tb.rows, []string{c.Pair, num(c.Diff, 4), num(c.Lower, 4), num(c.Upper, 4), pval(c.P)})
+		tb.rows = append(tb.rows, []string{c.Pair, num(c.Diff, 4), num(c.Lower, 4), num(c.Upper, 4), num(c.Q, 4), pval(c.P)})
+	}
+	return tb
+}
+
+func postHocTitle(ph *analyze.PostHoc) string {
+	s := fmt.Sprintf("%s comparisons of %s", ph.Method, ph.Term)
+	if ph.Within != "" {
+		s += " within " + ph.Within
+	}
+	return fmt.Sprintf("%s: %s%% simultaneous intervals, df %d, critical %s %s", s, short(100*(1-ph.Alpha)), ph.DF, ph.StatName, num(ph.Crit, 4))
+}
+
+func letterNote(ph *analyze.PostHoc) string {
+	if ph.Letters == nil {
+		return ""
+	}
+	return fmt.Sprintf("Levels sharing a letter in the group column do not differ at α = %s.", short(ph.Alpha))
+}
+
+func outlierTable(os []analyze.Outlier) table {
+	tb := table{head: []string{"unit", "cell", "value", "residual", "studentized"}, right: []bool{false, false, true, true, true}}
+	for _, o := range os {
+		tb.rows = append(tb.rows, []string{o.Unit, o.Where, o.Value, num(o.Residual, 4), fixed(o.Studentized, 2)})
 	}
 	return tb
 }
@@ -117,24 +143,7 @@ func (a Analysis) Cautions() []string {
 	}
 	c := []string{
 		fmt.Sprintf("Unit of analysis: each %s that was randomised to a treatment is one observation; measurements repeated on the same %s are not independent replicates and must be averaged first.", unit, unit),
-		"The p-values assume independent units, normally distributed errors and equal variances across treatments.",
-	}
-	for _, gs := range a.Groups {
-		lo, hi := math.Inf(1), 0.0
-		for _, g := range gs {
-			if !math.IsNaN(g.SD) {
-				lo, hi = math.Min(lo, g.SD), math.Max(hi, g.SD)
-			}
-		}
-		if lo > 0 && hi > 0 && !math.IsInf(lo, 1) {
-			r := hi / lo
-			verdict := "unremarkable"
-			if r > 3 {
-				verdict = "large: the equal-variance assumption is doubtful, consult a statistician before relying on the p-values"
-			}
-			c = append(c, fmt.Sprintf("Largest to smallest treatment SD: %s (common practice: below about 3 is %s).", num(r, 3), verdict))
-			break
-		}
+		"The p-values assume independent units, normally distributed errors and equal variances across treatments; see the checks above.",
 	}
 	if a.Missing > 0 {
 		c = append(c, fmt.Sprintf("%d unit(s) had no value and were left out; if losses depend on the treatment, the comparison is biased.", a.Missing))
@@ -154,12 +163,28 @@ func AnalysisText(w io.Writer, a Analysis) error {
 	for _, l := range a.summaryLines() {
 		b.WriteString(wrap(l, 78, "  "))
 	}
-	for i, ph := range a.PostHoc {
-		fmt.Fprintf(&b, "\nMeans of %s\n", ph.Term)
-		b.WriteString(groupTable(a.PostHoc[i].Groups).text("  "))
-		fmt.Fprintf(&b, "\n%s comparisons of %s: %s%% simultaneous intervals, df %d, critical q %s\n",
-			ph.Method, ph.Term, short(100*(1-ph.Alpha)), ph.DF, num(ph.Crit, 4))
+	for _, ph := range append(append([]*analyze.PostHoc{}, a.PostHoc...), a.Simple...) {
+		if ph.Within == "" {
+			fmt.Fprintf(&b, "\nMeans of %s\n", ph.Term)
+		} else {
+			fmt.Fprintf(&b, "\nMeans of %s within %s\n", ph.Term, ph.Within)
+		}
+		b.WriteString(groupTable(ph.Groups, ph.Letters).text("  "))
+		if n := letterNote(ph); n != "" {
+			b.WriteString(wrap(n, 78, "  "))
+		}
+		b.WriteString("\n" + wrap(postHocTitle(ph), 78, ""))
 		b.WriteString(pairTable(ph).text("  "))
+	}
+	for _, n := range a.Notes {
+		b.WriteString("\n" + wrap("Note: "+n, 78, ""))
+	}
+	b.WriteString("\nChecks of the assumptions\n")
+	for _, v := range a.Assumptions.Verdicts {
+		b.WriteString(wrap(v, 78, "  "))
+	}
+	if len(a.Assumptions.Outliers) > 0 {
+		b.WriteString(outlierTable(a.Assumptions.Outliers).text("  "))
 	}
 	b.WriteString("\nReading\n")
 	for _, r := range a.Reading() {
@@ -183,15 +208,31 @@ func AnalysisMarkdown(w io.Writer, a Analysis) error {
 	for _, l := range a.summaryLines() {
 		b.WriteString(l + "\n\n")
 	}
-	for _, ph := range a.PostHoc {
-		fmt.Fprintf(&b, "### Means of %s\n\n", ph.Term)
-		b.WriteString(groupTable(ph.Groups).markdown())
-		fmt.Fprintf(&b, "\n### %s comparisons of %s\n\n%s%% simultaneous intervals, df %d, critical q %s.\n\n",
-			ph.Method, ph.Term, short(100*(1-ph.Alpha)), ph.DF, num(ph.Crit, 4))
+	for _, ph := range append(append([]*analyze.PostHoc{}, a.PostHoc...), a.Simple...) {
+		if ph.Within == "" {
+			fmt.Fprintf(&b, "### Means of %s\n\n", ph.Term)
+		} else {
+			fmt.Fprintf(&b, "### Means of %s within %s\n\n", ph.Term, ph.Within)
+		}
+		b.WriteString(groupTable(ph.Groups, ph.Letters).markdown())
+		if n := letterNote(ph); n != "" {
+			b.WriteString("\n" + n + "\n")
+		}
+		b.WriteString("\n" + postHocTitle(ph) + ".\n\n")
 		b.WriteString(pairTable(ph).markdown())
 		b.WriteString("\n")
 	}
-	b.WriteString("### Reading\n\n")
+	for _, n := range a.Notes {
+		b.WriteString("**Note.** " + n + "\n\n")
+	}
+	b.WriteString("### Checks of the assumptions\n\n")
+	for _, v := range a.Assumptions.Verdicts {
+		b.WriteString("- " + v + "\n")
+	}
+	if len(a.Assumptions.Outliers) > 0 {
+		b.WriteString("\n" + outlierTable(a.Assumptions.Outliers).markdown())
+	}
+	b.WriteString("\n### Reading\n\n")
 	for _, r := range a.Reading() {
 		b.WriteString("- " + r + "\n")
 	}
@@ -205,11 +246,17 @@ func AnalysisMarkdown(w io.Writer, a Analysis) error {
 
 // AnalysisJSON writes the analysis as one JSON object.
 func AnalysisJSON(w io.Writer, a Analysis) error {
-	enc := json.NewEncoder(w)
-	enc.SetIndent("", "  ")
-	return enc.Encode(struct {
+	t := a.Table
+	return writeJSON(w, struct {
 		Analysis
-		Reading  []string `json:"reading"`
-		Cautions []string `json:"cautions"`
-	}{a, a.Reading(), a.Cautions()})
+		Terms     []analyze.Term   `json:"terms"`
+		Residual  analyze.Residual `json:"residual"`
+		R2        float64          `json:"r2"`
+		ResidSD   float64          `json:"resid_sd"`
+		GrandMean float64          `json:"grand_mean"`
+		CV        float64          `json:"cv_percent"`
+		SSType    int              `json:"ss_type"`
+		Reading   []string         `json:"reading"`
+		Cautions  []string         `json:"cautions"`
+	}{a, t.Terms, t.Residual, t.R2, t.ResidSD, t.GrandMean, t.CV, t.SSType, a.Reading(), a.Cautions()})
 }

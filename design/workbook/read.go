@@ -108,7 +108,7 @@ type ReadOptions struct {
 	Key *design.Key
 }
 
-var decimalComma = regexp.MustCompile(`^[+-]?\d+,\d+$`)
+var decimalCommaRE = regexp.MustCompile(`^[+-]?\d+,\d+$`)
 
 // Read opens a filled workbook, verifies its stored plan and checks every
 // row of the Entry sheet. The file is only read. Problems found in cells are
@@ -372,7 +372,7 @@ func parseResponse(ref, raw string, isText, textNormal bool, r design.Response, 
 	var warn string
 	if isText {
 		switch {
-		case decimalComma.MatchString(raw):
+		case decimalCommaRE.MatchString(raw):
 			if !opt.DecimalComma {
 				return v, fmt.Sprintf("%q has a decimal comma; retype it with a decimal point, or run again with --decimal-comma", raw)
 			}

@@ -225,26 +225,15 @@ func Run(s Scenario, o Options) (*Result, error) {
 		Units:    obs.Units,
 		Where:    obs.Cells,
 	}
-	tab, err := analyze.Fit(data, analyze.Options{Alpha: s.Alpha})
+	ar, err := analyze.Run(data, analyze.RunOptions{Options: analyze.Options{Alpha: s.Alpha}})
 	if err != nil {
 		return nil, err
 	}
-	res.Table = tab
-	groups, err := analyze.Summaries(data, 0)
-	if err != nil {
-		return nil, err
+	res.Table = ar.Table
+	if len(ar.PostHoc) > 0 {
+		res.PostHoc = ar.PostHoc[0]
 	}
-	an := report.Analysis{Table: tab, Groups: [][]analyze.Group{groups}, Unit: "pot", BlockName: s.BlockName, Simulated: true, Missing: len(lay.Units) - len(obs.Values)}
-	for _, t := range tab.Terms {
-		if !t.Block && t.P < s.Alpha {
-			ph, err := analyze.Tukey(data, tab, 0)
-			if err != nil {
-				return nil, err
-			}
-			res.PostHoc = ph
-			an.PostHoc = append(an.PostHoc, ph)
-		}
-	}
+	an := report.Analysis{Result: ar, Unit: "pot", BlockName: s.BlockName, Simulated: true, Missing: len(lay.Units) - len(obs.Values)}
 	if err := report.AnalysisText(out, an); err != nil {
 		return nil, err
 	}

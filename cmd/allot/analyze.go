@@ -1,0 +1,248 @@
+package main
+
+import (
+	"fmt"
+	"os"
+	"path/filepath"
+	"strings"
+
+	"allot/analyze"
+	"allot/analyze/report"
+	"allot/design"
+	"allot/design/workbook"
+
+	"github.com/spf13/cobra"
+)
+
+type analyzeOptions struct {
+	read     checkOptions
+	response string
+	factors  []string
+	block    string
+	unitCol  string
+	ss       int
+	posthoc  string
+	control  string
+	sides    int
+	alpha    float64
+	format   string
+	json     bool
+}
+
+func newAnalyzeCmd(s *streams, runF func(*analyzeOptions) error) *cobra.Command {
+	o := &analyzeOptions{}
+	cmd := &cobra.Command{
+		Use:   "analyze FILE",
+		Short: "Run the ANOVA that matches the design, with comparisons and checks",
+		Long: `Read a filled workbook (checked exactly as allot check does; data with errors
+are refused and the errors listed), or a CSV file with --plan layout.json, or a
+plain CSV table with the roles of its columns given by --response, --factor
+(repeatable) and --block. Fit the model the design implies by least squares:
+one-way, factorial with all interactions, randomised complete blocks, or a
+factorial in blocks, with Type I, II or III sums of squares (--ss, default 3).
+
+Terms significant at --alpha are followed by --posthoc tukey (Tukey–Kramer,
+default), dunnett (each level against --control, the plan's control by
+default; --sides 1 for one-sided), holm (Holm-adjusted t tests) or none,
+with a compact letter display; a significant interaction is followed by
+simple effects. The residuals are checked (Shapiro–Wilk, Brown–Forsythe, SD
+ratio, studentized residuals beyond ±3 listed by unit and cell).
+
+Each experimental unit is one observation: the unit that was randomised is the
+unit of analysis.` + "\n" + exitHelp,
+		Example: `  allot analyze trial-filled.xlsx
+  allot analyze trial-filled.xlsx --response height_cm --posthoc dunnett --json
+  allot analyze yields.csv --response yield --factor variety --block field --format markdown`,
+		Args: func(c *cobra.Command, args []string) error {
+			if len(args) != 1 {
+				return usagef("analyze takes one FILE, got %d", len(args))
+			}
+			return nil
+		},
+		RunE: func(c *cobra.Command, args []string) error {
+			o.read.file = args[0]
+			if err := o.validate(); err != nil {
+				return err
+			}
+			if runF != nil {
+				return runF(o)
+			}
+			return analyzeRun(s, o)
+		},
+	}
+	o.read.addReadFlags(cmd)
+	f := cmd.Flags()
+	f.StringVar(&o.response, "response", "", "analyse only the response `NAME` (default: every response; required for a plain CSV)")
+	f.StringArrayVar(&o.factors, "factor", nil, "plain CSV: a treatment factor `COLUMN`; repeat for a factorial")
+	f.StringVar(&o.block, "block", "", "plain CSV: the block `COLUMN`")
+	f.StringVar(&o.unitCol, "unit-column", "", "plain CSV: the unit-ID `COLUMN`, for listing unusual residuals")
+	f.IntVar(&o.ss, "ss", 3, "sum-of-squares type `1`, 2 or 3")
+	f.StringVar(&o.posthoc, "posthoc", "tukey", "follow-up comparisons: `tukey`, dunnett, holm or none")
+	f.StringVar(&o.control, "control", "", "the control `LEVEL` for dunnett (default: the plan's control)")
+	f.IntVar(&o.sides, "sides", 2, "dunnett: `2` sides, or 1 (treatment > control)")
+	f.Float64Var(&o.alpha, "alpha", 0.05, "significance level `A`")
+	f.StringVar(&o.format, "format", "text", "output: `text`, markdown or json")
+	f.BoolVar(&o.json, "json", false, "print JSON (same as --format json)")
+	return cmd
+}
+
+func (o *analyzeOptions) plainCSV() bool {
+	return strings.ToLower(filepath.Ext(o.read.file)) == ".csv" && o.read.plan == ""
+}
+
+func (o *analyzeOptions) validate() error {
+	if o.ss < 1 || o.ss > 3 {
+		return usagef("--ss %d: must be 1, 2 or 3 (Type I sequential, II, or III)", o.ss)
+	}
+	if !(o.alpha > 0 && o.alpha < 1) {
+		return usagef("--alpha %g: must be between 0 and 1 (for example 0.05)", o.alpha)
+	}
+	switch o.posthoc {
+	case analyze.MethodTukey, analyze.MethodDunnett, analyze.MethodHolm, analyze.MethodNone:
+	default:
+		return usagef("--posthoc %s: must be tukey, dunnett, holm or none", o.posthoc)
+	}
+	if o.sides != 1 && o.sides != 2 {
+		return usagef("--sides %d: must be 1 or 2", o.sides)
+	}
+	if o.json {
+		o.format = "json"
+	}
+	switch o.format {
+	case "text", "markdown", "json":
+	default:
+		return usagef("--format %s: must be text, markdown or json", o.format)
+	}
+	if o.plainCSV() {
+		if o.response == "" || len(o.factors) == 0 {
+			return usagef("%s: a plain CSV table needs --response COLUMN and --factor COLUMN (or --plan layout.json for a CSV written by allot layout)", o.read.file)
+		}
+		return nil
+	}
+	if len(o.factors) > 0 || o.block != "" || o.unitCol != "" {
+		return usagef("--factor, --block and --unit-column are for plain CSV tables; a workbook or --plan says the design")
+	}
+	return o.read.validate()
+}
+
+// job is one response to analyse.
+type job struct {
+	data      analyze.Data
+	missing   int
+	control   string
+	unit      string
+	blockName string
+}
+
+func analyzeRun(s *streams, o *analyzeOptions) error {
+	jobs, err := o.jobs()
+	if err != nil {
+		return err
+	}
+	for i, j := range jobs {
+		control := o.control
+		if control == "" {
+			control = j.control
+		}
+		if o.posthoc == analyze.MethodDunnett && control == "" {
+			return usagef("--posthoc dunnett: give --control LEVEL (the plan names no control)")
+		}
+		res, err := analyze.Run(j.data, analyze.RunOptions{
+			Options: analyze.Options{SSType: o.ss, Alpha: o.alpha},
+			PostHoc: o.posthoc, Control: control, Sides: o.sides,
+		})
+		if err != nil {
+			return inputErr(fmt.Errorf("%s: %s: %w", o.read.file, j.data.Response, err))
+		}
+		a := report.Analysis{Result: res, Missing: j.missing, Unit: j.unit, BlockName: j.blockName}
+		if i > 0 && o.format != "json" {
+			fmt.Fprintln(s.Out)
+		}
+		switch o.format {
+		case "json":
+			err = report.AnalysisJSON(s.Out, a)
+		case "markdown":
+			err = report.AnalysisMarkdown(s.Out, a)
+		default:
+			err = report.AnalysisText(s.Out, a)
+		}
+		if err != nil {
+			return err
+		}
+	}
+	return nil
+}
+
+// jobs reads the input and returns one job per response analysed.
+func (o *analyzeOptions) jobs() ([]job, error) {
+	if o.plainCSV() {
+		f, err := os.Open(o.read.file)
+		if err != nil {
+			return nil, inputErr(err)
+		}
+		defer f.Close()
+		obs, missing, err := workbook.ReadRoles(f, o.read.file, workbook.Roles{Response: o.response, Factors: o.factors, Block: o.block, Unit: o.unitCol}, o.read.decimalComma)
+		if err != nil {
+			return nil, inputErr(err)
+		}
+		return []job{{data: dataOf(o.response, obs, o.factors, nil, o.block), missing: missing, unit: "unit", blockName: o.block}}, nil
+	}
+	fl, err := readFilled(&o.read)
+	if err != nil {
+		return nil, err
+	}
+	if n := fl.Errors(); n > 0 {
+		var b strings.Builder
+		for _, p := range fl.Problems {
+			if p.Severity == workbook.Error {
+				b.WriteString("\n  " + p.String())
+			}
+		}
+		return nil, &failedError{err: fmt.Errorf("%s: %d error(s) must be corrected before analysis (allot check lists them):%s", o.read.file, n, b.String())}
+	}
+	if fl.Sealed {
+		return nil, usagef("%s: the workbook is blind; give its --key to unblind it for analysis", o.read.file)
+	}
+	p := fl.Layout.Plan
+	var out []job
+	for k, r := range fl.Responses {
+		if o.response != "" && r != o.response {
+			continue
+		}
+		obs := fl.Observations(k)
+		if len(obs.Values) == 0 {
+			return nil, inputErr(fmt.Errorf("%s: response %q has no values yet; fill it in first", o.read.file, r))
+		}
+		var names [][]string
+		var fnames []string
+		for _, f := range p.Factors {
+			fnames = append(fnames, f.Name)
+			names = append(names, f.Levels)
+		}
+		block := ""
+		if p.Design == design.RCBD {
+			block = p.BlockName
+		}
+		out = append(out, job{data: dataOf(r, obs, fnames, names, block), missing: len(fl.Layout.Units) - len(obs.Values), control: p.Control, unit: "unit", blockName: p.BlockName})
+	}
+	if len(out) == 0 {
+		return nil, usagef("--response %s: the plan has no such response (responses: %s)", o.response, strings.Join(fl.Responses, ", "))
+	}
+	return out, nil
+}
+
+// dataOf turns observations into analysis data.
+func dataOf(response string, obs workbook.Observations, factors []string, levels [][]string, block string) analyze.Data {
+	d := analyze.Data{Response: response, Values: obs.Values, Units: obs.Units, Where: obs.Cells}
+	for i, f := range factors {
+		c := analyze.Column{Name: f, Values: obs.Levels[i]}
+		if levels != nil {
+			c.Levels = levels[i]
+		}
+		d.Factors = append(d.Factors, c)
+	}
+	if block != "" && obs.Blocks != nil {
+		d.Block = &analyze.Column{Name: block, Values: obs.Blocks}
+	}
+	return d
+}

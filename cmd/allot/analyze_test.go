@@ -1,0 +1,123 @@
+package main
+
+import (
+	"bytes"
+	"encoding/json"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+)
+
+func TestAnalyzeParse(t *testing.T) {
+	var got *analyzeOptions
+	cmd := newAnalyzeCmd(&streams{Out: &bytes.Buffer{}, Err: &bytes.Buffer{}}, func(o *analyzeOptions) error { got = o; return nil })
+	cmd.SetArgs([]string{"y.csv", "--response", "yield", "--factor", "variety", "--factor", "n", "--block", "field", "--ss", "2", "--posthoc", "holm", "--format", "markdown"})
+	if err := cmd.Execute(); err != nil {
+		t.Fatal(err)
+	}
+	if got.read.file != "y.csv" || got.response != "yield" || len(got.factors) != 2 || got.block != "field" || got.ss != 2 || got.posthoc != "holm" || got.format != "markdown" {
+		t.Errorf("%+v", got)
+	}
+}
+
+// demoFilled runs the demo once and returns its filled workbook.
+func demoFilled(t *testing.T) string {
+	t.Helper()
+	dir := filepath.Join(t.TempDir(), "demo")
+	if code, _, errs := runArgs(t, "demo", "--out", dir); code != 0 {
+		t.Fatal(errs)
+	}
+	return filepath.Join(dir, "trial-filled-SIMULATED.xlsx")
+}
+
+func TestAnalyzeRun(t *testing.T) {
+	wb := demoFilled(t)
+	for _, tt := range []struct {
+		name string
+		args []string
+	}{
+		{"analyze_text", []string{"analyze", wb}},
+		{"analyze_markdown_dunnett", []string{"analyze", wb, "--posthoc", "dunnett", "--format", "markdown"}},
+	} {
+		t.Run(tt.name, func(t *testing.T) {
+			code, out, errs := runArgs(t, tt.args...)
+			if code != 0 {
+				t.Fatalf("exit %d: %s", code, errs)
+			}
+			golden(t, tt.name, out)
+		})
+	}
+	code, out, _ := runArgs(t, "analyze", wb, "--json")
+	var m map[string]any
+	if code != 0 || json.Unmarshal([]byte(out), &m) != nil {
+		t.Fatalf("json: exit %d", code)
+	}
+	for _, k := range []string{"terms", "residual", "r2", "resid_sd", "grand_mean", "cv_percent", "ss_type", "posthoc", "assumptions"} {
+		if _, ok := m[k]; !ok {
+			t.Errorf("JSON lacks %q", k)
+		}
+	}
+}
+
+func TestAnalyzePlainCSV(t *testing.T) {
+	dir := t.TempDir()
+	p := filepath.Join(dir, "yields.csv")
+	os.WriteFile(p, []byte("plot,variety,field,yield\n1,A,F1,5.1\n2,B,F1,6.0\n3,C,F1,7.2\n4,A,F2,4.8\n5,B,F2,6.3\n6,C,F2,6.9\n7,A,F3,5.3\n8,B,F3,5.9\n9,C,F3,7.4\n10,A,F4,5.0\n11,B,F4,,\n12,C,F4,7.0\n"), 0o644)
+	code, out, errs := runArgs(t, "analyze", p, "--response", "yield", "--factor", "variety", "--block", "field", "--unit-column", "plot")
+	if code != 0 {
+		t.Fatalf("exit %d: %s", code, errs)
+	}
+	for _, want := range []string{"field ", "variety ", "residual ", "1 unit(s) had no value"} {
+		if !strings.Contains(out, want) {
+			t.Errorf("output lacks %q:\n%s", want, out)
+		}
+	}
+}
+
+func TestAnalyzeBadInput(t *testing.T) {
+	dir := t.TempDir()
+	write := func(name, body string) string {
+		p := filepath.Join(dir, name)
+		os.WriteFile(p, []byte(body), 0o644)
+		return p
+	}
+	text := write("text.csv", "g,y\na,x\nb,y\n")
+	one := write("one.csv", "g,y\na,1\na,2\na,3\n")
+	single := write("single.csv", "g,y\na,1\nb,2\nc,3\n")
+	blocks := write("blocks.csv", "g,b,y\na,1,1\nb,1,2\na,2,3\nb,2,4\na,3,5\n")
+	empty := write("empty.csv", "g,y\na,\nb,\n")
+	two := write("two.csv", "g,y\na,1\na,2\nb,3\nb,5\n")
+	tests := []struct {
+		args []string
+		want string
+	}{
+		{[]string{text, "--response", "y", "--factor", "g"}, `line 2 column "y": "x" is not a number`},
+		{[]string{empty, "--response", "y", "--factor", "g"}, `column "y": has no numbers to analyse`},
+		{[]string{one, "--response", "y", "--factor", "g"}, `factor "g" has only one level in the data`},
+		{[]string{single, "--response", "y", "--factor", "g"}, "no residual degrees of freedom"},
+		{[]string{one, "--response", "weight", "--factor", "g"}, `column "weight": no such column for --response`},
+		{[]string{one, "--response", "y", "--factor", "dose"}, `column "dose": no such column for --factor`},
+		{[]string{one, "--response", "y", "--factor", "g", "--ss", "4"}, "--ss 4: must be 1, 2 or 3"},
+		{[]string{two, "--response", "y", "--factor", "g", "--posthoc", "dunnett", "--control", "z"}, `control "z" is not a level of g`},
+		{[]string{one}, "needs --response COLUMN and --factor COLUMN"},
+		{[]string{blocks, "--response", "y", "--factor", "g", "--block", "b"}, `b 3 has a single unit`},
+	}
+	for _, tt := range tests {
+		t.Run(tt.want, func(t *testing.T) {
+			code, _, errs := runArgs(t, append([]string{"analyze"}, tt.args...)...)
+			if code != exitUsage || !strings.Contains(errs, tt.want) {
+				t.Errorf("exit %d, stderr %q; want 2 and %q", code, errs, tt.want)
+			}
+		})
+	}
+}
+
+func TestAnalyzeRefusesErrors(t *testing.T) {
+	dir := t.TempDir()
+	layoutFiles(t, dir)
+	code, _, errs := runArgs(t, "analyze", filepath.Join(dir, "trial.xlsx"))
+	if code != exitUsage || !strings.Contains(errs, `response "height_cm" has no values yet`) {
+		t.Errorf("empty workbook: exit %d, %q", code, errs)
+	}
+}
