@@ -37,6 +37,8 @@ type Term struct {
 	// term.
 	Factors []string `json:"factors,omitempty"`
 	Block   bool     `json:"block,omitempty"`
+	// BlockInteraction marks a block × treatment term.
+	BlockInteraction bool `json:"block_interaction,omitempty"`
 }
 
 // Residual is the error line of the table.
@@ -82,10 +84,11 @@ type model struct {
 }
 
 type modelTerm struct {
-	name    string
-	factors []int // indices into Data.Factors
-	block   bool
-	cols    [][]float64 // coded columns, each of length n
+	name     string
+	factors  []int // indices into Data.Factors
+	block    bool
+	blockInt bool        // block × treatment-term interaction
+	cols     [][]float64 // coded columns, each of length n
 }
 
 // contrasts returns the sum-to-zero coding of a factor: L−1 columns, column j
@@ -184,6 +187,24 @@ func buildModel(d Data) (*model, error) {
 			m.terms = append(m.terms, modelTerm{name: strings.Join(names, " × "), factors: set, cols: cols})
 		}
 	}
+	if d.BlockInteraction && d.Block != nil {
+		// Block × each treatment term, after all treatment terms.
+		bcols := m.terms[0].cols
+		nt := len(m.terms)
+		for k := 1; k < nt; k++ {
+			var cols [][]float64
+			for _, a := range bcols {
+				for _, b := range m.terms[k].cols {
+					c := make([]float64, n)
+					for i := range c {
+						c[i] = a[i] * b[i]
+					}
+					cols = append(cols, c)
+				}
+			}
+			m.terms = append(m.terms, modelTerm{name: d.Block.Name + " × " + m.terms[k].name, blockInt: true, factors: m.terms[k].factors, cols: cols})
+		}
+	}
 	return m, nil
 }
 
@@ -234,7 +255,18 @@ func (m *model) fitOrder(order []int) (*qrFit, [][2]int) {
 // is not b).
 func (m *model) contains(a, b int) bool {
 	ta, tb := m.terms[a], m.terms[b]
-	if a == b || ta.block || tb.block || len(ta.factors) <= len(tb.factors) {
+	if a == b || ta.block || tb.blockInt {
+		return false
+	}
+	if ta.blockInt {
+		// block × T contains the block term and every term within T.
+		if tb.block {
+			return true
+		}
+		if len(ta.factors) < len(tb.factors) {
+			return false
+		}
+	} else if tb.block || len(ta.factors) <= len(tb.factors) {
 		return false
 	}
 	for _, f := range tb.factors {
@@ -317,7 +349,7 @@ func Fit(d Data, opt Options) (*Table, error) {
 			ss = f.ss(last[0], last[1])
 		}
 		df := len(term.cols)
-		row := Term{Source: term.name, DF: df, SS: ss, MS: ss / float64(df), Block: term.block}
+		row := Term{Source: term.name, DF: df, SS: ss, MS: ss / float64(df), Block: term.block, BlockInteraction: term.blockInt}
 		for _, fi := range term.factors {
 			row.Factors = append(row.Factors, d.Factors[fi].Name)
 		}
@@ -344,7 +376,7 @@ func Fit(d Data, opt Options) (*Table, error) {
 		t.Fitted[i] = m.y[i] - t.Residuals[i] + m.shift
 	}
 	t.Leverage = m.leverage(full, all)
-	if d.Block != nil {
+	if d.Block != nil && !d.BlockInteraction {
 		t.RelEfficiency = relEfficiency(t)
 	}
 	return t, nil

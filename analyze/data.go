@@ -22,6 +22,10 @@ type Data struct {
 	Factors []Column
 	// Block is the blocking column, or nil.
 	Block *Column
+	// BlockInteraction adds the block × treatment interaction to the model:
+	// a generalised randomised block design, with each treatment more than
+	// once in every block, estimates it from the replicates within blocks.
+	BlockInteraction bool
 	// Units and Where identify each observation (unit ID; for example
 	// `Entry!F7`), for listing unusual residuals. Either may be nil.
 	Units, Where []string

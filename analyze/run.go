@@ -98,14 +98,14 @@ func Run(d Data, opt RunOptions) (*Result, error) {
 	}
 	interaction := false
 	for _, term := range t.Terms {
-		if len(term.Factors) > 1 && term.P < t.Alpha {
+		if len(term.Factors) > 1 && !term.BlockInteraction && term.P < t.Alpha {
 			interaction = true
 		}
 	}
 	for fi, f := range d.Factors {
 		var term *Term
 		for i := range t.Terms {
-			if len(t.Terms[i].Factors) == 1 && t.Terms[i].Factors[0] == f.Name {
+			if len(t.Terms[i].Factors) == 1 && !t.Terms[i].BlockInteraction && t.Terms[i].Factors[0] == f.Name {
 				term = &t.Terms[i]
 			}
 		}
@@ -198,7 +198,7 @@ func balanced(d Data) bool {
 func simpleEffects(d Data, t *Table) ([]*PostHoc, error) {
 	var out []*PostHoc
 	for _, term := range t.Terms {
-		if len(term.Factors) != 2 || term.P >= t.Alpha {
+		if len(term.Factors) != 2 || term.BlockInteraction || term.P >= t.Alpha {
 			continue
 		}
 		ai, bi := factorIndex(d, term.Factors[0]), factorIndex(d, term.Factors[1])

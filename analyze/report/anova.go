@@ -113,6 +113,12 @@ func (a Analysis) Reading() []string {
 	for _, r := range t.Terms {
 		stat := fmt.Sprintf("F(%d, %d) = %s, p %s", r.DF, t.Residual.DF, num(r.F, 4), pvalPhrase(r.P))
 		switch {
+		case r.BlockInteraction:
+			verdict := "the data are consistent with the same treatment effect in every " + a.BlockName
+			if r.P < t.Alpha {
+				verdict = "the treatment effect differs between " + design.Plural(a.BlockName) + "; read the treatment comparisons with that in mind"
+			}
+			out = append(out, fmt.Sprintf("%s: %s (%s).", r.Source, verdict, stat))
 		case r.Block:
 			out = append(out, fmt.Sprintf("Differences between %s (%s) are taken out of the error; they are not a question the study asks.", design.Plural(r.Source), stat))
 		case r.P < t.Alpha:

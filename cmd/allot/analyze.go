@@ -223,12 +223,29 @@ func (o *analyzeOptions) jobs() ([]job, error) {
 		if p.Design == design.RCBD {
 			block = p.BlockName
 		}
-		out = append(out, job{data: dataOf(r, obs, fnames, names, block), missing: len(fl.Layout.Units) - len(obs.Values), control: p.Control, unit: "unit", blockName: p.BlockName})
+		d := dataOf(r, obs, fnames, names, block)
+		d.BlockInteraction = generalised(p)
+		out = append(out, job{data: d, missing: len(fl.Layout.Units) - len(obs.Values), control: p.Control, unit: "unit", blockName: p.BlockName})
 	}
 	if len(out) == 0 {
 		return nil, usagef("--response %s: the plan has no such response (responses: %s)", o.response, strings.Join(fl.Responses, ", "))
 	}
 	return out, nil
+}
+
+// generalised reports whether a plan is a generalised randomised block
+// design (every treatment at least twice in every block), whose model has a
+// block × treatment term.
+func generalised(p design.Plan) bool {
+	if p.Design != design.RCBD || p.Units != nil {
+		return false
+	}
+	for _, r := range p.Reps {
+		if r < 2 {
+			return false
+		}
+	}
+	return true
 }
 
 // dataOf turns observations into analysis data.
