@@ -364,11 +364,7 @@ func Fit(d Data, opt Options) (*Table, error) {
 	}
 	t.R2 = 1 - t.Residual.SS/t.TotalSS
 	t.ResidSD = math.Sqrt(t.Residual.MS)
-	all0 := make([]int, n)
-	for i := range all0 {
-		all0[i] = i
-	}
-	t.GrandMean = ratMean(d.Values, all0)
+	t.GrandMean = shiftedMean(m.y, m.shift, nil)
 	t.CV = 100 * t.ResidSD / math.Abs(t.GrandMean)
 	t.Residuals = full.residuals()
 	t.Fitted = make([]float64, n)

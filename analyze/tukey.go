@@ -57,10 +57,11 @@ func Summaries(d Data, fi int) ([]Group, error) {
 	if err != nil {
 		return nil, err
 	}
-	y, _, err := centred(d.Values)
+	y, shift, err := centred(d.Values)
 	if err != nil {
 		return nil, err
 	}
+	sh, _ := shift.Float64()
 	members := make([][]int, len(lv))
 	for i, l := range idx {
 		members[l] = append(members[l], i)
@@ -76,7 +77,7 @@ func Summaries(d Data, fi int) ([]Group, error) {
 		for _, i := range ms {
 			ss += (y[i] - m) * (y[i] - m)
 		}
-		g := Group{Level: lv[l], N: len(ms), Mean: ratMean(d.Values, ms), SD: math.NaN()}
+		g := Group{Level: lv[l], N: len(ms), Mean: shiftedMean(y, sh, ms), SD: math.NaN()}
 		if len(ms) > 1 {
 			g.SD = math.Sqrt(ss / float64(len(ms)-1))
 		}
