@@ -296,6 +296,10 @@ func Fit(d Data, opt Options) (*Table, error) {
 	if opt.Alpha == 0 {
 		opt.Alpha = 0.05
 	}
+	d, _, err := Average(d)
+	if err != nil {
+		return nil, err
+	}
 	m, err := buildModel(d)
 	if err != nil {
 		return nil, err

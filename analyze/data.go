@@ -19,9 +19,13 @@ type Column struct {
 // Data is one response with its design columns, complete observations only.
 type Data struct {
 	Response string
-	// Values holds each observation as decimal text ("12.40", "1e3").
-	Values  []string
-	Factors []Column
+	// Values holds each observation as decimal text ("12.40", "1e3") or an
+	// exact ratio ("31/3").
+	Values []string
+	// Subsamples, when set instead of Values, holds each observation's
+	// measurements; they are averaged to the unit (see Average).
+	Subsamples [][]string
+	Factors    []Column
 	// Block is the blocking column, or nil.
 	Block *Column
 	// BlockInteraction adds the block × treatment interaction to the model:

@@ -173,3 +173,19 @@ func TestFitErrors(t *testing.T) {
 		t.Errorf("empty cell: %v", err)
 	}
 }
+
+func TestAverageSubsamples(t *testing.T) {
+	d := Data{Response: "y", Subsamples: [][]string{{"10", "11", "10"}, {"1000000000000.1", "1000000000000.2"}}, Factors: []Column{{Name: "f", Values: []string{"a", "b"}}}}
+	got, s, err := Average(d)
+	if err != nil {
+		t.Fatal(err)
+	}
+	// Exact means: 31/3, and 1000000000000.15 = 20000000000003/20.
+	if got.Values[0] != "31/3" || got.Values[1] != "20000000000003/20" {
+		t.Errorf("means %v", got.Values)
+	}
+	// Pooled within-unit variance: (2/3 + 0.005)/(2 + 1), by hand.
+	if s.DF != 3 || math.Abs(s.Variance-(2.0/3+0.005)/3) > 1e-12 || s.Measurements != 5 {
+		t.Errorf("sampling %+v", s)
+	}
+}

@@ -39,6 +39,7 @@ type Result struct {
 	Groups      [][]Group   `json:"groups"`
 	PostHoc     []*PostHoc  `json:"posthoc"`
 	Simple      []*PostHoc  `json:"simple_effects,omitempty"`
+	Sampling    *Sampling   `json:"subsampling,omitempty"`
 	Assumptions Assumptions `json:"assumptions"`
 	Notes       []string    `json:"notes,omitempty"`
 }
@@ -84,11 +85,15 @@ func Run(d Data, opt RunOptions) (*Result, error) {
 	default:
 		return nil, fmt.Errorf("post-hoc method %q: must be tukey, dunnett, holm or none", opt.PostHoc)
 	}
+	d, sampling, err := Average(d)
+	if err != nil {
+		return nil, err
+	}
 	t, err := Fit(d, opt.Options)
 	if err != nil {
 		return nil, err
 	}
-	res := &Result{Table: t}
+	res := &Result{Table: t, Sampling: sampling}
 	for fi := range d.Factors {
 		g, err := Summaries(d, fi)
 		if err != nil {

@@ -80,6 +80,10 @@ type Plan struct {
 	Blind bool `json:"blind,omitempty"`
 	// Order adds a randomised measurement order within each block.
 	Order bool `json:"order,omitempty"`
+	// Subsamples is the number of measurements taken on each unit (leaves
+	// on a plant, pups in a litter-housed cage): 0 or 1 for one. They are
+	// recorded on their own rows and averaged to the unit for analysis.
+	Subsamples int `json:"subsamples,omitempty"`
 }
 
 // UnitSpec is one unit of a given unit list.
@@ -327,6 +331,12 @@ func (p Plan) Validate() error {
 	}
 	if n := p.NumUnits(); n > MaxUnits {
 		return errf("reps", "%d units: more than a worksheet can hold (%d rows below the header)", n, MaxUnits)
+	}
+	if p.Subsamples < 0 || p.Subsamples > 1000 {
+		return errf("subsamples", "%d subsamples per unit: give 2 to 1000 (or 1 for one measurement per unit)", p.Subsamples)
+	}
+	if n := p.NumUnits() * max(p.Subsamples, 1); n > MaxUnits {
+		return errf("subsamples", "%d units × %d subsamples = %d rows: more than a worksheet can hold (%d)", p.NumUnits(), p.Subsamples, n, MaxUnits)
 	}
 	if g := p.Grid; g != nil {
 		if g.Rows < 1 || g.Cols < 1 {

@@ -47,6 +47,7 @@ type Spec struct {
 	Numbering   string `toml:"numbering"`
 	Blind       bool   `toml:"blind"`
 	Order       bool   `toml:"order"`
+	Subsamples  int    `toml:"subsamples"`
 }
 
 // ParseSpec decodes a TOML spec file. Unknown keys are errors, so that a
@@ -361,7 +362,10 @@ func BlocksByMatching(rows []UnitRow, size int, covName string) ([]UnitSpec, int
 // list (nil without one). The seed must be set (Seed != nil); drawing one is
 // the caller's business, so that the plan records it.
 func (s Spec) Resolve(units []UnitRow) (Plan, error) {
-	p := Plan{Title: s.Title, Design: Kind(s.Design), Control: s.Control, BlockName: s.BlockName, Blind: s.Blind, Order: s.Order}
+	p := Plan{Title: s.Title, Design: Kind(s.Design), Control: s.Control, BlockName: s.BlockName, Blind: s.Blind, Order: s.Order, Subsamples: s.Subsamples}
+	if p.Subsamples == 1 {
+		p.Subsamples = 0
+	}
 	if p.Title == "" {
 		p.Title = "Untitled experiment"
 	}

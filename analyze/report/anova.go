@@ -50,6 +50,14 @@ func (a Analysis) summaryLines() []string {
 	t := a.Table
 	lines := []string{fmt.Sprintf("n = %d, grand mean %s, residual SD %s, R² %s, CV %s%%",
 		t.N, num(t.GrandMean, 5), num(t.ResidSD, 4), fixed(t.R2, 3), num(t.CV, 3))}
+	if s := a.Sampling; s != nil {
+		per := fmt.Sprint(s.MinPerUnit)
+		if s.MaxPerUnit != s.MinPerUnit {
+			per = fmt.Sprintf("%d to %d", s.MinPerUnit, s.MaxPerUnit)
+		}
+		lines = append(lines, fmt.Sprintf("Subsamples: %d measurements on %d units (%s per unit) were averaged to the unit, the unit of analysis; variance between subsamples of a unit %s (df %d).",
+			s.Measurements, s.Units, per, num(s.Variance, 4), s.DF))
+	}
 	if t.RelEfficiency > 0 {
 		lines = append(lines, fmt.Sprintf("Relative efficiency of blocking by %s: %s (a completely randomised layout would have needed about %s times as many units for the same precision; Cochran and Cox 1957).",
 			a.BlockName, num(t.RelEfficiency, 3), num(t.RelEfficiency, 2)))

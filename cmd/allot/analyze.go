@@ -210,7 +210,7 @@ func (o *analyzeOptions) jobs() ([]job, error) {
 			continue
 		}
 		obs := fl.Observations(k)
-		if len(obs.Values) == 0 {
+		if len(obs.Values) == 0 && len(obs.Subsamples) == 0 {
 			return nil, inputErr(fmt.Errorf("%s: response %q has no values yet; fill it in first", o.read.file, r))
 		}
 		var names [][]string
@@ -225,7 +225,7 @@ func (o *analyzeOptions) jobs() ([]job, error) {
 		}
 		d := dataOf(r, obs, fnames, names, block)
 		d.BlockInteraction = generalised(p)
-		out = append(out, job{data: d, missing: len(fl.Layout.Units) - len(obs.Values), control: p.Control, unit: "unit", blockName: p.BlockName})
+		out = append(out, job{data: d, missing: len(fl.Layout.Units) - len(obs.Units), control: p.Control, unit: "unit", blockName: p.BlockName})
 	}
 	if len(out) == 0 {
 		return nil, usagef("--response %s: the plan has no such response (responses: %s)", o.response, strings.Join(fl.Responses, ", "))
@@ -250,7 +250,7 @@ func generalised(p design.Plan) bool {
 
 // dataOf turns observations into analysis data.
 func dataOf(response string, obs workbook.Observations, factors []string, levels [][]string, block string) analyze.Data {
-	d := analyze.Data{Response: response, Values: obs.Values, Units: obs.Units, Where: obs.Cells}
+	d := analyze.Data{Response: response, Values: obs.Values, Subsamples: obs.Subsamples, Units: obs.Units, Where: obs.Cells}
 	for i, f := range factors {
 		c := analyze.Column{Name: f, Values: obs.Levels[i]}
 		if levels != nil {

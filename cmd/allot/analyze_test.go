@@ -5,8 +5,11 @@ import (
 	"encoding/json"
 	"os"
 	"path/filepath"
+	"strconv"
 	"strings"
 	"testing"
+
+	"github.com/xuri/excelize/v2"
 )
 
 func TestAnalyzeParse(t *testing.T) {
@@ -119,5 +122,30 @@ func TestAnalyzeRefusesErrors(t *testing.T) {
 	code, _, errs := runArgs(t, "analyze", filepath.Join(dir, "trial.xlsx"))
 	if code != exitUsage || !strings.Contains(errs, `response "height_cm" has no values yet`) {
 		t.Errorf("empty workbook: exit %d, %q", code, errs)
+	}
+}
+
+func TestAnalyzeSubsamples(t *testing.T) {
+	dir := t.TempDir()
+	wb := filepath.Join(dir, "sub.xlsx")
+	code, _, errs := runArgs(t, "layout", "--factor", "feed=F0,F1,F2", "--design", "rcbd", "--blocks", "3", "--seed", "5",
+		"--response", "leaf_mm", "--subsamples", "2", "-o", wb)
+	if code != 0 {
+		t.Fatal(errs)
+	}
+	f, err := excelize.OpenFile(wb)
+	if err != nil {
+		t.Fatal(err)
+	}
+	rows, _ := f.GetRows("Entry")
+	for r := 2; r <= len(rows); r++ {
+		treat := rows[r-1][3]
+		base := map[string]float64{"F0": 20, "F1": 24, "F2": 29}[treat]
+		f.SetCellFloat("Entry", "F"+strconv.Itoa(r), base+float64(r%3)*0.4, -1, 64)
+	}
+	f.Save()
+	code, out, errs := runArgs(t, "analyze", wb)
+	if code != 0 || !strings.Contains(out, "Subsamples: 18 measurements on 9 units (2 per unit) were averaged to the unit") {
+		t.Errorf("exit %d %s\n%s", code, errs, out)
 	}
 }

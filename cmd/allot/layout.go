@@ -101,6 +101,7 @@ file (keys are these flag names, with _ for -); flags override it.` + "\n" + exi
 	f.BoolVar(&o.spec.Blind, "blind", false, "show codes instead of treatment names; write the key to --key")
 	f.StringVar(&o.key, "key", "", "write the blinding key to `FILE` (with --blind)")
 	f.BoolVar(&o.spec.Order, "order", false, "add a randomised measurement order within each block")
+	f.IntVar(&o.spec.Subsamples, "subsamples", 0, "record `N` measurements per unit, one row each (averaged to the unit for analysis)")
 	f.StringVarP(&o.out, "out", "o", "", "write the layout to `FILE` (.xlsx workbook, .csv or .json)")
 	f.BoolVar(&o.json, "json", false, "print the resolved plan and assignment as JSON")
 	f.BoolVar(&o.force, "force", false, "replace existing output files")
@@ -155,6 +156,9 @@ func (o *layoutOptions) resolveSpec(c *cobra.Command) error {
 		if changed("order") {
 			sp.Order = flags.Order
 		}
+		if changed("subsamples") {
+			sp.Subsamples = flags.Subsamples
+		}
 		o.spec = sp
 	}
 	if o.seed != "" {
@@ -188,7 +192,7 @@ func planError(err error) error {
 	var de *design.Error
 	if errors.As(err, &de) {
 		flag := map[string]string{"factor": "factor", "control": "control", "reps": "reps", "blocks": "blocks",
-			"block_name": "block-name", "response": "response", "design": "design", "units": "units", "grid": "grid", "seed": "seed"}[de.Field]
+			"block_name": "block-name", "response": "response", "design": "design", "units": "units", "grid": "grid", "seed": "seed", "subsamples": "subsamples"}[de.Field]
 		if flag == "" {
 			flag = de.Field
 		}

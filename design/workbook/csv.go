@@ -25,9 +25,11 @@ func WriteCSV(w io.Writer, l design.Layout) error {
 	tr := p.Treatments()
 	blank := make([]string, len(head)-c.designCount(p))
 	for _, u := range l.Units {
-		row := append(designCells(c, u, l.Label(u), tr), blank...)
-		if err := cw.Write(escapeRow(row)); err != nil {
-			return err
+		for sub := 1; sub <= c.rowsPer(); sub++ {
+			row := append(designCells(c, u, sub, l.Label(u), tr), blank...)
+			if err := cw.Write(escapeRow(row)); err != nil {
+				return err
+			}
 		}
 	}
 	cw.Flush()

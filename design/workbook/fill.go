@@ -40,6 +40,9 @@ func Fill(src, dst string, values [][]float64, label string, force bool) error {
 	if err != nil {
 		return err
 	}
+	if c.subsamples > 0 {
+		return fmt.Errorf("workbook: Fill writes one value per unit; this plan has %d subsamples per unit", c.subsamples)
+	}
 	rowOf := map[string]int{}
 	for r := 1; r < len(rows); r++ {
 		if len(rows[r]) > 0 {
@@ -82,12 +85,15 @@ func Fill(src, dst string, values [][]float64, label string, force bool) error {
 // texts of the units that have a value, with their treatment levels, block,
 // unit IDs and cells.
 type Observations struct {
-	Values    []string
-	Levels    [][]string // per factor, one level per observation
-	Blocks    []string   // block number as text, per observation (nil for CRD)
-	Units     []string
-	Cells     []string
-	Treatment []string
+	Values []string
+	// Subsamples holds each observation's subsample values (decimal text)
+	// when the plan has subsamples; Values is then nil.
+	Subsamples [][]string
+	Levels     [][]string // per factor, one level per observation
+	Blocks     []string   // block number as text, per observation (nil for CRD)
+	Units      []string
+	Cells      []string
+	Treatment  []string
 }
 
 // Observations collects the non-missing values of response r. It panics on
@@ -104,7 +110,18 @@ func (fl *Filled) Observations(r int) Observations {
 		if v.Missing {
 			continue
 		}
-		o.Values = append(o.Values, v.Text)
+		if fl.Subs != nil {
+			var subs []string
+			for _, sv := range fl.Subs[r][i] {
+				if !sv.Missing {
+					subs = append(subs, sv.Text)
+				}
+			}
+			o.Subsamples = append(o.Subsamples, subs)
+			v.Cell = fl.Subs[r][i][0].Cell
+		} else {
+			o.Values = append(o.Values, v.Text)
+		}
 		for fi := range p.Factors {
 			o.Levels[fi] = append(o.Levels[fi], tr[u.Treatment].Levels[fi])
 		}

@@ -65,8 +65,11 @@ type Value struct {
 type Filled struct {
 	Layout    design.Layout
 	Responses []string
-	// Values[r][i] is response r of unit Layout.Units[i].
+	// Values[r][i] is response r of unit Layout.Units[i]. With subsamples
+	// its Text is empty and Missing says whether no subsample has a value;
+	// Subs[r][i][k] holds subsample k+1.
 	Values   [][]Value
+	Subs     [][][]Value
 	Problems []Problem
 	// Sealed marks a blind workbook read without its key: treatments are
 	// unknown (Treatment −1) and the data cannot be analysed.
@@ -241,6 +244,18 @@ func checkRows(path, sheet string, rows [][]string, isText func(ref string) bool
 			out.Values[i][j].Missing = true
 		}
 	}
+	if c.subsamples > 0 {
+		out.Subs = make([][][]Value, len(p.Responses))
+		for k := range out.Subs {
+			out.Subs[k] = make([][]Value, len(l.Units))
+			for i := range out.Subs[k] {
+				out.Subs[k][i] = make([]Value, c.subsamples)
+				for j := range out.Subs[k][i] {
+					out.Subs[k][i][j].Missing = true
+				}
+			}
+		}
+	}
 	add := func(sev Severity, cellRef, unit, msg string) {
 		out.Problems = append(out.Problems, Problem{Severity: sev, Level: sev.String(), Sheet: sheet, Cell: cellRef, Unit: unit, Msg: msg})
 	}
@@ -285,10 +300,24 @@ func checkRows(path, sheet string, rows [][]string, isText func(ref string) bool
 			add(Error, ref(0), id, fmt.Sprintf("unit %q is not in the plan; correct the ID or delete the row", id))
 			continue
 		}
-		if prev, dup := seenRow[id]; dup {
-			add(Error, ref(0), id, fmt.Sprintf("unit %s appears again (first in %s); delete the duplicate row", id, prev))
+		sub, key := 1, id
+		if c.subsamples > 0 {
+			n, err := strconv.Atoi(at(nd - 1))
+			if err != nil || n < 1 || n > c.subsamples {
+				add(Error, ref(nd-1), id, fmt.Sprintf("subsample %q: must be a whole number from 1 to %d; restore it", at(nd-1), c.subsamples))
+				continue
+			}
+			sub, key = n, id+"/"+strconv.Itoa(n)
+		}
+		if prev, dup := seenRow[key]; dup {
+			what := "unit " + id
+			if c.subsamples > 0 {
+				what += fmt.Sprintf(" subsample %d", sub)
+			}
+			add(Error, ref(0), id, fmt.Sprintf("%s appears again (first in %s); delete the duplicate row", what, prev))
 			continue
 		}
+		seenRow[key] = ref(0)
 		seenRow[id] = ref(0)
 		label := ""
 		if labels != nil {
@@ -296,7 +325,7 @@ func checkRows(path, sheet string, rows [][]string, isText func(ref string) bool
 		} else {
 			label = l.Label(l.Units[ui])
 		}
-		want := designCells(c, l.Units[ui], label, tr)
+		want := designCells(c, l.Units[ui], sub, label, tr)
 		for j := 1; j < len(want); j++ {
 			if got := at(j); got != want[j] {
 				add(Error, ref(j), id, fmt.Sprintf("%s was %q in the plan and is now %q; restore it (the plan, not the sheet, says what each unit received)", heads[j], want[j], got))
@@ -313,10 +342,22 @@ func checkRows(path, sheet string, rows [][]string, isText func(ref string) bool
 				}
 				add(sev, ref(j), id, prob)
 			}
-			out.Values[k][ui] = v
+			if c.subsamples > 0 {
+				out.Subs[k][ui][sub-1] = v
+				if !v.Missing {
+					out.Values[k][ui].Missing = false
+				}
+			} else {
+				out.Values[k][ui] = v
+			}
 		}
 	}
 	for i, u := range l.Units {
+		for sub := 1; c.subsamples > 0 && sub <= c.subsamples; sub++ {
+			if _, ok := seenRow[u.ID+"/"+strconv.Itoa(sub)]; !ok && seenRow[u.ID] != "" {
+				add(Error, "", u.ID, fmt.Sprintf("unit %s subsample %d has no row: a row was deleted; add it back", u.ID, sub))
+			}
+		}
 		if _, ok := seenRow[u.ID]; !ok {
 			what := ""
 			switch {

@@ -40,6 +40,7 @@ const (
 	headTreatment = "Treatment"
 	headCode      = "Code"
 	headOrder     = "Measure order"
+	headSubsample = "Subsample"
 	headNotes     = "Notes"
 
 	chunkSize = 30000

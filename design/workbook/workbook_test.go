@@ -333,3 +333,44 @@ func BenchmarkWorkbook(b *testing.B) {
 		})
 	}
 }
+
+func TestSubsamples(t *testing.T) {
+	l := testLayout(t, false)
+	l.Plan.Subsamples = 3
+	l, err := randomize.Assign(l.Plan)
+	if err != nil {
+		t.Fatal(err)
+	}
+	path := filepath.Join(t.TempDir(), "sub.xlsx")
+	if err := Write(path, l, meta, false); err != nil {
+		t.Fatal(err)
+	}
+	f, _ := excelize.OpenFile(path)
+	rows, _ := f.GetRows(SheetEntry)
+	if len(rows) != 1+3*len(l.Units) || rows[0][4] != "Subsample" {
+		t.Fatalf("%d rows, header %v", len(rows), rows[0])
+	}
+	// Fill heights; leave unit 1's third subsample empty, delete one row.
+	for r := 2; r <= len(rows); r++ {
+		if r != 4 {
+			f.SetCellFloat(SheetEntry, cell(6, r), float64(r)+0.1, -1, 64)
+		}
+	}
+	f.RemoveRow(SheetEntry, 10)
+	f.SaveAs(path)
+	fl, err := Read(path, ReadOptions{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	obs := fl.Observations(0)
+	if len(obs.Subsamples[0]) != 2 || obs.Subsamples[0][0] != "2.1" {
+		t.Errorf("first unit's subsamples %v", obs.Subsamples[0])
+	}
+	found := false
+	for _, p := range fl.Problems {
+		found = found || p.Severity == Error && strings.Contains(p.Msg, "subsample 3 has no row")
+	}
+	if !found {
+		t.Errorf("deleted subsample row not reported: %v", fl.Problems)
+	}
+}

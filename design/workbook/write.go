@@ -22,16 +22,20 @@ type Meta struct {
 
 // columns describes the Entry sheet's columns for a plan.
 type columns struct {
-	block     bool
-	factors   bool
-	order     bool
-	blind     bool
-	responses []design.Response
+	block      bool
+	factors    bool
+	order      bool
+	blind      bool
+	subsamples int // 0 without subsamples
+	responses  []design.Response
 }
 
 func layoutColumns(p design.Plan) columns {
-	return columns{block: p.Design == design.RCBD, factors: len(p.Factors) > 1 && !p.Blind, order: p.Order, blind: p.Blind, responses: p.Responses}
+	return columns{block: p.Design == design.RCBD, factors: len(p.Factors) > 1 && !p.Blind, order: p.Order, blind: p.Blind, subsamples: p.Subsamples, responses: p.Responses}
 }
+
+// rowsPer returns the number of Entry rows of a unit.
+func (c columns) rowsPer() int { return max(c.subsamples, 1) }
 
 // headers returns the Entry header row.
 func (c columns) headers(p design.Plan) []string {
@@ -53,6 +57,9 @@ func (c columns) headers(p design.Plan) []string {
 	if c.order {
 		h = append(h, headOrder)
 	}
+	if c.subsamples > 0 {
+		h = append(h, headSubsample)
+	}
 	for _, r := range c.responses {
 		h = append(h, r.Name)
 	}
@@ -71,6 +78,9 @@ func (c columns) designCount(p design.Plan) int {
 	if c.order {
 		n++
 	}
+	if c.subsamples > 0 {
+		n++
+	}
 	return n
 }
 
@@ -82,9 +92,10 @@ func blockHeader(p design.Plan) string {
 	return strings.ToUpper(n[:1]) + n[1:]
 }
 
-// designCells returns the design cells of a unit's row, as written; label
-// is the treatment name or blind code.
-func designCells(c columns, u design.Unit, label string, tr []design.Treatment) []string {
+// designCells returns the design cells of a unit's row (subsample sub,
+// 1-based, when the plan has subsamples), as written; label is the
+// treatment name or blind code.
+func designCells(c columns, u design.Unit, sub int, label string, tr []design.Treatment) []string {
 	row := []string{u.ID}
 	if c.block {
 		row = append(row, strconv.Itoa(u.Block))
@@ -96,7 +107,27 @@ func designCells(c columns, u design.Unit, label string, tr []design.Treatment) 
 	if c.order {
 		row = append(row, strconv.Itoa(u.Order))
 	}
+	if c.subsamples > 0 {
+		row = append(row, strconv.Itoa(sub))
+	}
 	return row
+}
+
+// numeric reports whether design column j is written as a number: Unit,
+// block and Position when they parse as integers, and the order and
+// subsample columns.
+func (c columns) numeric(j, nd int) bool {
+	if j < c.numericCount() {
+		return true
+	}
+	last := nd - 1
+	if c.subsamples > 0 && j == last {
+		return true
+	}
+	if c.subsamples > 0 {
+		last--
+	}
+	return c.order && j == last
 }
 
 // Write writes the data-entry workbook for layout l to path. It refuses to
@@ -261,20 +292,23 @@ func writeEntry(f *excelize.File, l design.Layout) error {
 	f.SetCellStyle(SheetEntry, cell(1, 1), cell(len(heads), 1), head)
 	tr := p.Treatments()
 	nd := c.designCount(p)
-	for i, u := range l.Units {
-		row := i + 2
-		for j, v := range designCells(c, u, l.Label(u), tr) {
-			// Unit ID, block, position and order are numbers where they look
-			// like numbers; treatment and level names are always text.
-			n, err := strconv.Atoi(v)
-			if err == nil && (j < c.numericCount() || c.order && j == nd-1) {
-				f.SetCellInt(SheetEntry, cell(j+1, row), int64(n))
-			} else {
-				f.SetCellStr(SheetEntry, cell(j+1, row), v)
+	row := 1
+	for _, u := range l.Units {
+		for sub := 1; sub <= c.rowsPer(); sub++ {
+			row++
+			for j, v := range designCells(c, u, sub, l.Label(u), tr) {
+				// Numbers where they look like numbers; treatment and level
+				// names are always text.
+				n, err := strconv.Atoi(v)
+				if err == nil && c.numeric(j, nd) {
+					f.SetCellInt(SheetEntry, cell(j+1, row), int64(n))
+				} else {
+					f.SetCellStr(SheetEntry, cell(j+1, row), v)
+				}
 			}
 		}
 	}
-	last := len(l.Units) + 1
+	last := row
 	if last >= 2 {
 		f.SetCellStyle(SheetEntry, cell(nd+1, 2), cell(len(heads), last), open)
 	}
