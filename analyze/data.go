@@ -159,7 +159,16 @@ func centred(values []string) ([]float64, *big.Rat, error) {
 		}
 		decs[i] = d
 		f, err := strconv.ParseFloat(s, 64)
-		if err != nil || math.IsNaN(f) || math.IsInf(f, 0) {
+		if err != nil {
+			// An exact ratio such as a subsample mean, "31/3".
+			r, ok := new(big.Rat).SetString(s)
+			if !ok {
+				return nil, nil, fmt.Errorf("observation %d: %q is not a decimal number", i+1, s)
+			}
+			f, _ = r.Float64()
+			err = nil
+		}
+		if math.IsNaN(f) || math.IsInf(f, 0) {
 			return nil, nil, fmt.Errorf("observation %d: %q is not a decimal number", i+1, s)
 		}
 		floats[i] = f
