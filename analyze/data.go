@@ -166,7 +166,6 @@ func centred(values []string) ([]float64, *big.Rat, error) {
 				return nil, nil, fmt.Errorf("observation %d: %q is not a decimal number", i+1, s)
 			}
 			f, _ = r.Float64()
-			err = nil
 		}
 		if math.IsNaN(f) || math.IsInf(f, 0) {
 			return nil, nil, fmt.Errorf("observation %d: %q is not a decimal number", i+1, s)

@@ -109,6 +109,9 @@ type ReadOptions struct {
 	DecimalComma bool
 	// Key unblinds a blind workbook.
 	Key *design.Key
+	// UnzipLimit overrides UnzipSizeLimit (bytes unpacked in all); 0 keeps
+	// the default.
+	UnzipLimit int64
 }
 
 var decimalCommaRE = regexp.MustCompile(`^[+-]?\d+,\d+$`)
@@ -118,8 +121,15 @@ var decimalCommaRE = regexp.MustCompile(`^[+-]?\d+,\d+$`)
 // in Filled.Problems; a *FileError is returned when the file cannot be used
 // at all (not a workbook, plan sheet missing or edited).
 func Read(path string, opt ReadOptions) (*Filled, error) {
-	f, err := excelize.OpenFile(path, excelize.Options{RawCellValue: true, UnzipSizeLimit: UnzipSizeLimit, UnzipXMLSizeLimit: UnzipXMLSizeLimit})
+	limit := int64(UnzipSizeLimit)
+	if opt.UnzipLimit > 0 {
+		limit = opt.UnzipLimit
+	}
+	f, err := excelize.OpenFile(path, excelize.Options{RawCellValue: true, UnzipSizeLimit: limit, UnzipXMLSizeLimit: min(int64(UnzipXMLSizeLimit), limit)})
 	if err != nil {
+		if strings.Contains(err.Error(), "size exceeds") || strings.Contains(err.Error(), "limit") {
+			return nil, &FileError{Path: path, Msg: fmt.Sprintf("unpacks to more than %d MiB, the limit for a workbook; it is not a data-entry workbook allot wrote (a workbook of a million units unpacks to far less)", limit>>20)}
+		}
 		return nil, &FileError{Path: path, Msg: "cannot be read as an .xlsx workbook (" + err.Error() + "); give the file written by `allot layout` or a copy re-saved as .xlsx"}
 	}
 	defer f.Close()

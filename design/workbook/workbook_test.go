@@ -1,6 +1,8 @@
 package workbook
 
 import (
+	"archive/zip"
+	"bytes"
 	"errors"
 	"fmt"
 	"os"
@@ -372,5 +374,73 @@ func TestSubsamples(t *testing.T) {
 	}
 	if !found {
 		t.Errorf("deleted subsample row not reported: %v", fl.Problems)
+	}
+}
+
+func TestOversizedWorkbookRefused(t *testing.T) {
+	// A zip whose one sheet unpacks to 8 MiB of spaces, read with a 2 MiB
+	// limit: refused with a clear error, not read into memory.
+	path := filepath.Join(t.TempDir(), "bomb.xlsx")
+	out, _ := os.Create(path)
+	zw := zip.NewWriter(out)
+	for _, name := range []string{"[Content_Types].xml", "xl/workbook.xml", "xl/worksheets/sheet1.xml"} {
+		w, _ := zw.Create(name)
+		w.Write([]byte("<?xml version=\"1.0\"?>"))
+		if name == "xl/worksheets/sheet1.xml" {
+			chunk := bytes.Repeat([]byte(" "), 1<<20)
+			for i := 0; i < 8; i++ {
+				w.Write(chunk)
+			}
+		}
+	}
+	zw.Close()
+	out.Close()
+	_, err := Read(path, ReadOptions{UnzipLimit: 2 << 20})
+	if err == nil || !strings.Contains(err.Error(), "unpacks to more than 2 MiB") {
+		t.Errorf("got %v", err)
+	}
+}
+
+func TestEntryHygiene(t *testing.T) {
+	l := testLayout(t, false)
+	path := filepath.Join(t.TempDir(), "h.xlsx")
+	if err := Write(path, l, meta, false); err != nil {
+		t.Fatal(err)
+	}
+	f, err := excelize.OpenFile(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	dvs, err := f.GetDataValidations(SheetEntry)
+	if err != nil || len(dvs) != 2 || dvs[0].Sqref != "E2:E10" || dvs[0].Type != "decimal" {
+		t.Errorf("validations %+v %v", dvs, err)
+	}
+	panes, err := f.GetPanes(SheetEntry)
+	if err != nil || !panes.Freeze || panes.YSplit != 1 {
+		t.Errorf("panes %+v %v", panes, err)
+	}
+	zr, err := zip.OpenReader(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer zr.Close()
+	var sheets string
+	for _, zf := range zr.File {
+		if strings.HasPrefix(zf.Name, "xl/worksheets/") {
+			rc, _ := zf.Open()
+			b := new(bytes.Buffer)
+			b.ReadFrom(rc)
+			rc.Close()
+			sheets += b.String()
+		}
+	}
+	for _, want := range []string{"<sheetProtection", `orientation="landscape"`, `fitToWidth="1"`} {
+		if !strings.Contains(sheets, want) {
+			t.Errorf("worksheets lack %s", want)
+		}
+	}
+	vis, _ := f.GetSheetVisible(SheetData)
+	if vis {
+		t.Error("the plan sheet is visible")
 	}
 }

@@ -280,38 +280,19 @@ func cell(col, row int) string {
 	return c
 }
 
+// writeEntry writes the Entry sheet through excelize's stream writer, which
+// keeps memory flat for large layouts (a row at a time), then adds the
+// validation, print setup and protection.
 func writeEntry(f *excelize.File, l design.Layout) error {
 	p := l.Plan
 	c := layoutColumns(p)
 	heads := c.headers(p)
 	head, _ := f.NewStyle(&excelize.Style{Font: &excelize.Font{Bold: true}, Fill: excelize.Fill{Type: "pattern", Pattern: 1, Color: []string{"DDE7F0"}}, Border: []excelize.Border{{Type: "bottom", Color: "000000", Style: 1}}})
 	open, _ := f.NewStyle(&excelize.Style{Protection: &excelize.Protection{Locked: false}, Fill: excelize.Fill{Type: "pattern", Pattern: 1, Color: []string{"FFF8DC"}}})
-	for i, h := range heads {
-		f.SetCellStr(SheetEntry, cell(i+1, 1), h)
-	}
-	f.SetCellStyle(SheetEntry, cell(1, 1), cell(len(heads), 1), head)
-	tr := p.Treatments()
+	// Validation, print setup and protection go on the sheet before the rows
+	// are streamed: the stream writer appends these parts as it found them.
 	nd := c.designCount(p)
-	row := 1
-	for _, u := range l.Units {
-		for sub := 1; sub <= c.rowsPer(); sub++ {
-			row++
-			for j, v := range designCells(c, u, sub, l.Label(u), tr) {
-				// Numbers where they look like numbers; treatment and level
-				// names are always text.
-				n, err := strconv.Atoi(v)
-				if err == nil && c.numeric(j, nd) {
-					f.SetCellInt(SheetEntry, cell(j+1, row), int64(n))
-				} else {
-					f.SetCellStr(SheetEntry, cell(j+1, row), v)
-				}
-			}
-		}
-	}
-	last := row
-	if last >= 2 {
-		f.SetCellStyle(SheetEntry, cell(nd+1, 2), cell(len(heads), last), open)
-	}
+	last := len(l.Units)*c.rowsPer() + 1
 	for k, r := range p.Responses {
 		col := nd + 1 + k
 		dv := excelize.NewDataValidation(true)
@@ -338,27 +319,67 @@ func writeEntry(f *excelize.File, l design.Layout) error {
 			return err
 		}
 	}
-	f.SetPanes(SheetEntry, &excelize.Panes{Freeze: true, YSplit: 1, TopLeftCell: "A2", ActivePane: "bottomLeft"})
-	for i, h := range heads {
-		w := float64(len(h)) + 4
-		if h == headTreatment {
-			w = 24
-		}
-		if h == headNotes {
-			w = 30
-		}
-		col, _ := excelize.ColumnNumberToName(i + 1)
-		f.SetColWidth(SheetEntry, col, col, max(w, 9))
-	}
 	landscape := "landscape"
 	one := 1
 	zero := 0
 	f.SetPageLayout(SheetEntry, &excelize.PageLayoutOptions{Orientation: &landscape, FitToWidth: &one, FitToHeight: &zero})
 	f.SetDefinedName(&excelize.DefinedName{Name: "_xlnm.Print_Titles", RefersTo: "'" + SheetEntry + "'!$1:$1", Scope: SheetEntry})
-	return f.ProtectSheet(SheetEntry, &excelize.SheetProtectionOptions{
+	if err := f.ProtectSheet(SheetEntry, &excelize.SheetProtectionOptions{
 		SelectLockedCells: true, SelectUnlockedCells: true, FormatColumns: true, FormatRows: true,
 		Sort: true, AutoFilter: true,
-	})
+	}); err != nil {
+		return err
+	}
+	sw, err := f.NewStreamWriter(SheetEntry)
+	if err != nil {
+		return err
+	}
+	for i, h := range heads {
+		w := float64(len(h)) + 4
+		switch h {
+		case headTreatment:
+			w = 24
+		case headNotes:
+			w = 30
+		}
+		if err := sw.SetColWidth(i+1, i+1, max(w, 9)); err != nil {
+			return err
+		}
+	}
+	if err := sw.SetPanes(&excelize.Panes{Freeze: true, YSplit: 1, TopLeftCell: "A2", ActivePane: "bottomLeft"}); err != nil {
+		return err
+	}
+	hrow := make([]any, len(heads))
+	for i, h := range heads {
+		hrow[i] = excelize.Cell{StyleID: head, Value: h}
+	}
+	if err := sw.SetRow("A1", hrow); err != nil {
+		return err
+	}
+	tr := p.Treatments()
+	row := 1
+	vals := make([]any, len(heads))
+	for _, u := range l.Units {
+		for sub := 1; sub <= c.rowsPer(); sub++ {
+			row++
+			for j, v := range designCells(c, u, sub, l.Label(u), tr) {
+				// Numbers where they look like numbers; treatment and level
+				// names are always text.
+				if n, err := strconv.Atoi(v); err == nil && c.numeric(j, nd) {
+					vals[j] = n
+				} else {
+					vals[j] = v
+				}
+			}
+			for j := nd; j < len(heads); j++ {
+				vals[j] = excelize.Cell{StyleID: open}
+			}
+			if err := sw.SetRow(cell(1, row), vals); err != nil {
+				return err
+			}
+		}
+	}
+	return sw.Flush()
 }
 
 // numericCount is the number of leading columns written as numbers when they
@@ -376,7 +397,41 @@ func writeMap(f *excelize.File, l design.Layout) error {
 	wrap, _ := f.NewStyle(&excelize.Style{Alignment: &excelize.Alignment{WrapText: true, Vertical: "top"}, Border: []excelize.Border{
 		{Type: "left", Color: "808080", Style: 1}, {Type: "right", Color: "808080", Style: 1},
 		{Type: "top", Color: "808080", Style: 1}, {Type: "bottom", Color: "808080", Style: 1}}})
-	f.SetCellStr(SheetMap, "A1", "Map: each row is a "+p.BlockName+", positions left to right; each cell shows unit ID and treatment")
+	text := func(u design.Unit) string {
+		s := u.ID + "\n" + l.Label(u)
+		if u.Order > 0 {
+			s += fmt.Sprintf("\n#%d", u.Order)
+		}
+		return s
+	}
+	if g := p.Grid; g != nil {
+		// Each block as its grid, blocks one below the other.
+		f.SetCellStr(SheetMap, "A1", fmt.Sprintf("Map: each %s as its %d × %d grid (%s numbering); each place shows unit ID and %s", p.BlockName, g.Rows, g.Cols, g.Numbering, strings.ToLower(treatmentWord(p))))
+		f.SetCellStyle(SheetMap, "A1", "A1", bold)
+		top := 3
+		byBlock := make([][]design.Unit, p.Blocks+1)
+		for _, u := range l.Units {
+			byBlock[u.Block] = append(byBlock[u.Block], u)
+		}
+		for b := 1; b <= p.Blocks; b++ {
+			f.SetCellStr(SheetMap, cell(1, top), fmt.Sprintf("%s %s", blockHeader(p), p.BlockLabel(b)))
+			f.SetCellStyle(SheetMap, cell(1, top), cell(1, top), bold)
+			for c := 1; c <= g.Cols; c++ {
+				f.SetCellStr(SheetMap, cell(c+1, top), fmt.Sprintf("col %d", c))
+			}
+			for r := 1; r <= g.Rows; r++ {
+				f.SetCellStr(SheetMap, cell(1, top+r), fmt.Sprintf("row %d", r))
+			}
+			for _, u := range byBlock[b] {
+				f.SetCellStr(SheetMap, cell(u.Col+1, top+u.Row), text(u))
+			}
+			f.SetCellStyle(SheetMap, cell(2, top+1), cell(g.Cols+1, top+g.Rows), wrap)
+			top += g.Rows + 2
+		}
+		f.SetColWidth(SheetMap, "A", "A", 12)
+		return nil
+	}
+	f.SetCellStr(SheetMap, "A1", "Map: each row is a "+p.BlockName+", positions left to right; each cell shows unit ID and "+strings.ToLower(treatmentWord(p)))
 	f.SetCellStyle(SheetMap, "A1", "A1", bold)
 	width := p.MaxBlockSize()
 	for i := 1; i <= width; i++ {
@@ -386,7 +441,7 @@ func writeMap(f *excelize.File, l design.Layout) error {
 	for _, u := range l.Units {
 		row := u.Block + 3
 		f.SetCellStr(SheetMap, cell(1, row), fmt.Sprintf("%s %s", blockHeader(p), p.BlockLabel(u.Block)))
-		f.SetCellStr(SheetMap, cell(u.Position+1, row), u.ID+"\n"+l.Label(u))
+		f.SetCellStr(SheetMap, cell(u.Position+1, row), text(u))
 	}
 	if width > 0 {
 		f.SetCellStyle(SheetMap, cell(2, 4), cell(width+1, p.Blocks+3), wrap)
