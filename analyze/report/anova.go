@@ -212,6 +212,15 @@ func AnalysisText(w io.Writer, a Analysis) error {
 	return err
 }
 
+// PostHocText writes one set of comparisons as aligned text.
+func PostHocText(w io.Writer, ph *analyze.PostHoc) error {
+	var b strings.Builder
+	b.WriteString(wrap(postHocTitle(ph), 78, "  "))
+	b.WriteString(pairTable(ph).text("  "))
+	_, err := io.WriteString(w, b.String())
+	return err
+}
+
 // AnalysisMarkdown writes the analysis as Markdown.
 func AnalysisMarkdown(w io.Writer, a Analysis) error {
 	var b strings.Builder

@@ -163,6 +163,7 @@ func Run(s Scenario, o Options) (*Result, error) {
 		Responses: []design.Response{s.Response},
 		Seed:      s.Seed,
 		Generator: randomize.Generator,
+		Order:     true,
 	}
 	lay, err := randomize.Assign(plan)
 	if err != nil {
@@ -236,6 +237,17 @@ func Run(s Scenario, o Options) (*Result, error) {
 	an := report.Analysis{Result: ar, Unit: "pot", BlockName: s.BlockName, Simulated: true, Missing: len(lay.Units) - len(obs.Values)}
 	if err := report.AnalysisText(out, an); err != nil {
 		return nil, err
+	}
+	// The plan names a control: compare each blend with it as well.
+	dr, err := analyze.Run(data, analyze.RunOptions{Options: analyze.Options{Alpha: s.Alpha}, PostHoc: analyze.MethodDunnett, Control: s.Control})
+	if err != nil {
+		return nil, err
+	}
+	for _, ph := range dr.PostHoc {
+		fmt.Fprintf(out, "\nEach blend against the %s control (Dunnett):\n", s.Control)
+		if err := report.PostHocText(out, ph); err != nil {
+			return nil, err
+		}
 	}
 	var md, js strings.Builder
 	fmt.Fprintf(&md, "# %s\n\n**SIMULATED DATA** — produced by `allot demo`; the scenario is invented.\n\n", s.Title)
