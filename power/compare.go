@@ -24,6 +24,10 @@ type Comparisons struct {
 	AllPair bool // all pairs instead of each against the control
 	Control int  // index of the control group
 	Sides   int
+	// Dunnett uses Dunnett's critical value for the many-to-one family
+	// (dist.Dunnett, exact for the planned group sizes) instead of
+	// Bonferroni's t_{1−α/m}; it is less conservative.
+	Dunnett bool
 }
 
 // CResult is the comparison plan at one n.
@@ -75,6 +79,22 @@ func (c Comparisons) Evaluate(n int, d, alpha float64) CResult {
 	}
 	r.Delta = d / math.Sqrt(worst)
 	st := distuv.StudentsT{Mu: 0, Sigma: 1, Nu: r.DF}
+	if c.Dunnett && !c.AllPair {
+		var lam []float64
+		for i, s := range sizes {
+			if i != c.Control {
+				lam = append(lam, math.Sqrt(float64(s)/float64(s+sizes[c.Control])))
+			}
+		}
+		r.TCrit = dist.Dunnett{Lambda: lam, Nu: r.DF, Sides: c.Sides}.Quantile(1 - alpha)
+		r.AlphaEach = math.NaN()
+		nt := dist.NoncentralT{Nu: r.DF, Delta: r.Delta}
+		r.Power = nt.Survival(r.TCrit)
+		if c.Sides == 2 {
+			r.Power += nt.CDF(-r.TCrit)
+		}
+		return r
+	}
 	if c.Sides == 1 {
 		r.TCrit = st.Quantile(1 - r.AlphaEach)
 		r.Power = dist.NoncentralT{Nu: r.DF, Delta: r.Delta}.Survival(r.TCrit)

@@ -15,6 +15,7 @@ const (
 	TestF        Test = "anova"   // F test of a term
 	TestT        Test = "t"       // two-sample t test
 	TestControl  Test = "control" // each treatment against a control, Bonferroni
+	TestDunnett  Test = "dunnett" // each treatment against a control, Dunnett
 	TestAllPairs Test = "pairs"   // all pairs, Bonferroni
 )
 
@@ -405,7 +406,7 @@ func Compute(r Request) (Answer, error) {
 		err = a.fTest(r, d, eff)
 	case TestT:
 		err = a.tTest(r, d, eff)
-	case TestControl, TestAllPairs:
+	case TestControl, TestAllPairs, TestDunnett:
 		err = a.comparisons(r, d, eff)
 	default:
 		return Answer{}, ferr("compare", string(r.Test), "must be control or pairs")
@@ -507,16 +508,22 @@ func (a *Answer) tTest(r Request, d Design, dd float64) error {
 }
 
 func (a *Answer) comparisons(r Request, d Design, dd float64) error {
-	c := Comparisons{Design: d, AllPair: r.Test == TestAllPairs, Control: r.Control - 1, Sides: r.Sides}
+	c := Comparisons{Design: d, AllPair: r.Test == TestAllPairs, Control: r.Control - 1, Sides: r.Sides, Dunnett: r.Test == TestDunnett}
 	if err := c.validate(); err != nil {
 		return ferr("control", r.Control, "%v", err)
 	}
 	a.Method = "exact noncentral t, Bonferroni-adjusted"
+	if c.Dunnett {
+		a.Method = "exact noncentral t at Dunnett's critical value"
+	}
 	what := "each treatment against the control (group " + strconv.Itoa(r.Control) + ")"
 	if c.AllPair {
 		what = "all pairs of groups"
 	}
 	a.TestName = fmt.Sprintf("t comparisons of %s, %d comparisons at alpha/%d each", what, c.Count(), c.Count())
+	if c.Dunnett {
+		a.TestName = fmt.Sprintf("Dunnett comparisons of %s, %d comparisons", what, c.Count())
+	}
 	a.Sides = r.Sides
 	a.CritName = "critical t"
 	var res CResult
@@ -541,7 +548,11 @@ func (a *Answer) comparisons(r Request, d Design, dd float64) error {
 	a.N, a.GroupSizes, a.Total = res.N, res.GroupSizes, res.Total
 	a.DF1, a.DF2, a.Lambda, a.Crit, a.Power = 1, res.DF, res.Delta, res.TCrit, res.Power
 	a.ErrorDF = res.DF
-	a.Notes = append(a.Notes, "Power is that of the weakest single comparison at level alpha/m (Bonferroni); the chance of detecting every true difference at once is lower.")
+	if c.Dunnett {
+		a.Notes = append(a.Notes, "Power is that of the weakest single comparison at Dunnett's familywise critical value; the chance of detecting every true difference at once is lower.")
+	} else {
+		a.Notes = append(a.Notes, "Power is that of the weakest single comparison at level alpha/m (Bonferroni); the chance of detecting every true difference at once is lower.")
+	}
 	return nil
 }
 
@@ -613,8 +624,8 @@ func CurvePoints(r Request, a Answer) ([]Series, error) {
 		switch r.Test {
 		case TestT:
 			return TwoGroups{Ratio: ratioT(r), Sides: r.Sides}.Evaluate(n, e, r.Alpha).Power
-		case TestControl, TestAllPairs:
-			return Comparisons{Design: d, AllPair: r.Test == TestAllPairs, Control: r.Control - 1, Sides: r.Sides}.Evaluate(n, e, r.Alpha).Power
+		case TestControl, TestAllPairs, TestDunnett:
+			return Comparisons{Design: d, AllPair: r.Test == TestAllPairs, Control: r.Control - 1, Sides: r.Sides, Dunnett: r.Test == TestDunnett}.Evaluate(n, e, r.Alpha).Power
 		}
 		return d.Evaluate(n, e, r.Alpha).Power
 	}

@@ -106,3 +106,21 @@ func TestComputeAnswers(t *testing.T) {
 		}
 	})
 }
+
+func TestDunnettNeedsFewerUnitsThanBonferroni(t *testing.T) {
+	// Dunnett's critical value is below Bonferroni's for the same family,
+	// so the n it needs is never larger; with one comparison they agree.
+	for _, k := range []int{2, 4, 6} {
+		b, err := Compute(Request{Groups: k, Test: TestControl, Diff: 2, SD: 2, Power: 0.9})
+		if err != nil {
+			t.Fatal(err)
+		}
+		d, err := Compute(Request{Groups: k, Test: TestDunnett, Diff: 2, SD: 2, Power: 0.9})
+		if err != nil {
+			t.Fatal(err)
+		}
+		if d.N > b.N || k == 2 && (d.N != b.N || math.Abs(d.Power-b.Power) > 1e-7) {
+			t.Errorf("k=%d: Dunnett n %d (power %.6f), Bonferroni n %d (power %.6f)", k, d.N, d.Power, b.N, b.Power)
+		}
+	}
+}

@@ -53,8 +53,9 @@ that matters; planned for the least favourable configuration), or --d (two
 groups, standardised difference; selects the t test). --pilot-n M replaces
 --sd by its upper confidence limit from a pilot of M units.
 
---compare control|pairs plans Bonferroni-adjusted t comparisons of each group
-with the first (the control) or of all pairs, for --diff with --sd (or --d).
+--compare control|dunnett|pairs plans t comparisons of each group with the
+first (the control; Bonferroni or Dunnett critical value) or of all pairs
+(Bonferroni), for --diff with --sd (or --d).
 --dropout R adds the attrition allowance n/(1−R), rounded up.` + "\n" + exitHelp,
 		Example: `  # Four groups, medium effect (Cohen's f = 0.25), 90% power
   allot size --groups 4 --f 0.25 --power 0.9
@@ -100,7 +101,7 @@ with the first (the control) or of all pairs, for --diff with --sd (or --d).
 	f.IntVar(&o.req.PilotN, "pilot-n", 0, "the --sd came from a pilot of `M` units: plan with its upper confidence limit")
 	f.Float64Var(&o.req.PilotConf, "pilot-conf", 0.8, "confidence `C` of the pilot SD's upper limit")
 	f.Float64Var(&o.req.BlockShare, "block-share", 0, "rcbd: share `R` of the total variance (--sd) explained by blocks")
-	f.StringVar(&o.compare, "compare", "", "plan planned comparisons: `control` (each group with group 1) or pairs")
+	f.StringVar(&o.compare, "compare", "", "plan comparisons: `control` (each group with group 1, Bonferroni), dunnett (the same, Dunnett) or pairs")
 	f.Float64Var(&o.req.Dropout, "dropout", 0, "expected attrition fraction `R`: also report n/(1−R)")
 	f.BoolVar(&o.json, "json", false, "print one JSON object instead of the summary")
 	f.BoolVar(&o.justify, "justify", false, "also print a paragraph for an ethics or grant application")
@@ -174,8 +175,10 @@ func (o *sizeOptions) resolve(c *cobra.Command) error {
 		r.Test = power.TestControl
 	case "pairs":
 		r.Test = power.TestAllPairs
+	case "dunnett":
+		r.Test = power.TestDunnett
 	default:
-		return usagef("--compare %s: must be control or pairs", o.compare)
+		return usagef("--compare %s: must be control, dunnett or pairs", o.compare)
 	}
 	if o.curve != "" && !strings.HasSuffix(o.curve, ".svg") && !strings.HasSuffix(o.curve, ".png") {
 		return usagef("--curve %s: the file name must end in .svg or .png", o.curve)
