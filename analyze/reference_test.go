@@ -28,6 +28,7 @@ type refCase struct {
 	} `json:"anova"`
 	Studentized []float64 `json:"studentized"`
 	Leverage    []float64 `json:"leverage"`
+	Deleted     []float64 `json:"deleted"`
 	Tukey       []struct {
 		A, B                  string
 		Diff, P, Lower, Upper float64
@@ -121,7 +122,7 @@ func TestAgainstStatsmodels(t *testing.T) {
 						}
 						continue
 					}
-					if !near(tab.Leverage[i], c.Leverage[i], 1e-9, 1e-12) || !near(res.Assumptions.Stud[i], want, 1e-9, 1e-12) {
+					if !near(tab.Leverage[i], c.Leverage[i], 1e-9, 1e-12) || !near(res.Assumptions.Stud[i], want, 1e-9, 1e-12) || !near(res.Assumptions.Deleted[i], c.Deleted[i], 1e-8, 1e-12) {
 						t.Errorf("obs %d: leverage %.12g studentized %.12g; statsmodels %.12g %.12g", i, tab.Leverage[i], res.Assumptions.Stud[i], c.Leverage[i], want)
 						break
 					}

@@ -5,6 +5,8 @@ import (
 	"math"
 	"sort"
 	"strings"
+
+	"gonum.org/v1/gonum/stat/distuv"
 )
 
 // Outlier is an observation whose studentized residual exceeds 3 in size.
@@ -30,18 +32,32 @@ type Assumptions struct {
 	LeveneOK  bool      `json:"-"`
 	Residuals []float64 `json:"-"`
 	Fitted    []float64 `json:"-"`
-	Stud      []float64 `json:"-"`
+	// Stud holds the internally studentized residuals e/(s·sqrt(1−h)),
+	// Deleted the externally studentized ones (each unit left out of s),
+	// which are not bounded by sqrt(n−p) and so can flag a typing slip in
+	// a small trial.
+	Stud    []float64 `json:"-"`
+	Deleted []float64 `json:"-"`
 }
 
 // Result is the analysis of one response.
 type Result struct {
-	Table       *Table      `json:"anova"`
-	Groups      [][]Group   `json:"groups"`
-	PostHoc     []*PostHoc  `json:"posthoc"`
-	Simple      []*PostHoc  `json:"simple_effects,omitempty"`
-	Sampling    *Sampling   `json:"subsampling,omitempty"`
+	Table    *Table     `json:"anova"`
+	Groups   [][]Group  `json:"groups"`
+	PostHoc  []*PostHoc `json:"posthoc"`
+	Simple   []*PostHoc `json:"simple_effects,omitempty"`
+	Sampling *Sampling  `json:"subsampling,omitempty"`
+	// Cells holds the means of the combinations of the first two factors
+	// (factorial designs), for interaction plots.
+	Cells       []Cell      `json:"cells,omitempty"`
 	Assumptions Assumptions `json:"assumptions"`
 	Notes       []string    `json:"notes,omitempty"`
+}
+
+// Cell is the mean of one combination of two factors' levels.
+type Cell struct {
+	A, B string `json:"-"`
+	Group
 }
 
 // RunOptions extends Options with the follow-up analyses.
@@ -94,12 +110,37 @@ func Run(d Data, opt RunOptions) (*Result, error) {
 		return nil, err
 	}
 	res := &Result{Table: t, Sampling: sampling}
+	tq := distuv.StudentsT{Mu: 0, Sigma: 1, Nu: float64(t.Residual.DF)}.Quantile(0.975)
+	withCI := func(g []Group) {
+		for i := range g {
+			h := tq * math.Sqrt(t.Residual.MS/float64(g[i].N))
+			g[i].Lower, g[i].Upper = g[i].Mean-h, g[i].Mean+h
+		}
+	}
 	for fi := range d.Factors {
 		g, err := Summaries(d, fi)
 		if err != nil {
 			return nil, err
 		}
+		withCI(g)
 		res.Groups = append(res.Groups, g)
+	}
+	if len(d.Factors) >= 2 {
+		// Cell means of the first two factors: a combined factor.
+		comb := Column{Name: d.Factors[0].Name + " × " + d.Factors[1].Name}
+		for i := range d.Values {
+			comb.Values = append(comb.Values, d.Factors[0].Values[i]+"\x00"+d.Factors[1].Values[i])
+		}
+		g, err := Summaries(Data{Response: d.Response, Values: d.Values, Factors: []Column{comb}}, 0)
+		if err != nil {
+			return nil, err
+		}
+		withCI(g)
+		for _, c := range g {
+			a, b, _ := strings.Cut(c.Level, "\x00")
+			c.Level = a + " × " + b
+			res.Cells = append(res.Cells, Cell{A: a, B: b, Group: c})
+		}
 	}
 	interaction := false
 	for _, term := range t.Terms {
@@ -130,6 +171,7 @@ func Run(d Data, opt RunOptions) (*Result, error) {
 			return nil, err
 		}
 		addLetters(ph)
+		ph.Groups = res.Groups[fi]
 		res.PostHoc = append(res.PostHoc, ph)
 	}
 	if interaction && opt.PostHoc != MethodNone {
@@ -249,11 +291,16 @@ func factorIndex(d Data, name string) int {
 
 // checkAssumptions runs the residual checks: Shapiro–Wilk on the residuals,
 // Brown–Forsythe on the residuals grouped by treatment cell, the ratio of
-// the largest to the smallest cell SD, and internally studentized
-// residuals r_i = e_i/(s·sqrt(1 − h_ii)) with |r| > 3 listed.
+// the largest to the smallest cell SD, and studentized residuals:
+// internally r_i = e_i/(s·sqrt(1 − h_ii)), and externally (deleted)
+// t_i = r_i·sqrt((ν − 1)/(ν − r_i²)) with ν the residual df (Cook and
+// Weisberg 1982, Residuals and Influence in Regression, eq. 2.2.9), listing
+// the units with |t| > 3.
 func checkAssumptions(d Data, t *Table) Assumptions {
 	a := Assumptions{Residuals: t.Residuals, Fitted: t.Fitted}
 	a.Stud = make([]float64, len(t.Residuals))
+	a.Deleted = make([]float64, len(t.Residuals))
+	nu := float64(t.Residual.DF)
 	for i, e := range t.Residuals {
 		h := t.Leverage[i]
 		if h < 1-1e-10 && t.ResidSD > 0 {
@@ -261,8 +308,16 @@ func checkAssumptions(d Data, t *Table) Assumptions {
 		} else {
 			a.Stud[i] = math.NaN()
 		}
-		if math.Abs(a.Stud[i]) > 3 {
-			o := Outlier{Value: d.Values[i], Residual: e, Studentized: a.Stud[i]}
+		a.Deleted[i] = math.NaN()
+		if r := a.Stud[i]; nu > 1 && !math.IsNaN(r) {
+			if den := nu - r*r; den > 1e-12 {
+				a.Deleted[i] = r * math.Sqrt((nu-1)/den)
+			} else {
+				a.Deleted[i] = math.Copysign(math.Inf(1), r)
+			}
+		}
+		if math.Abs(a.Deleted[i]) > 3 {
+			o := Outlier{Value: d.Values[i], Residual: e, Studentized: a.Deleted[i]}
 			if d.Units != nil {
 				o.Unit = d.Units[i]
 			}
@@ -323,7 +378,7 @@ func verdicts(a Assumptions, alpha float64) []string {
 	switch {
 	case !a.NormalOK:
 		v = append(v, "Normality of the residuals could not be tested (fewer than 3 or more than 5000 residuals, or all equal).")
-	case a.ShapiroP < 0.01:
+	case a.ShapiroP < alpha:
 		v = append(v, fmt.Sprintf("The residuals depart from a normal distribution (Shapiro–Wilk W = %.4f, p = %.4g). With moderate group sizes the F test is fairly robust to this, but look at the quantile plot and consider a transformation or a statistician's advice.", a.ShapiroW, a.ShapiroP))
 	default:
 		v = append(v, fmt.Sprintf("The residuals are consistent with a normal distribution (Shapiro–Wilk W = %.4f, p = %.4g); this does not prove normality, and small samples have little power to show departures.", a.ShapiroW, a.ShapiroP))
@@ -344,9 +399,9 @@ func verdicts(a Assumptions, alpha float64) []string {
 		v = append(v, fmt.Sprintf("Largest to smallest treatment SD (of residuals): %.2f, %s.", a.SDRatio, word))
 	}
 	if n := len(a.Outliers); n > 0 {
-		v = append(v, fmt.Sprintf("%d observation(s) have a studentized residual beyond ±3: check them for typing errors before anything else (listed with their cells).", n))
+		v = append(v, fmt.Sprintf("%d observation(s) have a studentized (deleted) residual beyond ±3: check them for typing errors before anything else (listed with their cells).", n))
 	} else {
-		v = append(v, "No studentized residual is beyond ±3.")
+		v = append(v, "No studentized (deleted) residual is beyond ±3.")
 	}
 	v = append(v, "Independence cannot be tested from the numbers: it holds when each experimental unit was randomised on its own and measured once; repeated measurements of one unit, or units sharing a pot, cage or tank, are not independent.")
 	return v

@@ -13,6 +13,10 @@ type Group struct {
 	N     int     `json:"n"`
 	Mean  float64 `json:"mean"`
 	SD    float64 `json:"sd"`
+	// Lower and Upper bound the 95% confidence interval of the mean from
+	// the fitted model's error, mean ± t_{.975, df}·sqrt(MSe/n) (set by Run).
+	Lower float64 `json:"ci_lower"`
+	Upper float64 `json:"ci_upper"`
 }
 
 // Comparison is one pair of levels.

@@ -105,7 +105,7 @@ func letterNote(ph *analyze.PostHoc) string {
 }
 
 func outlierTable(os []analyze.Outlier) table {
-	tb := table{head: []string{"unit", "cell", "value", "residual", "studentized"}, right: []bool{false, false, true, true, true}}
+	tb := table{head: []string{"unit", "cell", "value", "residual", "studentized (deleted)"}, right: []bool{false, false, true, true, true}}
 	for _, o := range os {
 		tb.rows = append(tb.rows, []string{o.Unit, o.Where, o.Value, num(o.Residual, 4), fixed(o.Studentized, 2)})
 	}

@@ -2,6 +2,7 @@ package main
 
 import (
 	"fmt"
+	"io"
 	"os"
 	"path/filepath"
 	"strings"
@@ -10,6 +11,8 @@ import (
 	"allot/analyze/report"
 	"allot/design"
 	"allot/design/workbook"
+	"allot/internal/atomicfile"
+	"allot/internal/version"
 
 	"github.com/spf13/cobra"
 )
@@ -27,6 +30,11 @@ type analyzeOptions struct {
 	alpha    float64
 	format   string
 	json     bool
+	html     string
+	plots    string
+	unit     string
+	force    bool
+	command  string
 }
 
 func newAnalyzeCmd(s *streams, runF func(*analyzeOptions) error) *cobra.Command {
@@ -61,6 +69,7 @@ unit of analysis.` + "\n" + exitHelp,
 		},
 		RunE: func(c *cobra.Command, args []string) error {
 			o.read.file = args[0]
+			o.command = commandLine(c) + " " + shellQuote(o.read.file)
 			if err := o.validate(); err != nil {
 				return err
 			}
@@ -71,6 +80,10 @@ unit of analysis.` + "\n" + exitHelp,
 		},
 	}
 	o.read.addReadFlags(cmd)
+	cmd.Flags().StringVar(&o.html, "report", "", "also write a self-contained HTML report to `FILE.html`")
+	cmd.Flags().StringVar(&o.plots, "plots", "", "also write the figures as SVG and PNG into `DIR`")
+	cmd.Flags().StringVar(&o.unit, "unit", "", "the response's unit for axis labels, for example `mg`")
+	cmd.Flags().BoolVar(&o.force, "force", false, "replace an existing --report file or --plots figures")
 	f := cmd.Flags()
 	f.StringVar(&o.response, "response", "", "analyse only the response `NAME` (default: every response; required for a plain CSV)")
 	f.StringArrayVar(&o.factors, "factor", nil, "plain CSV: a treatment factor `COLUMN`; repeat for a factorial")
@@ -108,6 +121,9 @@ func (o *analyzeOptions) validate() error {
 	if o.json {
 		o.format = "json"
 	}
+	if o.html != "" && !strings.HasSuffix(strings.ToLower(o.html), ".html") {
+		return usagef("--report %s: the file name must end in .html", o.html)
+	}
 	switch o.format {
 	case "text", "markdown", "json":
 	default:
@@ -135,10 +151,11 @@ type job struct {
 }
 
 func analyzeRun(s *streams, o *analyzeOptions) error {
-	jobs, err := o.jobs()
+	jobs, plan, check, err := o.jobs()
 	if err != nil {
 		return err
 	}
+	var all []report.Analysis
 	for i, j := range jobs {
 		control := o.control
 		if control == "" {
@@ -155,6 +172,7 @@ func analyzeRun(s *streams, o *analyzeOptions) error {
 			return inputErr(fmt.Errorf("%s: %s: %w", o.read.file, j.data.Response, err))
 		}
 		a := report.Analysis{Result: res, Missing: j.missing, Unit: j.unit, BlockName: j.blockName}
+		all = append(all, a)
 		if i > 0 && o.format != "json" {
 			fmt.Fprintln(s.Out)
 		}
@@ -170,26 +188,51 @@ func analyzeRun(s *streams, o *analyzeOptions) error {
 			return err
 		}
 	}
+	if o.plots != "" {
+		for _, a := range all {
+			figs, err := report.AnalysisFigures(a, o.unit)
+			if err != nil {
+				return err
+			}
+			written, err := report.WriteFigures(o.plots, figs, o.force)
+			if err != nil {
+				return inputErr(err)
+			}
+			fmt.Fprintf(s.Err, "allot analyze: wrote %d figure files into %s\n", len(written), o.plots)
+		}
+	}
+	if o.html != "" {
+		rep := report.HTMLReport{Analyses: all, Plan: plan, Check: check, Command: o.command, Version: version.String(), Unit: o.unit}
+		if err := atomicfile.Write(o.html, o.force, func(w io.Writer) error { return report.HTML(w, rep) }); err != nil {
+			return inputErr(err)
+		}
+		fmt.Fprintf(s.Err, "allot analyze: wrote %s\n", o.html)
+	}
 	return nil
 }
 
-// jobs reads the input and returns one job per response analysed.
-func (o *analyzeOptions) jobs() ([]job, error) {
+// jobs reads the input and returns one job per response analysed, the plan
+// (nil for a plain CSV table) and the data check's findings.
+func (o *analyzeOptions) jobs() ([]job, *design.Plan, []string, error) {
 	if o.plainCSV() {
 		f, err := os.Open(o.read.file)
 		if err != nil {
-			return nil, inputErr(err)
+			return nil, nil, nil, inputErr(err)
 		}
 		defer f.Close()
 		obs, missing, err := workbook.ReadRoles(f, o.read.file, workbook.Roles{Response: o.response, Factors: o.factors, Block: o.block, Unit: o.unitCol}, o.read.decimalComma)
 		if err != nil {
-			return nil, inputErr(err)
+			return nil, nil, nil, inputErr(err)
 		}
-		return []job{{data: dataOf(o.response, obs, o.factors, nil, o.block), missing: missing, unit: "unit", blockName: o.block}}, nil
+		var check []string
+		if missing > 0 {
+			check = append(check, fmt.Sprintf("%s: %d row(s) have no %s and were left out", o.read.file, missing, o.response))
+		}
+		return []job{{data: dataOf(o.response, obs, o.factors, nil, o.block), missing: missing, unit: "unit", blockName: o.block}}, nil, check, nil
 	}
 	fl, err := readFilled(&o.read)
 	if err != nil {
-		return nil, err
+		return nil, nil, nil, err
 	}
 	if n := fl.Errors(); n > 0 {
 		var b strings.Builder
@@ -198,10 +241,10 @@ func (o *analyzeOptions) jobs() ([]job, error) {
 				b.WriteString("\n  " + p.String())
 			}
 		}
-		return nil, &failedError{err: fmt.Errorf("%s: %d error(s) must be corrected before analysis (allot check lists them):%s", o.read.file, n, b.String())}
+		return nil, nil, nil, &failedError{err: fmt.Errorf("%s: %d error(s) must be corrected before analysis (allot check lists them):%s", o.read.file, n, b.String())}
 	}
 	if fl.Sealed {
-		return nil, usagef("%s: the workbook is blind; give its --key to unblind it for analysis", o.read.file)
+		return nil, nil, nil, usagef("%s: the workbook is blind; give its --key to unblind it for analysis", o.read.file)
 	}
 	p := fl.Layout.Plan
 	var out []job
@@ -211,7 +254,7 @@ func (o *analyzeOptions) jobs() ([]job, error) {
 		}
 		obs := fl.Observations(k)
 		if len(obs.Values) == 0 && len(obs.Subsamples) == 0 {
-			return nil, inputErr(fmt.Errorf("%s: response %q has no values yet; fill it in first", o.read.file, r))
+			return nil, nil, nil, inputErr(fmt.Errorf("%s: response %q has no values yet; fill it in first", o.read.file, r))
 		}
 		var names [][]string
 		var fnames []string
@@ -228,9 +271,13 @@ func (o *analyzeOptions) jobs() ([]job, error) {
 		out = append(out, job{data: d, missing: len(fl.Layout.Units) - len(obs.Units), control: p.Control, unit: "unit", blockName: p.BlockName})
 	}
 	if len(out) == 0 {
-		return nil, usagef("--response %s: the plan has no such response (responses: %s)", o.response, strings.Join(fl.Responses, ", "))
+		return nil, nil, nil, usagef("--response %s: the plan has no such response (responses: %s)", o.response, strings.Join(fl.Responses, ", "))
 	}
-	return out, nil
+	var check []string
+	for _, pr := range fl.Problems {
+		check = append(check, pr.String())
+	}
+	return out, &p, check, nil
 }
 
 // generalised reports whether a plan is a generalised randomised block

@@ -149,3 +149,44 @@ func TestAnalyzeSubsamples(t *testing.T) {
 		t.Errorf("exit %d %s\n%s", code, errs, out)
 	}
 }
+
+func TestAnalyzeReportAndPlots(t *testing.T) {
+	wb := demoFilled(t)
+	dir := t.TempDir()
+	rep := filepath.Join(dir, "r.html")
+	plots := filepath.Join(dir, "plots")
+	code, _, errs := runArgs(t, "analyze", wb, "--report", rep, "--plots", plots, "--unit", "mg")
+	if code != 0 {
+		t.Fatalf("exit %d: %s", code, errs)
+	}
+	b, _ := os.ReadFile(rep)
+	if !strings.Contains(string(b), "<svg") || !strings.Contains(string(b), "allot analyze --plots") {
+		t.Error("report lacks figures or the command")
+	}
+	entries, _ := os.ReadDir(plots)
+	if len(entries) != 6 {
+		t.Errorf("%d figure files, want 6", len(entries))
+	}
+	code, _, errs = runArgs(t, "analyze", wb, "--report", rep)
+	if code != exitUsage || !strings.Contains(errs, "--force") {
+		t.Errorf("second run: exit %d %s", code, errs)
+	}
+	code, _, errs = runArgs(t, "analyze", wb, "--report", filepath.Join(dir, "r.pdf"))
+	if code != exitUsage || !strings.Contains(errs, "must end in .html") {
+		t.Errorf("pdf: exit %d %s", code, errs)
+	}
+}
+
+func TestLayoutMap(t *testing.T) {
+	dir := t.TempDir()
+	for _, ext := range []string{"svg", "png"} {
+		p := filepath.Join(dir, "map."+ext)
+		code, _, errs := runArgs(t, "layout", "--factor", "feed=A,B,C", "--design", "rcbd", "--blocks", "3", "--grid", "1x3", "--seed", "2", "--map", p)
+		if code != 0 {
+			t.Fatalf("exit %d: %s", code, errs)
+		}
+		if st, err := os.Stat(p); err != nil || st.Size() < 1000 {
+			t.Errorf("%s: %v", p, err)
+		}
+	}
+}

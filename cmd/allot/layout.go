@@ -27,6 +27,7 @@ type layoutOptions struct {
 	spec     design.Spec
 	seed     string
 	out      string
+	mapFile  string
 	key      string
 	json     bool
 	force    bool
@@ -103,6 +104,7 @@ file (keys are these flag names, with _ for -); flags override it.` + "\n" + exi
 	f.BoolVar(&o.spec.Order, "order", false, "add a randomised measurement order within each block")
 	f.IntVar(&o.spec.Subsamples, "subsamples", 0, "record `N` measurements per unit, one row each (averaged to the unit for analysis)")
 	f.StringVarP(&o.out, "out", "o", "", "write the layout to `FILE` (.xlsx workbook, .csv or .json)")
+	f.StringVar(&o.mapFile, "map", "", "draw the bench map (each block as its grid) to `FILE.svg` or .png, for printing on A4")
 	f.BoolVar(&o.json, "json", false, "print the resolved plan and assignment as JSON")
 	f.BoolVar(&o.force, "force", false, "replace existing output files")
 	cmd.AddCommand(newVerifyCmd(s, nil))
@@ -177,6 +179,13 @@ func (o *layoutOptions) resolveSpec(c *cobra.Command) error {
 	if !o.spec.Blind && o.key != "" {
 		return usagef("--key %s: a key is written only for a --blind layout", o.key)
 	}
+	if o.mapFile != "" {
+		switch strings.ToLower(filepath.Ext(o.mapFile)) {
+		case ".svg", ".png":
+		default:
+			return usagef("--map %s: the file name must end in .svg or .png", o.mapFile)
+		}
+	}
 	if o.out != "" {
 		switch strings.ToLower(filepath.Ext(o.out)) {
 		case ".xlsx", ".csv", ".json":
@@ -238,6 +247,16 @@ func layoutRun(s *streams, o *layoutOptions) error {
 			return err
 		}
 		fmt.Fprintf(s.Err, "allot layout: wrote %s\n", o.out)
+	}
+	if o.mapFile != "" {
+		b, err := report.MapFigure(lay).Render(strings.TrimPrefix(strings.ToLower(filepath.Ext(o.mapFile)), "."))
+		if err != nil {
+			return err
+		}
+		if err := atomicfile.Write(o.mapFile, o.force, func(w io.Writer) error { _, err := w.Write(b); return err }); err != nil {
+			return inputErr(err)
+		}
+		fmt.Fprintf(s.Err, "allot layout: wrote the map to %s\n", o.mapFile)
 	}
 	if plan.Blind {
 		if err := writeJSONFile(o.key, design.KeyOf(lay), o.force); err != nil {

@@ -29,6 +29,13 @@ func Write(path string, force bool, write func(w io.Writer) error) error {
 		return fmt.Errorf("cannot write beside %s: %w", path, err)
 	}
 	tmp := f.Name()
+	// CreateTemp makes the file private (0600); a result file is as
+	// readable as any other the user writes (0644 less the umask).
+	if err := f.Chmod(0o644); err != nil {
+		f.Close()
+		os.Remove(tmp)
+		return fmt.Errorf("writing %s: %w", path, err)
+	}
 	if err := write(f); err != nil {
 		f.Close()
 		os.Remove(tmp)

@@ -102,6 +102,10 @@ const (
 	FileLayout        = "layout.json"
 	FileReport        = "report-SIMULATED.md"
 	FileAnalysis      = "analysis-SIMULATED.json"
+	FileHTML          = "report-SIMULATED.html"
+	FileMap           = "bench-map.svg"
+	FileCurve         = "power-curve.svg"
+	DirFigures        = "figures"
 )
 
 // SimulatedLabel marks every simulated value.
@@ -148,6 +152,15 @@ func Run(s Scenario, o Options) (*Result, error) {
 	if err := writeFile(o.Out, FileJustification, just+"\n", res); err != nil {
 		return nil, err
 	}
+	preq := power.Request{Factors: []power.Factor{{Name: s.Factor, Levels: len(s.Levels)}}, Blocked: true, Means: s.PlanMeans, SD: s.PlanSD, Alpha: s.Alpha, Power: s.Power}
+	curve, err := power.CurvePoints(preq, ans)
+	if err != nil {
+		return nil, err
+	}
+	if err := report.PowerCurve(filepath.Join(o.Out, FileCurve), curve, ans, true); err != nil {
+		return nil, err
+	}
+	res.Files = append(res.Files, filepath.Join(o.Out, FileCurve))
 	fmt.Fprintf(out, "\nThe demo lays out %d %s, the allowance for attrition (%s%%) applied: losses in a growth room are seedlings that fail.\n", nDrop, design.Plural(s.BlockName), trim(100*s.Dropout, 3))
 
 	// 2. Which pot gets which substrate?
@@ -176,6 +189,13 @@ func Run(s Scenario, o Options) (*Result, error) {
 	var lj strings.Builder
 	report.LayoutJSON(&lj, lay)
 	if err := writeFile(o.Out, FileLayout, lj.String(), res); err != nil {
+		return nil, err
+	}
+	mapSVG, err := report.MapFigure(lay).Render("svg")
+	if err != nil {
+		return nil, err
+	}
+	if err := writeFile(o.Out, FileMap, string(mapSVG), res); err != nil {
 		return nil, err
 	}
 
@@ -261,6 +281,25 @@ func Run(s Scenario, o Options) (*Result, error) {
 	if err := writeFile(o.Out, FileAnalysis, js.String(), res); err != nil {
 		return nil, err
 	}
+	var page strings.Builder
+	plan = lay.Plan
+	check := []string{fmt.Sprintf("%s: the plan fingerprint matched and every row and design cell was as planned; all values are SIMULATED", FileFilled)}
+	if err := report.HTML(&page, report.HTMLReport{Analyses: []report.Analysis{an}, Plan: &plan, Check: check,
+		Command: "allot analyze " + FileFilled + " --report " + FileHTML + " --unit mg", Version: o.Version, Unit: "mg"}); err != nil {
+		return nil, err
+	}
+	if err := writeFile(o.Out, FileHTML, page.String(), res); err != nil {
+		return nil, err
+	}
+	figs, err := report.AnalysisFigures(an, "mg")
+	if err != nil {
+		return nil, err
+	}
+	written, err := report.WriteFigures(filepath.Join(o.Out, DirFigures), figs, true)
+	if err != nil {
+		return nil, err
+	}
+	res.Files = append(res.Files, written...)
 
 	section("Files")
 	for _, p := range res.Files {

@@ -66,6 +66,7 @@ def anova(rows, nfac, blocked, blockint=False):
         res = tab.loc["Residual"]
         out[str(typ)] = {"terms": terms, "resid_df": float(res["df"]), "resid_ss": float(res["sum_sq"])}
     out["studentized"] = [float(v) for v in fit.get_influence().resid_studentized_internal]
+    out["deleted"] = [float(v) for v in fit.get_influence().resid_studentized_external]
     out["leverage"] = [float(v) for v in fit.get_influence().hat_matrix_diag]
     return out, float(fit.rsquared)
 
@@ -86,10 +87,10 @@ def tukey(rows):
 def case(name, levels, reps, blocks=0, drop=(), with_tukey=False, blockint=False):
     rows = make(levels, reps, blocks, drop)
     types, r2 = anova(rows, len(levels), bool(blocks), blockint)
-    stud, lev = types.pop("studentized"), types.pop("leverage")
+    stud, lev, dele = types.pop("studentized"), types.pop("leverage"), types.pop("deleted")
     c = {"name": name, "factors": len(levels), "blocked": bool(blocks), "block_interaction": blockint,
          "rows": rows, "anova": types, "r2": r2,
-         "studentized": stud, "leverage": lev}
+         "studentized": stud, "leverage": lev, "deleted": dele}
     if with_tukey:
         c["tukey"] = tukey(rows)
     return c

@@ -1,0 +1,184 @@
+package report
+
+import (
+	"fmt"
+	"html/template"
+	"io"
+	"strings"
+
+	"allot/analyze"
+	"allot/design"
+)
+
+// HTMLReport is everything the HTML report shows.
+type HTMLReport struct {
+	Analyses []Analysis
+	Plan     *design.Plan // nil for a plain CSV table
+	Check    []string     // the data check's findings, one per line
+	Command  string       // the command that reproduces the report
+	Version  string
+	Unit     string // response unit for axis labels, if known
+}
+
+type htmlTable struct {
+	Caption string
+	Head    []string
+	Right   []bool
+	Rows    [][]string
+}
+
+func toHTML(t table, caption string) htmlTable {
+	return htmlTable{Caption: caption, Head: t.head, Right: t.right, Rows: t.rows}
+}
+
+type htmlSection struct {
+	Response string
+	SSType   string
+	Anova    htmlTable
+	Summary  []string
+	PostHoc  []htmlTable
+	Notes    []string
+	Figures  []htmlFigure
+	Verdicts []string
+	Outliers *htmlTable
+	Reading  []string
+	Cautions []string
+}
+
+type htmlFigure struct {
+	SVG   template.HTML
+	Title string
+}
+
+// HTML writes one self-contained page: inline CSS and SVG figures, no
+// scripts and nothing fetched from the network.
+func HTML(w io.Writer, r HTMLReport) error {
+	var secs []htmlSection
+	for _, a := range r.Analyses {
+		s := htmlSection{Response: a.Table.Response, SSType: ssTypeText(a.Table.SSType), Anova: toHTML(a.anovaTable(), "Analysis of variance"),
+			Summary: a.summaryLines(), Notes: a.Notes, Verdicts: a.Assumptions.Verdicts, Reading: a.Reading(), Cautions: a.Cautions()}
+		for _, ph := range append(append([]*analyze.PostHoc{}, a.PostHoc...), a.Simple...) {
+			cap := "Means of " + ph.Term
+			if ph.Within != "" {
+				cap += " within " + ph.Within
+			}
+			s.PostHoc = append(s.PostHoc, toHTML(groupTable(ph.Groups, ph.Letters), cap), toHTML(pairTable(ph), postHocTitle(ph)))
+		}
+		if len(a.Assumptions.Outliers) > 0 {
+			t := toHTML(outlierTable(a.Assumptions.Outliers), "Studentized (deleted) residuals beyond ±3: check these cells first")
+			s.Outliers = &t
+		}
+		figs, err := AnalysisFigures(a, r.Unit)
+		if err != nil {
+			return err
+		}
+		for _, f := range figs {
+			svg, err := f.InlineSVG()
+			if err != nil {
+				return err
+			}
+			// The SVG comes from gonum/plot, not from user input: safe to inline.
+			s.Figures = append(s.Figures, htmlFigure{SVG: template.HTML(svg), Title: f.Title})
+		}
+		secs = append(secs, s)
+	}
+	var study [][2]string
+	if p := r.Plan; p != nil {
+		kind := "completely randomised design"
+		if p.Design == design.RCBD {
+			kind = fmt.Sprintf("randomised complete block design, %d %s", p.Blocks, design.Plural(p.BlockName))
+		}
+		var fs []string
+		for _, f := range p.Factors {
+			fs = append(fs, f.Name+": "+strings.Join(f.Levels, ", "))
+		}
+		seed := fmt.Sprint(p.Seed)
+		if p.Blind {
+			seed = "kept with the unblinding key"
+		}
+		study = [][2]string{
+			{"Title", p.Title}, {"Design", kind}, {"Treatments", fmt.Sprintf("%d (%s)", len(p.Treatments()), strings.Join(fs, "; "))},
+			{"Units", fmt.Sprint(p.NumUnits())}, {"Seed", seed + " (generator " + p.Generator + ")"}, {"Plan fingerprint", p.Fingerprint()},
+		}
+		if p.Control != "" {
+			study = append(study, [2]string{"Control", p.Control})
+		}
+	}
+	study = append(study, [2]string{"allot version", r.Version})
+	title := "Analysis report"
+	if r.Plan != nil {
+		title = r.Plan.Title
+	}
+	return htmlTemplate.Execute(w, struct {
+		Title    string
+		Study    [][2]string
+		Check    []string
+		Sections []htmlSection
+		Command  string
+	}{title, study, r.Check, secs, r.Command})
+}
+
+var htmlTemplate = template.Must(template.New("report").Parse(`<!DOCTYPE html>
+<html lang="en">
+<head>
+<meta charset="utf-8">
+<title>{{.Title}} — allot report</title>
+<style>
+body { font-family: "DejaVu Sans", "Liberation Sans", Arial, sans-serif; max-width: 60rem; margin: 2rem auto; padding: 0 1rem; color: #1d2327; line-height: 1.45; }
+h1 { font-size: 1.6rem; border-bottom: 3px solid #0072b2; padding-bottom: .3rem; }
+h2 { font-size: 1.3rem; margin-top: 2.2rem; color: #0b3c5d; }
+h3 { font-size: 1.05rem; margin-top: 1.4rem; }
+table { border-collapse: collapse; margin: .6rem 0 1rem; font-size: .92rem; }
+caption { text-align: left; font-weight: 600; padding: .3rem 0; }
+th, td { padding: .25rem .7rem; border-bottom: 1px solid #cfd8dc; }
+th { background: #e8eff4; text-align: left; }
+td.n, th.n { text-align: right; font-variant-numeric: tabular-nums; }
+dl.study { display: grid; grid-template-columns: 12rem 1fr; gap: .2rem 1rem; }
+dl.study dt { font-weight: 600; }
+dl.study dd { margin: 0; word-break: break-all; }
+figure { margin: 1rem 0; }
+figure svg { max-width: 100%; height: auto; }
+figcaption { font-size: .9rem; color: #455a64; }
+.caution { background: #fff6e5; border-left: 4px solid #e69f00; padding: .5rem 1rem; }
+code { background: #f1f4f6; padding: .1rem .3rem; }
+</style>
+</head>
+<body>
+<h1>{{.Title}}</h1>
+<section id="study">
+<h2>Study</h2>
+<dl class="study">{{range .Study}}<dt>{{index . 0}}</dt><dd>{{index . 1}}</dd>{{end}}</dl>
+</section>
+<section id="check">
+<h2>Data check</h2>
+{{if .Check}}<ul>{{range .Check}}<li>{{.}}</li>{{end}}</ul>{{else}}<p>No problems were found in the data.</p>{{end}}
+</section>
+{{range .Sections}}
+<section class="analysis" id="analysis-{{.Response}}">
+<h2>Analysis of {{.Response}}</h2>
+<p>{{.SSType}}.</p>
+{{template "table" .Anova}}
+{{range .Summary}}<p>{{.}}</p>{{end}}
+{{if .PostHoc}}<h3>Comparisons</h3>{{range .PostHoc}}{{template "table" .}}{{end}}{{end}}
+{{range .Notes}}<p><strong>Note.</strong> {{.}}</p>{{end}}
+<h3>Figures</h3>
+{{range .Figures}}<figure>{{.SVG}}<figcaption>{{.Title}}</figcaption></figure>{{end}}
+<h3 id="assumptions-{{.Response}}">Checks of the assumptions</h3>
+<ul>{{range .Verdicts}}<li>{{.}}</li>{{end}}</ul>
+{{with .Outliers}}{{template "table" .}}{{end}}
+<h3>Reading</h3>
+<ul>{{range .Reading}}<li>{{.}}</li>{{end}}</ul>
+<div class="caution"><h3>Cautions</h3><ul>{{range .Cautions}}<li>{{.}}</li>{{end}}</ul></div>
+</section>
+{{end}}
+<section id="reproduce">
+<h2>Reproduce</h2>
+<p>This report was made by <code>{{.Command}}</code>.</p>
+</section>
+</body>
+</html>
+{{define "table"}}<table>{{if .Caption}}<caption>{{.Caption}}</caption>{{end}}
+<thead><tr>{{range $i, $h := .Head}}<th{{if index $.Right $i}} class="n"{{end}}>{{$h}}</th>{{end}}</tr></thead>
+<tbody>{{range .Rows}}<tr>{{range $i, $c := .}}<td{{if index $.Right $i}} class="n"{{end}}>{{$c}}</td>{{end}}</tr>{{end}}</tbody>
+</table>{{end}}
+`))
