@@ -82,3 +82,11 @@ func (f *qrFit) residuals() []float64 {
 	lapack64.Ormqr(blas.Left, blas.NoTrans, f.a, f.tau, c, work, len(work))
 	return r
 }
+
+// applyQT returns Qᵀy for another response with the same factorisation.
+func (f *qrFit) applyQT(y []float64) []float64 {
+	c := blas64.General{Rows: f.n, Cols: 1, Stride: 1, Data: append([]float64(nil), y...)}
+	work := make([]float64, max(f.n, 1))
+	lapack64.Ormqr(blas.Left, blas.Trans, f.a, f.tau, c, work, len(work))
+	return c.Data
+}
