@@ -163,3 +163,37 @@ func TestSizeCurve(t *testing.T) {
 		}
 	}
 }
+
+func TestSizeSimulate(t *testing.T) {
+	code, out, errs := runArgs(t, "size", "--simulate", "--design", "rcbd", "--means", "10,11,12,13", "--sds", "1.5,1.5,2,2.5",
+		"--block-sd", "1", "--dropout", "0.1", "--blocks", "6", "--seed", "7", "--sims", "400", "--workers", "2")
+	if code != 0 {
+		t.Fatalf("exit %d: %s", code, errs)
+	}
+	golden(t, "size_simulate", out)
+	// The same seed with one worker prints the same.
+	_, out1, _ := runArgs(t, "size", "--simulate", "--design", "rcbd", "--means", "10,11,12,13", "--sds", "1.5,1.5,2,2.5",
+		"--block-sd", "1", "--dropout", "0.1", "--blocks", "6", "--seed", "7", "--sims", "400", "--workers", "1")
+	if out1 != out {
+		t.Error("1 and 2 workers differ")
+	}
+	code, out, errs = runArgs(t, "size", "--simulate", "--means", "10,11,12,13", "--sd", "1.6", "--seed", "3", "--sims", "300", "--posthoc", "dunnett", "--json")
+	if code != 0 || !strings.Contains(out, `"any_pair"`) || !strings.Contains(out, `"tried"`) {
+		t.Errorf("solve by simulation: exit %d %s\n%s", code, errs, out)
+	}
+	for _, tt := range []struct {
+		args []string
+		want string
+	}{
+		{[]string{"--simulate", "--groups", "3", "--f", "0.3"}, "--simulate: give the expected --means"},
+		{[]string{"--simulate", "--means", "1,2,3", "--sd", "1", "--sims", "0"}, "--sims 0: give at least 1"},
+		{[]string{"--simulate", "--means", "1,2,3", "--sds", "1,0,1"}, "every SD must be greater than 0"},
+		{[]string{"--simulate", "--means", "1,2,3", "--sd", "1", "--block-sd", "2"}, "block effects need --design rcbd"},
+		{[]string{"--simulate", "--means", "1,2,3", "--sd", "1", "--posthoc", "holm"}, "--posthoc holm: simulate tukey or dunnett"},
+	} {
+		code, _, errs := runArgs(t, append([]string{"size"}, tt.args...)...)
+		if code != exitUsage || !strings.Contains(errs, tt.want) {
+			t.Errorf("%v: exit %d %q; want %q", tt.args, code, errs, tt.want)
+		}
+	}
+}

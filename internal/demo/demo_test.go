@@ -33,6 +33,10 @@ func TestDemoEndToEnd(t *testing.T) {
 	if res.Size.Power < 0.9 || res.Size.N < 2 || res.Size.NDropout <= res.Size.N {
 		t.Errorf("sample size %d with power %.4f", res.Size.N, res.Size.Power)
 	}
+	// Simulated with losses, the laid-out trial keeps its power near target.
+	if res.Simulated.P < 0.85 || res.Simulated.SE <= 0 {
+		t.Errorf("simulated power %+v", res.Simulated)
+	}
 	// The layout is balanced: every bench holds each substrate once.
 	if err := res.Layout.Check(); err != nil {
 		t.Fatal(err)
