@@ -47,9 +47,9 @@ func Levels(k int) []string {
 
 // SolveResult is the simulated sample size.
 type SolveResult struct {
-	N      int      // units per group, or blocks
-	Result Result   // the simulation at N
-	Tried  []Trial  // every n simulated, in order
+	N      int     // units per group, or blocks
+	Result Result  // the simulation at N
+	Tried  []Trial // every n simulated, in order
 }
 
 // Trial is one n that was simulated.
