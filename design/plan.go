@@ -408,3 +408,19 @@ func (p Plan) validateUnits(nt int) error {
 	}
 	return nil
 }
+
+// Generalised reports whether the plan is a generalised randomised block
+// design: every treatment at least twice in every block (no unit list), so
+// that the block × treatment interaction can be estimated and belongs in
+// the model.
+func (p Plan) Generalised() bool {
+	if p.Design != RCBD || p.Units != nil {
+		return false
+	}
+	for _, r := range p.Reps {
+		if r < 2 {
+			return false
+		}
+	}
+	return true
+}

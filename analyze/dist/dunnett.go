@@ -102,14 +102,5 @@ func (d Dunnett) Quantile(p float64) float64 {
 			lo *= 2
 		}
 	}
-	flo, fhi := f(lo), f(hi)
-	for fhi < 0 {
-		lo, flo = hi, fhi
-		hi *= 2
-		fhi = f(hi)
-		if hi > 1e6 {
-			return math.NaN()
-		}
-	}
-	return illinois(f, lo, hi, flo, fhi, 1e-10)
+	return quantile(f, lo, hi)
 }

@@ -176,9 +176,14 @@ func (d StudentizedRange) Quantile(p float64) float64 {
 	case 1:
 		return math.Inf(1)
 	}
-	f := func(q float64) float64 { return d.CDF(q) - p }
-	lo, hi := 0.0, 4.0
-	flo, fhi := -p, f(hi)
+	return quantile(func(q float64) float64 { return d.CDF(q) - p }, 0, 4)
+}
+
+// quantile solves f(x) = 0 for an increasing f with f(lo) ≤ 0, widening
+// [lo, hi] by doubling hi until f(hi) ≥ 0, then by the Illinois method; NaN
+// when no bracket is found below 10^6.
+func quantile(f func(float64) float64, lo, hi float64) float64 {
+	flo, fhi := f(lo), f(hi)
 	for fhi < 0 {
 		lo, flo = hi, fhi
 		hi *= 2

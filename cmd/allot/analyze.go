@@ -267,7 +267,7 @@ func (o *analyzeOptions) jobs() ([]job, *design.Plan, []string, error) {
 			block = p.BlockName
 		}
 		d := dataOf(r, obs, fnames, names, block)
-		d.BlockInteraction = generalised(p)
+		d.BlockInteraction = p.Generalised()
 		out = append(out, job{data: d, missing: len(fl.Layout.Units) - len(obs.Units), control: p.Control, unit: "unit", blockName: p.BlockName})
 	}
 	if len(out) == 0 {
@@ -278,21 +278,6 @@ func (o *analyzeOptions) jobs() ([]job, *design.Plan, []string, error) {
 		check = append(check, pr.String())
 	}
 	return out, &p, check, nil
-}
-
-// generalised reports whether a plan is a generalised randomised block
-// design (every treatment at least twice in every block), whose model has a
-// block × treatment term.
-func generalised(p design.Plan) bool {
-	if p.Design != design.RCBD || p.Units != nil {
-		return false
-	}
-	for _, r := range p.Reps {
-		if r < 2 {
-			return false
-		}
-	}
-	return true
 }
 
 // dataOf turns observations into analysis data.

@@ -127,7 +127,7 @@ func Run(ctx context.Context, s Spec) (Result, error) {
 			}
 		}
 	}
-	fast := s.Dropout == 0 && balanced(s.Layout) && !generalised(s.Layout)
+	fast := s.Dropout == 0 && balanced(s.Layout) && !s.Layout.Plan.Generalised()
 	workers := s.Workers
 	if workers <= 0 {
 		workers = runtime.GOMAXPROCS(0)
@@ -235,22 +235,9 @@ func designData(l design.Layout) analyze.Data {
 			b.Values = append(b.Values, strconv.Itoa(u.Block))
 		}
 		d.Block = &b
-		d.BlockInteraction = generalised(l)
+		d.BlockInteraction = p.Generalised()
 	}
 	return d
-}
-
-func generalised(l design.Layout) bool {
-	p := l.Plan
-	if p.Design != design.RCBD || p.Units != nil {
-		return false
-	}
-	for _, r := range p.Reps {
-		if r < 2 {
-			return false
-		}
-	}
-	return true
 }
 
 func balanced(l design.Layout) bool {
