@@ -13,8 +13,13 @@
 //     z ^= z >> 30; z *= 0xBF58476D1CE4E5B9; z ^= z >> 27;
 //     z *= 0x94D049BB133111EB; z ^= z >> 31 (all arithmetic mod 2^64).
 //     The stream is golang.org/x/exp/rand's PCGSource seeded with z_b
-//     (PCG XSL RR 128/64, O'Neill 2014; Seed sets both 64-bit state words to
-//     z_b).
+//     (PCG XSL RR 128/64, O'Neill 2014): the 128-bit state starts as
+//     z_b·(2^64 + 1) (both 64-bit words equal to z_b); each draw sets
+//     s = s·M + C mod 2^128, with M = 47026247687942121848144207491837523525
+//     and C = 117397592171526113268558934119004209487, and returns
+//     rotr64(hi ⊕ lo, hi >> 58), hi and lo the state's upper and lower words.
+//     testdata/reference/allot_pcg_v1.py re-implements the whole algorithm
+//     from this description, and the tests compare the two.
 //  2. Bounded integers. A uniform integer in [0, n) is drawn by rejection:
 //     with t = 2^64 mod n, draw 64-bit x until x ≥ t, then return x mod n
 //     (no modulo bias).

@@ -1,6 +1,7 @@
 package randomize
 
 import (
+	"encoding/json"
 	"flag"
 	"fmt"
 	"os"
@@ -262,5 +263,61 @@ func BenchmarkAssign(b *testing.B) {
 				}
 			}
 		})
+	}
+}
+
+// TestIndependentImplementation compares layouts with those of
+// testdata/reference/allot_pcg_v1.py, a second implementation written from
+// the algorithm's description alone.
+func TestIndependentImplementation(t *testing.T) {
+	b, err := os.ReadFile("../testdata/reference/layouts_pcg_v1.json")
+	if err != nil {
+		t.Fatal(err)
+	}
+	var ref struct {
+		Cases []struct {
+			Name       string
+			Seed       uint64
+			Reps       []int
+			Blocks     int
+			Order      bool
+			BlockSizes []int `json:"block_sizes"`
+			Codes      []string
+			Units      []struct{ Block, Position, Treatment, Order int }
+		}
+	}
+	if err := json.Unmarshal(b, &ref); err != nil {
+		t.Fatal(err)
+	}
+	for _, c := range ref.Cases {
+		var levels []string
+		for i := range c.Reps {
+			levels = append(levels, fmt.Sprintf("t%d", i))
+		}
+		p := design.Plan{Title: "x", Design: design.RCBD, Factors: []design.Factor{{Name: "t", Levels: levels}}, Reps: c.Reps, Blocks: c.Blocks, BlockName: "block", Seed: c.Seed, Order: c.Order, Blind: true}
+		if c.Blocks == 1 {
+			p.Design = design.CRD
+		}
+		if c.BlockSizes != nil {
+			for bi, n := range c.BlockSizes {
+				for k := 0; k < n; k++ {
+					p.Units = append(p.Units, design.UnitSpec{ID: fmt.Sprintf("u%d-%d", bi+1, k), Block: bi + 1})
+				}
+			}
+		}
+		l, err := Assign(p)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if strings.Join(l.Codes, " ") != strings.Join(c.Codes, " ") {
+			t.Errorf("%s: codes %v, reference %v", c.Name, l.Codes, c.Codes)
+		}
+		for i, u := range l.Units {
+			w := c.Units[i]
+			if u.Block != w.Block || u.Position != w.Position || u.Treatment != w.Treatment || u.Order != w.Order {
+				t.Errorf("%s unit %d: %+v, reference %+v", c.Name, i, u, w)
+				break
+			}
+		}
 	}
 }

@@ -1,0 +1,41 @@
+package atomicfile
+
+import (
+	"errors"
+	"io"
+	"os"
+	"path/filepath"
+	"testing"
+)
+
+func TestWrite(t *testing.T) {
+	dir := t.TempDir()
+	p := filepath.Join(dir, "out.txt")
+	put := func(s string) func(io.Writer) error {
+		return func(w io.Writer) error { _, err := io.WriteString(w, s); return err }
+	}
+	if err := Write(p, false, put("one")); err != nil {
+		t.Fatal(err)
+	}
+	if err := Write(p, false, put("two")); !errors.Is(err, ErrExists) {
+		t.Errorf("second write without force: %v", err)
+	}
+	if b, _ := os.ReadFile(p); string(b) != "one" {
+		t.Errorf("file replaced: %q", b)
+	}
+	// A failing writer leaves the old file and no temporary behind.
+	if err := Write(p, true, func(io.Writer) error { return errors.New("disk full") }); err == nil {
+		t.Error("writer error lost")
+	}
+	if b, _ := os.ReadFile(p); string(b) != "one" {
+		t.Errorf("failed write changed the file: %q", b)
+	}
+	if err := Write(p, true, put("three")); err != nil {
+		t.Fatal(err)
+	}
+	entries, _ := os.ReadDir(dir)
+	st, _ := os.Stat(p)
+	if len(entries) != 1 || st.Mode().Perm()&0o044 == 0 {
+		t.Errorf("entries %v, mode %v", entries, st.Mode())
+	}
+}
