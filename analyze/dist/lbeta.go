@@ -1,6 +1,10 @@
 package dist
 
-import "math"
+import (
+	"math"
+
+	"gonum.org/v1/gonum/mathext"
+)
 
 // stirlingThreshold is the argument above which lgammaCorr's series is used.
 // At x = 15 the first omitted term, 691/(360360·x^11), is below 2e-16.
@@ -47,4 +51,84 @@ func logBeta(a, b float64) float64 {
 	}
 	return 0.5*math.Log(2*math.Pi) - 0.5*math.Log(s) + (a-0.5)*math.Log(a/s) + (b-0.5)*math.Log1p(-a/s) +
 		lgammaCorr(a) + lgammaCorr(b) - lgammaCorr(s)
+}
+
+// largeBetaArg is the parameter size from which regIncBeta uses its own
+// continued fraction instead of gonum's mathext.RegIncBeta. For b ≥ 5·10^4
+// gonum's prefactor x^a(1−x)^b/B(a,b), formed from log-gamma values, keeps
+// only about ten digits (F(1, 10^5) at x = 1: 7.8e-11 relative error against
+// 30-digit mpmath).
+const largeBetaArg = 1000
+
+// regIncBeta returns the regularised incomplete beta function I_x(a, b),
+// with xc = 1 − x passed separately so that it keeps its digits.
+//
+// For a, b < largeBetaArg it is gonum's mathext.RegIncBeta (Cephes incbet).
+// Otherwise it evaluates the continued fraction of I_x(a, b) (Abramowitz
+// and Stegun 1964, 26.5.8) by the modified Lentz method (Lentz 1976,
+// Applied Optics 15, 668–671; Thompson and Barnett 1986, J. Comput. Phys.
+// 64, 490–509) times the prefactor exp(a log x + b log xc − log a −
+// log B(a, b)) with logBeta's accurate log B; for x > (a+1)/(a+b+2) it
+// uses I_x(a, b) = 1 − I_xc(b, a), where the fraction converges fast.
+// Accuracy: 1e-14 relative where the result is not close to 1; the
+// noncentral F tests at df2 = 10^5 against mpmath bound it in use.
+func regIncBeta(a, b, x, xc float64) float64 {
+	switch {
+	case x <= 0:
+		return 0
+	case xc <= 0:
+		return 1
+	}
+	if a < largeBetaArg && b < largeBetaArg {
+		return mathext.RegIncBeta(a, b, x)
+	}
+	if x > (a+1)/(a+b+2) {
+		return 1 - regIncBeta(b, a, xc, x)
+	}
+	front := math.Exp(a*math.Log(x) + b*math.Log(xc) - math.Log(a) - logBeta(a, b))
+	return front * betaCF(a, b, x)
+}
+
+// betaCF evaluates the continued fraction of the incomplete beta function
+// by the modified Lentz method, to a relative change below 1e-16.
+func betaCF(a, b, x float64) float64 {
+	const tiny = 1e-300
+	qab, qap, qam := a+b, a+1, a-1
+	c, d := 1.0, 1-qab*x/qap
+	if math.Abs(d) < tiny {
+		d = tiny
+	}
+	d = 1 / d
+	h := d
+	for m := 1; m < 100000; m++ {
+		fm := float64(m)
+		m2 := 2 * fm
+		aa := fm * (b - fm) * x / ((qam + m2) * (a + m2))
+		d = 1 + aa*d
+		if math.Abs(d) < tiny {
+			d = tiny
+		}
+		c = 1 + aa/c
+		if math.Abs(c) < tiny {
+			c = tiny
+		}
+		d = 1 / d
+		h *= d * c
+		aa = -(a + fm) * (qab + fm) * x / ((a + m2) * (qap + m2))
+		d = 1 + aa*d
+		if math.Abs(d) < tiny {
+			d = tiny
+		}
+		c = 1 + aa/c
+		if math.Abs(c) < tiny {
+			c = tiny
+		}
+		d = 1 / d
+		del := d * c
+		h *= del
+		if math.Abs(del-1) < 1e-16 {
+			break
+		}
+	}
+	return h
 }

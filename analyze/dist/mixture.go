@@ -1,10 +1,6 @@
 package dist
 
-import (
-	"math"
-
-	"gonum.org/v1/gonum/mathext"
-)
+import "math"
 
 // mixtureEps is the relative size at which the neglected tails of a mixture
 // sum stop the summation. The bounds used are rigorous (geometric majorants
@@ -22,7 +18,8 @@ const mixtureMaxTerms = 200000
 //
 // where x + xc = 1 (xc is passed separately so that it keeps its digits
 // when x is close to 1), B_j = I_x(a+j, b) (upper == false) or B_j = 1 − I_x(a+j, b)
-// (upper == true) and I_x is the regularised incomplete beta function.
+// (upper == true) and I_x is the regularised incomplete beta function
+// (regIncBeta).
 //
 // With c = 1 and logC = −μ the weights are Poisson(μ) probabilities, which
 // gives the noncentral F and beta distributions (Johnson, Kotz and
@@ -32,7 +29,7 @@ const mixtureMaxTerms = 200000
 // eq. 2).
 //
 // The sum starts at the mode of the weights, j0 = max(0, ⌊μ − c + 1⌋), where
-// B_j0 is evaluated directly with gonum's mathext.RegIncBeta, and walks
+// B_j0 is evaluated directly with regIncBeta, and walks
 // outward in both directions. Neighbouring B_j follow from the recurrence
 //
 //	I_x(a'+1, b) = I_x(a', b) − D(a'),
@@ -69,9 +66,9 @@ func betaMixture(mu, c, logC, a, b, x, xc float64, upper bool) float64 {
 	}
 	incBeta := func(ap float64) float64 {
 		if upper {
-			return mathext.RegIncBeta(b, ap, xc)
+			return regIncBeta(b, ap, xc, x)
 		}
-		return mathext.RegIncBeta(ap, b, x)
+		return regIncBeta(ap, b, x, xc)
 	}
 
 	if mu == 0 {

@@ -20,8 +20,10 @@ import "math"
 // complements 1 − I_y directly, so small upper tails keep their relative
 // accuracy.
 //
-// Accuracy: against scipy.stats.ncf (testdata/reference/ncf.tsv) the relative
-// error is below 1e-10 for D1 1..50, D2 2..10^5, Lambda 0..2000.
+// Accuracy: against scipy.stats.ncf (testdata/reference/ncf.tsv, 1,372
+// points, D1 1..50, D2 2..10^5, Lambda 0..2000) the relative error is below
+// 1e-10; at D2 = 10^5, where scipy itself errs by ~4e-11, against 30-digit
+// mpmath sums (ncf_mpmath.tsv) it is below 1e-11.
 type NoncentralF struct {
 	D1, D2, Lambda float64
 }

@@ -244,7 +244,7 @@ func (o *analyzeOptions) jobs() ([]job, *design.Plan, []string, error) {
 		return nil, nil, nil, &failedError{err: fmt.Errorf("%s: %d error(s) must be corrected before analysis (allot check lists them):%s", o.read.file, n, b.String())}
 	}
 	if fl.Sealed {
-		return nil, nil, nil, usagef("%s: the workbook is blind; give its --key to unblind it for analysis", o.read.file)
+		return nil, nil, nil, inputErr(fmt.Errorf("%s: the workbook is blind; give its --key to unblind it for analysis", o.read.file))
 	}
 	p := fl.Layout.Plan
 	var out []job
