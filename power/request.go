@@ -479,28 +479,13 @@ func (a *Answer) tTest(r Request, d Design, dd float64) error {
 	a.TestName = "two-sample t test (pooled variance)"
 	a.Sides = r.Sides
 	a.CritName = "critical t"
-	var res TResult
-	switch {
-	case r.Detect:
-		a.Detectable, res = g.Detectable(r.N, r.Alpha, r.Power)
-		a.D = a.Detectable
-		if a.SD > 0 {
-			a.DiffDetectable = a.Detectable * a.SD
-		}
-	case r.N > 0:
-		res = g.Evaluate(r.N, dd, r.Alpha)
-		a.D = dd
-	default:
-		var err error
-		res, err = g.Solve(dd, r.Alpha, r.Power)
-		a.D = dd
-		if err != nil {
-			return &FieldError{Field: "d", Value: short(dd), Msg: "the effect is too small to reach the target power: " + err.Error()}
-		}
+	eval := func(n int, d float64) tOutcome {
+		r := g.Evaluate(n, d, r.Alpha)
+		return tOutcome{r.N1, []int{r.N1, r.N2}, r.Total, r.DF, r.Delta, r.TCrit, r.Power}
 	}
-	a.N, a.GroupSizes, a.Total = res.N1, []int{res.N1, res.N2}, res.Total
-	a.DF1, a.DF2, a.Lambda, a.Crit, a.Power = 1, res.DF, res.Delta, res.TCrit, res.Power
-	a.ErrorDF = res.DF
+	if err := a.standardised(r, dd, eval, &FieldError{Field: "d", Value: short(dd), Msg: "the effect is too small to reach the target power"}); err != nil {
+		return err
+	}
 	if g.Ratio != 1 {
 		a.NUnit = "units in group 1"
 	}
@@ -526,33 +511,56 @@ func (a *Answer) comparisons(r Request, d Design, dd float64) error {
 	}
 	a.Sides = r.Sides
 	a.CritName = "critical t"
-	var res CResult
-	switch {
-	case r.Detect:
-		a.Detectable, res = c.Detectable(r.N, r.Alpha, r.Power)
-		a.D = a.Detectable
-		if a.SD > 0 {
-			a.DiffDetectable = a.Detectable * a.SD
-		}
-	case r.N > 0:
-		res = c.Evaluate(r.N, dd, r.Alpha)
-		a.D = dd
-	default:
-		var err error
-		res, err = c.Solve(dd, r.Alpha, r.Power)
-		a.D = dd
-		if err != nil {
-			return &FieldError{Field: "diff", Msg: "the difference is too small to reach the target power: " + err.Error()}
-		}
+	eval := func(n int, d float64) tOutcome {
+		r := c.Evaluate(n, d, r.Alpha)
+		return tOutcome{r.N, r.GroupSizes, r.Total, r.DF, r.Delta, r.TCrit, r.Power}
 	}
-	a.N, a.GroupSizes, a.Total = res.N, res.GroupSizes, res.Total
-	a.DF1, a.DF2, a.Lambda, a.Crit, a.Power = 1, res.DF, res.Delta, res.TCrit, res.Power
-	a.ErrorDF = res.DF
+	if err := a.standardised(r, dd, eval, &FieldError{Field: "diff", Msg: "the difference is too small to reach the target power"}); err != nil {
+		return err
+	}
 	if c.Dunnett {
 		a.Notes = append(a.Notes, "Power is that of the weakest single comparison at Dunnett's familywise critical value; the chance of detecting every true difference at once is lower.")
 	} else {
 		a.Notes = append(a.Notes, "Power is that of the weakest single comparison at level alpha/m (Bonferroni); the chance of detecting every true difference at once is lower.")
 	}
+	return nil
+}
+
+// tOutcome is a t-based test (two groups or planned comparisons) at one n.
+type tOutcome struct {
+	n         int
+	sizes     []int
+	total     int
+	df, delta float64
+	crit, pwr float64
+}
+
+// standardised fills the answer for a test of a standardised difference:
+// the detectable difference at r.N, the power at r.N, or the n that reaches
+// the target, with tooSmall (its message extended) when the search is capped.
+func (a *Answer) standardised(r Request, dd float64, eval func(n int, d float64) tOutcome, tooSmall *FieldError) error {
+	var o tOutcome
+	switch {
+	case r.Detect:
+		a.Detectable = detectable(func(d float64) float64 { return eval(r.N, d).pwr }, r.Power)
+		o, a.D = eval(r.N, a.Detectable), a.Detectable
+		if a.SD > 0 {
+			a.DiffDetectable = a.Detectable * a.SD
+		}
+	case r.N > 0:
+		o, a.D = eval(r.N, dd), dd
+	default:
+		n, err := searchN(2, func(n int) float64 { return eval(n, dd).pwr }, r.Power)
+		a.D = dd
+		if err != nil {
+			tooSmall.Msg += ": " + err.Error()
+			return tooSmall
+		}
+		o = eval(n, dd)
+	}
+	a.N, a.GroupSizes, a.Total = o.n, o.sizes, o.total
+	a.DF1, a.DF2, a.Lambda, a.Crit, a.Power = 1, o.df, o.delta, o.crit, o.pwr
+	a.ErrorDF = o.df
 	return nil
 }
 
