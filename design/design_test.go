@@ -256,3 +256,15 @@ func FuzzParseResponse(f *testing.F) {
 		}
 	})
 }
+
+func TestUnitListCRDSharesEqually(t *testing.T) {
+	rows := []UnitRow{{ID: "a"}, {ID: "b"}, {ID: "c"}, {ID: "d"}, {ID: "e"}, {ID: "f"}}
+	p, err := Spec{Factor: []string{"diet=x,y,z"}, Seed: u64(1)}.Resolve(rows)
+	if err != nil || p.Reps[0] != 2 || p.NumUnits() != 6 {
+		t.Fatalf("%+v %v", p.Reps, err)
+	}
+	_, err = Spec{Factor: []string{"diet=x,y,z,w"}, Seed: u64(1)}.Resolve(rows)
+	if err == nil || !strings.Contains(err.Error(), "6 units do not divide equally among 4 treatments") {
+		t.Errorf("got %v", err)
+	}
+}

@@ -409,7 +409,16 @@ func (s Spec) Resolve(units []UnitRow) (Plan, error) {
 			return Plan{}, err
 		}
 	}
-	reps, err := ParseReps(s.Reps, p.Treatments())
+	repsText := s.Reps
+	if repsText == "" && units != nil && p.Design == CRD {
+		// A completely randomised unit list shares its units equally.
+		nt := len(p.Treatments())
+		if len(units)%nt != 0 {
+			return Plan{}, errf("reps", "%d units do not divide equally among %d treatments: give the replication per treatment, for example %s=%d,default=%d", len(units), nt, p.Treatments()[0].Name, len(units)/nt+len(units)%nt, len(units)/nt)
+		}
+		repsText = strconv.Itoa(len(units) / nt)
+	}
+	reps, err := ParseReps(repsText, p.Treatments())
 	if err != nil {
 		return Plan{}, err
 	}
