@@ -338,9 +338,9 @@ func (m mapPlotter) Plot(c draw.Canvas, plt *plot.Plot) {
 	head := big
 	head.XAlign, head.Font = draw.XLeft, font.From(plot.DefaultFont, 10)
 	for b := 1; b <= p.Blocks; b++ {
-		top := float64((b - 1) * (rows + 1))
+		top := float64(b-1) * (float64(rows) + mapGap)
 		if p.Design == design.RCBD {
-			c.FillText(head, vg.Point{X: tx(0), Y: ty(-top - 0.3)}, fmt.Sprintf("%s %s", strings.ToUpper(p.BlockName[:1])+p.BlockName[1:], p.BlockLabel(b)))
+			c.FillText(head, vg.Point{X: tx(0), Y: ty(-top - 0.2)}, fmt.Sprintf("%s %s", strings.ToUpper(p.BlockName[:1])+p.BlockName[1:], p.BlockLabel(b)))
 		}
 	}
 	for _, u := range m.l.Units {
@@ -348,9 +348,9 @@ func (m mapPlotter) Plot(c draw.Canvas, plt *plot.Plot) {
 		if p.Grid == nil {
 			r, col = 1, u.Position
 		}
-		top := float64((u.Block - 1) * (rows + 1))
+		top := float64(u.Block-1) * (float64(rows) + mapGap)
 		x0, x1 := float64(col-1), float64(col)
-		y0, y1 := -top-float64(r-1)-0.55, -top-float64(r)-0.55
+		y0, y1 := -top-float64(r-1)-0.4, -top-float64(r)-0.4
 		// A pale tint per treatment helps find a treatment's places; a
 		// blind map stays uncoloured, since colour would group the codes.
 		light := color.RGBA{R: 0xF7, G: 0xF7, B: 0xF7, A: 0xFF}
@@ -371,9 +371,13 @@ func (m mapPlotter) Plot(c draw.Canvas, plt *plot.Plot) {
 	}
 }
 
+// mapGap is the space between blocks on the map, in rows: room for the
+// block's name.
+const mapGap = 0.55
+
 func (m mapPlotter) DataRange() (xmin, xmax, ymin, ymax float64) {
 	rows, cols := m.geometry()
-	return 0, float64(cols), -float64(m.l.Plan.Blocks*(rows+1)) + 0.4, 0
+	return 0, float64(cols), -float64(m.l.Plan.Blocks)*(float64(rows)+mapGap) + mapGap - 0.4, 0
 }
 
 // MapFigure draws the layout as a bench map for placing labels: each block
@@ -390,7 +394,7 @@ func MapFigure(l design.Layout) Figure {
 	rows, cols := mapPlotter{l: l}.geometry()
 	// A4 portrait is 210 × 297 mm; a tall layout keeps A4 width and grows.
 	w := 190 * vg.Millimeter
-	h := vg.Length(l.Plan.Blocks*(rows+1)) * w / vg.Length(max(cols, 4)) * 0.5
+	h := vg.Length(float64(l.Plan.Blocks)*(float64(rows)+mapGap)) * w / vg.Length(max(cols, 4)) * 0.5
 	h = max(h, 60*vg.Millimeter)
 	return Figure{Name: "map", Title: p.Title.Text, plot: p, w: w, h: h}
 }
