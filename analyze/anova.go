@@ -68,6 +68,9 @@ type Table struct {
 	Fitted        []float64 `json:"-"`
 	// Leverage holds the diagonal of the hat matrix, h_ii.
 	Leverage []float64 `json:"-"`
+	// est holds what least-squares means need: coefficients, their
+	// unscaled covariance and the coding of each factor's main effect.
+	est *estimates
 	Alpha    float64   `json:"alpha"`
 }
 
@@ -376,6 +379,7 @@ func Fit(d Data, opt Options) (*Table, error) {
 		t.Fitted[i] = m.y[i] - t.Residuals[i] + m.shift
 	}
 	t.Leverage = m.leverage(full, all)
+	t.est = newEstimates(m, full, ranges)
 	if d.Block != nil && !d.BlockInteraction {
 		t.RelEfficiency = relEfficiency(t)
 	}

@@ -20,12 +20,13 @@ const (
 )
 
 // Dunnett compares every level of factor fi with the control level by
-// Dunnett's test: T_i = (ȳ_i − ȳ_0)/sqrt(MSe(1/n_i + 1/n_0)) with the
-// error of the fitted table, adjusted p-values P(max|T| > |t_i|) from
+// Dunnett's test on the least-squares means: T_i = (m_i − m_0)/SE_i0 with
+// the model's SE of the difference (sqrt(MSe(1/n_i + 1/n_0)) for one-way
+// data) and the error of the fitted table, adjusted p-values P(max|T| > |t_i|) from
 // dist.Dunnett (exact for unequal groups), and simultaneous intervals
 // diff ± c·SE. sides 1 tests treatment > control.
 func Dunnett(d Data, t *Table, fi int, control string, sides int) (*PostHoc, error) {
-	groups, err := Summaries(d, fi)
+	groups, seOf, err := lsGroups(d, t, fi)
 	if err != nil {
 		return nil, err
 	}
@@ -60,7 +61,7 @@ func Dunnett(d Data, t *Table, fi int, control string, sides int) (*PostHoc, err
 		if i == ci {
 			continue
 		}
-		se := math.Sqrt(t.Residual.MS * (1/float64(g.N) + 1/float64(c0.N)))
+		se := seOf(i, ci)
 		c := Comparison{A: g.Level, B: c0.Level, Pair: g.Level + " − " + c0.Level, Diff: g.Mean - c0.Mean, SE: se}
 		c.Q = c.Diff / se
 		if sides == 1 {
@@ -76,15 +77,16 @@ func Dunnett(d Data, t *Table, fi int, control string, sides int) (*PostHoc, err
 	return ph, nil
 }
 
-// Holm compares every pair of levels of factor fi by t tests on the fitted
-// table's error, t = diff/sqrt(MSe(1/n_i + 1/n_j)), with two-sided p-values
+// Holm compares every pair of levels of factor fi by t tests of the
+// least-squares means on the fitted table's error, t = diff/SE (SE =
+// sqrt(MSe(1/n_i + 1/n_j)) for one-way data), with two-sided p-values
 // adjusted by Holm's step-down method (Holm 1979, "A simple sequentially
 // rejective multiple test procedure", Scand. J. Statist. 6, 65–70):
 // p_(j) ↦ max_{i ≤ j} min(1, (m − i + 1)·p_(i)). Intervals are
 // Bonferroni-adjusted (level 1 − α/m), which Holm's method does not
 // provide itself.
 func Holm(d Data, t *Table, fi int) (*PostHoc, error) {
-	groups, err := Summaries(d, fi)
+	groups, seOf, err := lsGroups(d, t, fi)
 	if err != nil {
 		return nil, err
 	}
@@ -97,7 +99,7 @@ func Holm(d Data, t *Table, fi int) (*PostHoc, error) {
 	for i := 0; i < len(groups); i++ {
 		for j := i + 1; j < len(groups); j++ {
 			a, b := groups[i], groups[j]
-			se := math.Sqrt(t.Residual.MS * (1/float64(a.N) + 1/float64(b.N)))
+			se := seOf(i, j)
 			c := Comparison{A: a.Level, B: b.Level, Pair: a.Level + " − " + b.Level, Diff: a.Mean - b.Mean, SE: se}
 			c.Q = c.Diff / se
 			p := 2 * st.Survival(math.Abs(c.Q))

@@ -118,11 +118,15 @@ func Run(d Data, opt RunOptions) (*Result, error) {
 		}
 	}
 	for fi := range d.Factors {
-		g, err := Summaries(d, fi)
+		g, _, err := lsGroups(d, t, fi)
 		if err != nil {
 			return nil, err
 		}
-		withCI(g)
+		ls := t.LSMeans(fi)
+		for i := range g {
+			h := tq * ls[i].SE
+			g[i].Lower, g[i].Upper = g[i].Mean-h, g[i].Mean+h
+		}
 		res.Groups = append(res.Groups, g)
 	}
 	if len(d.Factors) >= 2 {
@@ -181,8 +185,8 @@ func Run(d Data, opt RunOptions) (*Result, error) {
 		}
 		res.Notes = append(res.Notes, "An interaction is significant: the effect of one factor depends on the level of another, so the main-effect comparisons average over effects that differ and can mislead; read the simple effects (one factor within each level of the other) instead.")
 	}
-	if d.Block != nil && !balanced(d) {
-		res.Notes = append(res.Notes, "Some units are missing, so the treatment means shown are raw means, not adjusted for blocks; the F tests are adjusted (least squares).")
+	if !balanced(d) {
+		res.Notes = append(res.Notes, "The design is unbalanced (missing units or unequal groups): the means shown are least-squares means, adjusted for the other terms and averaged over their levels with equal weights; raw means would be biased by which units are missing.")
 	}
 	res.Assumptions = checkAssumptions(d, t)
 	return res, nil
@@ -208,11 +212,14 @@ func addLetters(ph *PostHoc) {
 }
 
 // balanced reports whether every treatment cell has the same number of
-// observations in every block.
+// observations (in every block).
 func balanced(d Data) bool {
 	count := map[string]int{}
 	for i := range d.Values {
-		key := d.Block.Values[i]
+		key := ""
+		if d.Block != nil {
+			key = d.Block.Values[i]
+		}
 		for _, f := range d.Factors {
 			key += "\x00" + f.Values[i]
 		}
@@ -224,8 +231,12 @@ func balanced(d Data) bool {
 		lv, _, _ := f.levels()
 		cells *= len(lv)
 	}
-	bl, _, _ := d.Block.levels()
-	if len(count) != cells*len(bl) {
+	nb := 1
+	if d.Block != nil {
+		bl, _, _ := d.Block.levels()
+		nb = len(bl)
+	}
+	if len(count) != cells*nb {
 		return false
 	}
 	for _, c := range count {
@@ -271,7 +282,7 @@ func simpleEffects(d Data, t *Table) ([]*PostHoc, error) {
 			if len(groups) < 2 {
 				continue
 			}
-			ph := tukeyGroups(groups, t, d.Factors[ai].Name)
+			ph := tukeyGroups(groups, t, d.Factors[ai].Name, rawSE(groups, t))
 			ph.Within = d.Factors[bi].Name + " = " + bl
 			addLetters(ph)
 			out = append(out, ph)

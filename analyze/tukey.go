@@ -91,26 +91,52 @@ func Summaries(d Data, fi int) ([]Group, error) {
 }
 
 // Tukey compares every pair of levels of factor fi by Tukey's honestly
-// significant difference, with the Tukey–Kramer standard error
-// sqrt(MSe/2 · (1/n_i + 1/n_j)) for unequal groups (Tukey 1953; Kramer 1956,
-// Biometrics 12(3) 307–310), using the fitted table's error mean square and
+// significant difference on the least-squares means, q = |diff|/(SE/√2)
+// with SE the standard error of the difference from the fitted model —
+// for one-way data the Tukey–Kramer form sqrt(MSe (1/n_i + 1/n_j)) (Tukey
+// 1953; Kramer 1956, Biometrics 12(3) 307–310) — and the table's error
 // degrees of freedom. Adjusted p-values are P(Q > q) for the studentized
-// range with k levels; intervals are diff ± q_{1−α}·SE.
-//
-// The level means are the observed marginal means, which equal the
-// least-squares means when every level of the factor meets every level of
-// the other terms equally often (balanced designs, complete blocks).
+// range with k levels; intervals are diff ± q_{1−α}·SE/√2. Least-squares
+// means equal the raw means when every level meets every level of the
+// other terms equally often, and correct them for blocks and imbalance
+// otherwise. The Comparison's SE is that of the difference.
 func Tukey(d Data, t *Table, fi int) (*PostHoc, error) {
-	groups, err := Summaries(d, fi)
+	groups, se, err := lsGroups(d, t, fi)
 	if err != nil {
 		return nil, err
 	}
-	return tukeyGroups(groups, t, d.Factors[fi].Name), nil
+	return tukeyGroups(groups, t, d.Factors[fi].Name, se), nil
+}
+
+// lsGroups returns the level summaries of factor fi with the least-squares
+// means in place of the raw means, and the standard error of the
+// difference of two levels' least-squares means.
+func lsGroups(d Data, t *Table, fi int) ([]Group, func(i, j int) float64, error) {
+	groups, err := Summaries(d, fi)
+	if err != nil {
+		return nil, nil, err
+	}
+	ls := t.LSMeans(fi)
+	if len(ls) != len(groups) {
+		return nil, nil, fmt.Errorf("factor %s: %d levels in the data, %d in the model", d.Factors[fi].Name, len(groups), len(ls))
+	}
+	for i := range groups {
+		groups[i].Mean = ls[i].Mean
+	}
+	return groups, func(i, j int) float64 { return t.DiffSE(fi, i, j) }, nil
+}
+
+// rawSE is the standard error of a difference of raw means with the
+// table's error: sqrt(MSe (1/n_i + 1/n_j)).
+func rawSE(groups []Group, t *Table) func(i, j int) float64 {
+	return func(i, j int) float64 {
+		return math.Sqrt(t.Residual.MS * (1/float64(groups[i].N) + 1/float64(groups[j].N)))
+	}
 }
 
 // tukeyGroups runs Tukey–Kramer comparisons among groups with the table's
-// error.
-func tukeyGroups(groups []Group, t *Table, term string) *PostHoc {
+// error; se(i, j) is the standard error of the difference of means i and j.
+func tukeyGroups(groups []Group, t *Table, term string, se func(i, j int) float64) *PostHoc {
 	k := float64(len(groups))
 	df := float64(t.Residual.DF)
 	sr := dist.StudentizedRange{K: k, Nu: df}
@@ -119,11 +145,12 @@ func tukeyGroups(groups []Group, t *Table, term string) *PostHoc {
 	for i := 0; i < len(groups); i++ {
 		for j := i + 1; j < len(groups); j++ {
 			a, b := groups[i], groups[j]
-			se := math.Sqrt(t.Residual.MS / 2 * (1/float64(a.N) + 1/float64(b.N)))
-			c := Comparison{A: a.Level, B: b.Level, Pair: a.Level + " − " + b.Level, Diff: a.Mean - b.Mean, SE: se}
-			c.Q = math.Abs(c.Diff) / se
+			// The studentized range is in units of SE/√2.
+			s := se(i, j) / math.Sqrt2
+			c := Comparison{A: a.Level, B: b.Level, Pair: a.Level + " − " + b.Level, Diff: a.Mean - b.Mean, SE: se(i, j)}
+			c.Q = math.Abs(c.Diff) / s
 			c.P = sr.Survival(c.Q)
-			c.Lower, c.Upper = c.Diff-ph.Crit*se, c.Diff+ph.Crit*se
+			c.Lower, c.Upper = c.Diff-ph.Crit*s, c.Diff+ph.Crit*s
 			ph.Pairs = append(ph.Pairs, c)
 		}
 	}

@@ -65,6 +65,23 @@ def anova(rows, nfac, blocked, blockint=False):
                           "f": float(row["F"]), "p": float(row["PR(>F)"])})
         res = tab.loc["Residual"]
         out[str(typ)] = {"terms": terms, "resid_df": float(res["df"]), "resid_ss": float(res["sum_sq"])}
+    # Least-squares (estimated marginal) means of the first factor: the
+    # model's design rows averaged over the full grid of the other factors'
+    # levels and the blocks, with equal weights.
+    import itertools as it
+    from patsy import dmatrix
+    cols = ["PQR"[i] for i in range(nfac)] + (["block"] if blocked else [])
+    levels = {c: sorted(df[c].unique()) for c in cols}
+    vecs = []
+    for lv in levels["P"]:
+        grid = [dict(zip(cols, (lv,) + combo)) for combo in it.product(*[levels[c] for c in cols[1:]])]
+        X = np.asarray(dmatrix(fit.model.data.design_info, pd.DataFrame(grid)))
+        vecs.append(X.mean(axis=0))
+    covp = np.asarray(fit.cov_params())
+    params = np.asarray(fit.params)
+    out["lsmeans"] = [{"level": lv, "mean": float(v @ params), "se": float(np.sqrt(v @ covp @ v))}
+                      for lv, v in zip(levels["P"], vecs)]
+    out["lsdiff_se"] = [[float(np.sqrt((a - b) @ covp @ (a - b))) for b in vecs] for a in vecs]
     out["studentized"] = [float(v) for v in fit.get_influence().resid_studentized_internal]
     out["deleted"] = [float(v) for v in fit.get_influence().resid_studentized_external]
     out["leverage"] = [float(v) for v in fit.get_influence().hat_matrix_diag]
@@ -88,9 +105,10 @@ def case(name, levels, reps, blocks=0, drop=(), with_tukey=False, blockint=False
     rows = make(levels, reps, blocks, drop)
     types, r2 = anova(rows, len(levels), bool(blocks), blockint)
     stud, lev, dele = types.pop("studentized"), types.pop("leverage"), types.pop("deleted")
+    lsm, lsd = types.pop("lsmeans"), types.pop("lsdiff_se")
     c = {"name": name, "factors": len(levels), "blocked": bool(blocks), "block_interaction": blockint,
          "rows": rows, "anova": types, "r2": r2,
-         "studentized": stud, "leverage": lev, "deleted": dele}
+         "studentized": stud, "leverage": lev, "deleted": dele, "lsmeans": lsm, "lsdiff_se": lsd}
     if with_tukey:
         c["tukey"] = tukey(rows)
     return c

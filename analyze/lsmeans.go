@@ -1,0 +1,129 @@
+package analyze
+
+import "math"
+
+// estimates holds the fitted coefficients and (XᵀX)⁻¹ of the full model.
+type estimates struct {
+	b      []float64
+	cov    [][]float64 // (XᵀX)⁻¹ = R⁻¹R⁻ᵀ
+	shift  float64
+	main   map[int][2]int // factor index → column range of its main effect
+	levels [][]string
+}
+
+func newEstimates(m *model, f *qrFit, ranges [][2]int) *estimates {
+	p := f.p
+	r := func(i, j int) float64 { return f.a.Data[i*p+j] }
+	// b from R b = (Qᵀy)[:p].
+	b := make([]float64, p)
+	for i := p - 1; i >= 0; i-- {
+		s := f.qty[i]
+		for j := i + 1; j < p; j++ {
+			s -= r(i, j) * b[j]
+		}
+		b[i] = s / r(i, i)
+	}
+	// R⁻¹ (upper triangular), then R⁻¹R⁻ᵀ.
+	inv := make([][]float64, p)
+	for i := range inv {
+		inv[i] = make([]float64, p)
+	}
+	for j := 0; j < p; j++ {
+		inv[j][j] = 1 / r(j, j)
+		for i := j - 1; i >= 0; i-- {
+			var s float64
+			for k := i + 1; k <= j; k++ {
+				s += r(i, k) * inv[k][j]
+			}
+			inv[i][j] = -s / r(i, i)
+		}
+	}
+	cov := make([][]float64, p)
+	for i := range cov {
+		cov[i] = make([]float64, p)
+		for j := range cov[i] {
+			var s float64
+			for k := max(i, j); k < p; k++ {
+				s += inv[i][k] * inv[j][k]
+			}
+			cov[i][j] = s
+		}
+	}
+	e := &estimates{b: b, cov: cov, shift: m.shift, main: map[int][2]int{}, levels: m.levels}
+	for k, t := range m.terms {
+		if !t.block && !t.blockInt && len(t.factors) == 1 {
+			e.main[t.factors[0]] = ranges[k]
+		}
+	}
+	return e
+}
+
+// contrast returns the coefficient vector of factor fi's level l averaged
+// over every other term: with sum-to-zero coding the other terms' columns
+// average to zero over a balanced grid, so only the intercept and the
+// level's own coding remain.
+func (e *estimates) contrast(fi, l int) []float64 {
+	c := make([]float64, len(e.b))
+	c[0] = 1
+	rg := e.main[fi]
+	last := rg[1] - rg[0]
+	for j := 0; j < last; j++ {
+		switch {
+		case l == last:
+			c[rg[0]+j] = -1
+		case l == j:
+			c[rg[0]+j] = 1
+		}
+	}
+	return c
+}
+
+func (e *estimates) quad(c []float64) float64 {
+	var s float64
+	for i := range c {
+		if c[i] == 0 {
+			continue
+		}
+		for j := range c {
+			s += c[i] * e.cov[i][j] * c[j]
+		}
+	}
+	return s
+}
+
+// LSMean is the least-squares (estimated marginal) mean of one level: the
+// model's prediction averaged with equal weights over the levels of every
+// other factor and block (Searle, Speed and Milliken 1980, "Population
+// marginal means in the linear model", Amer. Statist. 34(4) 216–221).
+type LSMean struct {
+	Level string
+	Mean  float64
+	SE    float64
+}
+
+// LSMeans returns the least-squares means of factor fi with their standard
+// errors, in level order.
+func (t *Table) LSMeans(fi int) []LSMean {
+	e := t.est
+	var out []LSMean
+	for l, name := range e.levels[fi] {
+		c := e.contrast(fi, l)
+		var m float64
+		for i := range c {
+			m += c[i] * e.b[i]
+		}
+		out = append(out, LSMean{Level: name, Mean: e.shift + m, SE: math.Sqrt(t.Residual.MS * e.quad(c))})
+	}
+	return out
+}
+
+// DiffSE returns the standard error of the difference between the
+// least-squares means of levels a and b of factor fi.
+func (t *Table) DiffSE(fi, a, b int) float64 {
+	e := t.est
+	ca, cb := e.contrast(fi, a), e.contrast(fi, b)
+	for i := range ca {
+		ca[i] -= cb[i]
+	}
+	return math.Sqrt(t.Residual.MS * e.quad(ca))
+}
