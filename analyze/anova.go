@@ -70,8 +70,8 @@ type Table struct {
 	Leverage []float64 `json:"-"`
 	// est holds what least-squares means need: coefficients, their
 	// unscaled covariance and the coding of each factor's main effect.
-	est *estimates
-	Alpha    float64   `json:"alpha"`
+	est   *estimates
+	Alpha float64 `json:"alpha"`
 }
 
 // model is the coded design matrix of a fit.

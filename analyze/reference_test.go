@@ -34,7 +34,7 @@ type refCase struct {
 		Mean, SE float64
 	} `json:"lsmeans"`
 	LSDiffSE [][]float64 `json:"lsdiff_se"`
-	Tukey       []struct {
+	Tukey    []struct {
 		A, B                  string
 		Diff, P, Lower, Upper float64
 	} `json:"tukey"`
