@@ -202,6 +202,8 @@ func Run(s Scenario, o Options) (*Result, error) {
 		Seed:      s.Seed,
 		Generator: randomize.Generator,
 		Order:     true,
+		// Each bench is a 2 × 2 tray of pots, numbered back and forth.
+		Grid: &design.Grid{Rows: 2, Cols: 2, Numbering: design.Serpentine},
 	}
 	lay, err := randomize.Assign(plan)
 	if err != nil {
