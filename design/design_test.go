@@ -170,7 +170,7 @@ func FuzzParseReps(f *testing.F) {
 	}
 	tr := Plan{Factors: []Factor{{Name: "t", Levels: []string{"A", "B"}}}}.Treatments()
 	f.Fuzz(func(t *testing.T, s string) {
-		reps, err := ParseReps(s, tr)
+		reps, err := ParseReps(s, tr, "A")
 		if err != nil {
 			return
 		}
@@ -255,6 +255,16 @@ func FuzzParseResponse(f *testing.F) {
 			t.Fatalf("%q: empty range accepted", s)
 		}
 	})
+}
+
+func TestRepsNameTheControl(t *testing.T) {
+	p, err := Spec{Factor: []string{"diet=chow,fat,fibre"}, Control: "chow", Reps: "control=8,default=6", Seed: u64(1)}.Resolve(nil)
+	if err != nil || p.Reps[0] != 8 || p.Reps[1] != 6 || p.Reps[2] != 6 {
+		t.Fatalf("%v %v", p.Reps, err)
+	}
+	if _, err := (Spec{Factor: []string{"diet=chow,fat"}, Reps: "control=8,default=6", Seed: u64(1)}).Resolve(nil); err == nil {
+		t.Error("control accepted without a control level")
+	}
 }
 
 func TestUnitListCRDSharesEqually(t *testing.T) {

@@ -121,8 +121,10 @@ func ParseResponse(s string) (Response, error) {
 }
 
 // ParseReps parses the replication for treatments: "R" for every
-// treatment, or "NAME=R,...,default=R" with treatment names.
-func ParseReps(s string, tr []Treatment) ([]int, error) {
+// treatment, or "NAME=R,...,default=R" with treatment names; "control"
+// names the control level when control is set and no treatment is itself
+// called "control".
+func ParseReps(s string, tr []Treatment, control string) ([]int, error) {
 	s = strings.TrimSpace(s)
 	out := make([]int, len(tr))
 	if s == "" {
@@ -140,6 +142,11 @@ func ParseReps(s string, tr []Treatment) ([]int, error) {
 	byName := map[string]int{}
 	for i, t := range tr {
 		byName[t.Name] = i
+	}
+	if _, taken := byName["control"]; !taken && control != "" {
+		if i, ok := byName[control]; ok {
+			byName["control"] = i
+		}
 	}
 	def := 0
 	set := make([]bool, len(tr))
@@ -418,7 +425,7 @@ func (s Spec) Resolve(units []UnitRow) (Plan, error) {
 		}
 		repsText = strconv.Itoa(len(units) / nt)
 	}
-	reps, err := ParseReps(repsText, p.Treatments())
+	reps, err := ParseReps(repsText, p.Treatments(), p.Control)
 	if err != nil {
 		return Plan{}, err
 	}
