@@ -116,7 +116,8 @@ func (e errorBars) DataRange() (xmin, xmax, ymin, ymax float64) {
 		xmin, xmax = math.Min(xmin, pt.X), math.Max(xmax, pt.X)
 		ymin, ymax = math.Min(ymin, e.lo[i]), math.Max(ymax, e.hi[i])
 	}
-	return xmin - 0.5, xmax + 0.5, ymin, ymax
+	pad := 0.05 * (ymax - ymin) // keep whiskers off the title
+	return xmin - 0.5, xmax + 0.5, ymin - pad, ymax + pad
 }
 
 // MeansFigure plots the treatment means with 95% confidence intervals, or
@@ -200,6 +201,7 @@ func MeansFigure(a Analysis, unit string) (Figure, error) {
 		p.Legend.Add(fb+" = "+b, l)
 	}
 	p.Legend.Top = true
+	p.Legend.YOffs = -vg.Points(14) // clear of the title
 	p.NominalX(as...)
 	return Figure{Name: "interaction", Title: p.Title.Text, plot: p, w: 7 * vg.Inch, h: 4.5 * vg.Inch}, nil
 }
