@@ -8,6 +8,7 @@ type estimates struct {
 	cov    [][]float64 // (XᵀX)⁻¹ = R⁻¹R⁻ᵀ
 	shift  float64
 	main   map[int][2]int // factor index → column range of its main effect
+	pair   map[[2]int][2]int // factors (i < j) → column range of their interaction
 	levels [][]string
 }
 
@@ -49,13 +50,74 @@ func newEstimates(m *model, f *qrFit, ranges [][2]int) *estimates {
 			cov[i][j] = s
 		}
 	}
-	e := &estimates{b: b, cov: cov, shift: m.shift, main: map[int][2]int{}, levels: m.levels}
+	e := &estimates{b: b, cov: cov, shift: m.shift, main: map[int][2]int{}, pair: map[[2]int][2]int{}, levels: m.levels}
 	for k, t := range m.terms {
-		if !t.block && !t.blockInt && len(t.factors) == 1 {
+		switch {
+		case t.block || t.blockInt:
+		case len(t.factors) == 1:
 			e.main[t.factors[0]] = ranges[k]
+		case len(t.factors) == 2:
+			e.pair[[2]int{t.factors[0], t.factors[1]}] = ranges[k]
 		}
 	}
 	return e
+}
+
+// code returns the sum-to-zero coding of level l of a factor with L levels:
+// column j is 1 for l = j, −1 for the last level, 0 otherwise.
+func code(l, levels, j int) float64 {
+	switch {
+	case l == levels-1:
+		return -1
+	case l == j:
+		return 1
+	}
+	return 0
+}
+
+// cellContrast returns the coefficient vector of the cell (level la of
+// factor 0, level lb of factor 1), averaged over every other term. The
+// interaction columns are the products of the main-effect columns, the
+// first factor's index varying slowest, as buildModel makes them.
+func (e *estimates) cellContrast(la, lb int) []float64 {
+	c := make([]float64, len(e.b))
+	c[0] = 1
+	ra, rb, rab := e.main[0], e.main[1], e.pair[[2]int{0, 1}]
+	na, nb := ra[1]-ra[0], rb[1]-rb[0]
+	for i := 0; i < na; i++ {
+		c[ra[0]+i] = code(la, na+1, i)
+	}
+	for j := 0; j < nb; j++ {
+		c[rb[0]+j] = code(lb, nb+1, j)
+	}
+	for i := 0; i < na; i++ {
+		for j := 0; j < nb; j++ {
+			c[rab[0]+i*nb+j] = code(la, na+1, i) * code(lb, nb+1, j)
+		}
+	}
+	return c
+}
+
+// LSCells returns the least-squares means of the cells of the first two
+// factors (factorial designs), with standard errors, the first factor
+// varying slowest; nil without two factors.
+func (t *Table) LSCells() []LSMean {
+	e := t.est
+	if len(e.levels) < 2 {
+		return nil
+	}
+	var out []LSMean
+	for la, a := range e.levels[0] {
+		for lb, b := range e.levels[1] {
+			c := e.cellContrast(la, lb)
+			var m float64
+			for i := range c {
+				m += c[i] * e.b[i]
+			}
+			out = append(out, LSMean{Level: a + " × " + b, Mean: e.shift + m, SE: math.Sqrt(t.Residual.MS * e.quad(c))})
+		}
+	}
+	return out
 }
 
 // contrast returns the coefficient vector of factor fi's level l averaged
@@ -66,14 +128,8 @@ func (e *estimates) contrast(fi, l int) []float64 {
 	c := make([]float64, len(e.b))
 	c[0] = 1
 	rg := e.main[fi]
-	last := rg[1] - rg[0]
-	for j := 0; j < last; j++ {
-		switch {
-		case l == last:
-			c[rg[0]+j] = -1
-		case l == j:
-			c[rg[0]+j] = 1
-		}
+	for j := 0; j < rg[1]-rg[0]; j++ {
+		c[rg[0]+j] = code(l, rg[1]-rg[0]+1, j)
 	}
 	return c
 }

@@ -34,6 +34,10 @@ type refCase struct {
 		Mean, SE float64
 	} `json:"lsmeans"`
 	LSDiffSE [][]float64 `json:"lsdiff_se"`
+	LSCells  []struct {
+		P, Q     string
+		Mean, SE float64
+	} `json:"lscells"`
 	Tukey    []struct {
 		A, B                  string
 		Diff, P, Lower, Upper float64
@@ -210,6 +214,21 @@ func TestLSMeansAgainstStatsmodels(t *testing.T) {
 			for i, g := range res.Groups[0] {
 				if !near(g.Mean, got[i].Mean, 1e-12, 1e-12) {
 					t.Errorf("Run reports mean %g for %s, LS mean %g", g.Mean, g.Level, got[i].Mean)
+				}
+			}
+			cells := tab.LSCells()
+			for _, w := range c.LSCells {
+				found := false
+				for _, g := range cells {
+					if g.Level == w.P+" × "+w.Q {
+						found = true
+						if !near(g.Mean, w.Mean, 1e-10, 1e-10) || !near(g.SE, w.SE, 1e-9, 1e-12) {
+							t.Errorf("cell %s: LS mean %.12g SE %.12g; statsmodels %.12g %.12g", g.Level, g.Mean, g.SE, w.Mean, w.SE)
+						}
+					}
+				}
+				if !found {
+					t.Errorf("no cell %s × %s", w.P, w.Q)
 				}
 			}
 			byLevel := map[string]int{}

@@ -111,12 +111,6 @@ func Run(d Data, opt RunOptions) (*Result, error) {
 	}
 	res := &Result{Table: t, Sampling: sampling}
 	tq := distuv.StudentsT{Mu: 0, Sigma: 1, Nu: float64(t.Residual.DF)}.Quantile(0.975)
-	withCI := func(g []Group) {
-		for i := range g {
-			h := tq * math.Sqrt(t.Residual.MS/float64(g[i].N))
-			g[i].Lower, g[i].Upper = g[i].Mean-h, g[i].Mean+h
-		}
-	}
 	for fi := range d.Factors {
 		g, _, err := lsGroups(d, t, fi)
 		if err != nil {
@@ -130,20 +124,30 @@ func Run(d Data, opt RunOptions) (*Result, error) {
 		res.Groups = append(res.Groups, g)
 	}
 	if len(d.Factors) >= 2 {
-		// Cell means of the first two factors: a combined factor.
+		// Least-squares cell means of the first two factors, for the
+		// interaction plot, with the raw counts and SDs.
 		comb := Column{Name: d.Factors[0].Name + " × " + d.Factors[1].Name}
 		for i := range d.Values {
-			comb.Values = append(comb.Values, d.Factors[0].Values[i]+"\x00"+d.Factors[1].Values[i])
+			comb.Values = append(comb.Values, d.Factors[0].Values[i]+" × "+d.Factors[1].Values[i])
 		}
-		g, err := Summaries(Data{Response: d.Response, Values: d.Values, Factors: []Column{comb}}, 0)
+		raw, err := Summaries(Data{Response: d.Response, Values: d.Values, Factors: []Column{comb}}, 0)
 		if err != nil {
 			return nil, err
 		}
-		withCI(g)
-		for _, c := range g {
-			a, b, _ := strings.Cut(c.Level, "\x00")
-			c.Level = a + " × " + b
-			res.Cells = append(res.Cells, Cell{A: a, B: b, Group: c})
+		byName := map[string]Group{}
+		for _, g := range raw {
+			byName[g.Level] = g
+		}
+		la := t.est.levels[0]
+		lb := t.est.levels[1]
+		for k, c := range t.LSCells() {
+			g, ok := byName[c.Level]
+			if !ok {
+				continue // an empty cell has no mean to show
+			}
+			h := tq * c.SE
+			g.Mean, g.Lower, g.Upper = c.Mean, c.Mean-h, c.Mean+h
+			res.Cells = append(res.Cells, Cell{A: la[k/len(lb)], B: lb[k%len(lb)], Group: g})
 		}
 	}
 	interaction := false

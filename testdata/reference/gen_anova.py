@@ -82,6 +82,15 @@ def anova(rows, nfac, blocked, blockint=False):
     out["lsmeans"] = [{"level": lv, "mean": float(v @ params), "se": float(np.sqrt(v @ covp @ v))}
                       for lv, v in zip(levels["P"], vecs)]
     out["lsdiff_se"] = [[float(np.sqrt((a - b) @ covp @ (a - b))) for b in vecs] for a in vecs]
+    # Least-squares means of the cells of the first two factors.
+    cells = []
+    if nfac >= 2:
+        for lp in levels["P"]:
+            for lq in levels["Q"]:
+                grid = [dict(zip(cols, (lp, lq) + combo)) for combo in it.product(*[levels[c] for c in cols[2:]])]
+                v = np.asarray(dmatrix(fit.model.data.design_info, pd.DataFrame(grid))).mean(axis=0)
+                cells.append({"p": lp, "q": lq, "mean": float(v @ params), "se": float(np.sqrt(v @ covp @ v))})
+    out["lscells"] = cells
     out["studentized"] = [float(v) for v in fit.get_influence().resid_studentized_internal]
     out["deleted"] = [float(v) for v in fit.get_influence().resid_studentized_external]
     out["leverage"] = [float(v) for v in fit.get_influence().hat_matrix_diag]
@@ -105,10 +114,10 @@ def case(name, levels, reps, blocks=0, drop=(), with_tukey=False, blockint=False
     rows = make(levels, reps, blocks, drop)
     types, r2 = anova(rows, len(levels), bool(blocks), blockint)
     stud, lev, dele = types.pop("studentized"), types.pop("leverage"), types.pop("deleted")
-    lsm, lsd = types.pop("lsmeans"), types.pop("lsdiff_se")
+    lsm, lsd, lsc = types.pop("lsmeans"), types.pop("lsdiff_se"), types.pop("lscells")
     c = {"name": name, "factors": len(levels), "blocked": bool(blocks), "block_interaction": blockint,
          "rows": rows, "anova": types, "r2": r2,
-         "studentized": stud, "leverage": lev, "deleted": dele, "lsmeans": lsm, "lsdiff_se": lsd}
+         "studentized": stud, "leverage": lev, "deleted": dele, "lsmeans": lsm, "lsdiff_se": lsd, "lscells": lsc}
     if with_tukey:
         c["tukey"] = tukey(rows)
     return c
