@@ -7,7 +7,7 @@ type estimates struct {
 	b      []float64
 	cov    [][]float64 // (XᵀX)⁻¹ = R⁻¹R⁻ᵀ
 	shift  float64
-	main   map[int][2]int // factor index → column range of its main effect
+	main   map[int][2]int    // factor index → column range of its main effect
 	pair   map[[2]int][2]int // factors (i < j) → column range of their interaction
 	levels [][]string
 }

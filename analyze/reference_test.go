@@ -38,7 +38,7 @@ type refCase struct {
 		P, Q     string
 		Mean, SE float64
 	} `json:"lscells"`
-	Tukey    []struct {
+	Tukey []struct {
 		A, B                  string
 		Diff, P, Lower, Upper float64
 	} `json:"tukey"`
