@@ -123,3 +123,19 @@ func TestLayoutDrawsSeed(t *testing.T) {
 		t.Errorf("exit %d, %q", code, errs)
 	}
 }
+
+func TestVerifyParse(t *testing.T) {
+	var got *verifyOptions
+	cmd := newVerifyCmd(&streams{Out: &bytes.Buffer{}, Err: &bytes.Buffer{}}, func(o *verifyOptions) error { got = o; return nil })
+	cmd.SetArgs([]string{"trial.xlsx", "--key", "k.json"})
+	if err := cmd.Execute(); err != nil {
+		t.Fatal(err)
+	}
+	if got.file != "trial.xlsx" || got.key != "k.json" {
+		t.Errorf("%+v", got)
+	}
+	code, _, errs := runArgs(t, "layout", "verify")
+	if code != exitUsage || !strings.Contains(errs, "verify takes one FILE") {
+		t.Errorf("no file: exit %d %q", code, errs)
+	}
+}
