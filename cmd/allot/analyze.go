@@ -148,6 +148,7 @@ type job struct {
 	control   string
 	unit      string
 	blockName string
+	simulated bool
 }
 
 func analyzeRun(s *streams, o *analyzeOptions) error {
@@ -171,7 +172,7 @@ func analyzeRun(s *streams, o *analyzeOptions) error {
 		if err != nil {
 			return inputErr(fmt.Errorf("%s: %s: %w", o.read.file, j.data.Response, err))
 		}
-		a := report.Analysis{Result: res, Missing: j.missing, Unit: j.unit, BlockName: j.blockName}
+		a := report.Analysis{Result: res, Missing: j.missing, Unit: j.unit, BlockName: j.blockName, Simulated: j.simulated}
 		all = append(all, a)
 		if i > 0 && o.format != "json" {
 			fmt.Fprintln(s.Out)
@@ -268,7 +269,7 @@ func (o *analyzeOptions) jobs() ([]job, *design.Plan, []string, error) {
 		}
 		d := dataOf(r, obs, fnames, names, block)
 		d.BlockInteraction = p.Generalised()
-		out = append(out, job{data: d, missing: len(fl.Layout.Units) - len(obs.Units), control: p.Control, unit: "unit", blockName: p.BlockName})
+		out = append(out, job{data: d, missing: len(fl.Layout.Units) - len(obs.Units), control: p.Control, unit: "unit", blockName: p.BlockName, simulated: fl.Simulated()})
 	}
 	if len(out) == 0 {
 		return nil, nil, nil, usagef("--response %s: the plan has no such response (responses: %s)", o.response, strings.Join(fl.Responses, ", "))

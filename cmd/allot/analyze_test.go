@@ -51,6 +51,10 @@ func TestAnalyzeRun(t *testing.T) {
 			golden(t, tt.name, out)
 		})
 	}
+	// The demo's filled copy says it is simulated, and so does its analysis.
+	if _, out, _ := runArgs(t, "analyze", wb); !strings.Contains(out, "SIMULATED") {
+		t.Error("analysis of simulated data does not say so")
+	}
 	code, out, _ := runArgs(t, "analyze", wb, "--json")
 	var m map[string]any
 	if code != 0 || json.Unmarshal([]byte(out), &m) != nil {

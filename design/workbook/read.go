@@ -74,7 +74,14 @@ type Filled struct {
 	// Sealed marks a blind workbook read without its key: treatments are
 	// unknown (Treatment −1) and the data cannot be analysed.
 	Sealed bool
+	// Label is the notice written by Fill at the top of the Study sheet
+	// ("SIMULATED by allot demo: …"), or empty.
+	Label string
 }
+
+// Simulated reports whether the workbook's values were filled in by a
+// simulation rather than measured.
+func (f *Filled) Simulated() bool { return strings.Contains(f.Label, "SIMULATED") }
 
 // Errors returns the number of error-level problems.
 func (f *Filled) Errors() int {
@@ -142,6 +149,7 @@ func Read(path string, opt ReadOptions) (*Filled, error) {
 		return nil, err
 	}
 	fl.Sealed = l.Plan.Blind && opt.Key == nil
+	fl.Label, _ = f.GetCellValue(SheetStudy, "A2")
 	return fl, nil
 }
 
