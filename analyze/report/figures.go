@@ -230,6 +230,23 @@ func flaggedLabel(a Analysis, i int) string {
 	return ""
 }
 
+// maxPoints is the most points a residual figure draws.
+const maxPoints = 5000
+
+func ordinal(n int) string {
+	switch {
+	case n%100 >= 11 && n%100 <= 13:
+		return "th"
+	case n%10 == 1:
+		return "st"
+	case n%10 == 2:
+		return "nd"
+	case n%10 == 3:
+		return "rd"
+	}
+	return "th"
+}
+
 // ResidualFigures returns residuals against fitted values and the normal
 // quantile plot of the studentized residuals, with units beyond ±3 labelled.
 func ResidualFigures(a Analysis, unit string) ([]Figure, error) {
@@ -239,13 +256,23 @@ func ResidualFigures(a Analysis, unit string) ([]Figure, error) {
 	if unit != "" {
 		ru += " (" + unit + ")"
 	}
-	p := newPlot("Residuals against fitted values", "fitted "+ru, "residual "+ru)
+	// Large data sets show every k-th point (and every flagged one), so that
+	// a report stays a few hundred kilobytes; the title says so.
+	step := max(1, (len(as.Residuals)+maxPoints-1)/maxPoints)
+	title := "Residuals against fitted values"
+	if step > 1 {
+		title += fmt.Sprintf(" (every %d%s of %d points)", step, ordinal(step), len(as.Residuals))
+	}
+	p := newPlot(title, "fitted "+ru, "residual "+ru)
 	var xy plotter.XYs
 	var flagged labelled
 	for i, r := range as.Residuals {
 		pt := plotter.XY{X: as.Fitted[i], Y: r}
-		xy = append(xy, pt)
-		if l := flaggedLabel(a, i); l != "" {
+		l := flaggedLabel(a, i)
+		if i%step == 0 || l != "" {
+			xy = append(xy, pt)
+		}
+		if l != "" {
 			flagged.xy = append(flagged.xy, pt)
 			flagged.labels = append(flagged.labels, l)
 		}
@@ -271,7 +298,11 @@ func ResidualFigures(a Analysis, unit string) ([]Figure, error) {
 	figs := []Figure{{Name: "residuals", Title: p.Title.Text, plot: p, w: 7 * vg.Inch, h: 4.5 * vg.Inch}}
 
 	// Normal quantile plot with Blom's plotting positions (i − 3/8)/(n + 1/4).
-	q := newPlot("Normal quantile plot of studentized (deleted) residuals", "normal quantile", "studentized residual")
+	qtitle := "Normal quantile plot of studentized (deleted) residuals"
+	if step > 1 {
+		qtitle += fmt.Sprintf(" (every %d%s point)", step, ordinal(step))
+	}
+	q := newPlot(qtitle, "normal quantile", "studentized residual")
 	type pair struct {
 		v float64
 		i int
@@ -289,8 +320,11 @@ func ResidualFigures(a Analysis, unit string) ([]Figure, error) {
 	for k, pr := range ps {
 		x := distuv.UnitNormal.Quantile((float64(k+1) - 0.375) / (n + 0.25))
 		pt := plotter.XY{X: x, Y: pr.v}
-		qq = append(qq, pt)
-		if l := flaggedLabel(a, pr.i); l != "" {
+		l := flaggedLabel(a, pr.i)
+		if k%step == 0 || l != "" || k == len(ps)-1 {
+			qq = append(qq, pt)
+		}
+		if l != "" {
 			qflag.xy = append(qflag.xy, pt)
 			qflag.labels = append(qflag.labels, l)
 		}

@@ -265,3 +265,27 @@ func must(b []byte, err error) []byte {
 	}
 	return b
 }
+
+func TestLargeResidualFiguresThinned(t *testing.T) {
+	n := 20000
+	d := analyze.Data{Response: "y", Factors: []analyze.Column{{Name: "g"}}}
+	for i := 0; i < n; i++ {
+		d.Values = append(d.Values, strconv.Itoa(100+(i*7919)%23))
+		d.Factors[0].Values = append(d.Factors[0].Values, strconv.Itoa(i%4))
+	}
+	r, err := analyze.Run(d, analyze.RunOptions{PostHoc: analyze.MethodNone})
+	if err != nil {
+		t.Fatal(err)
+	}
+	figs, err := ResidualFigures(Analysis{Result: r}, "")
+	if err != nil {
+		t.Fatal(err)
+	}
+	svg, err := figs[0].Render("svg")
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(svg) > 2<<20 || !strings.Contains(figs[0].Title, "every 4th of 20000 points") {
+		t.Errorf("residual figure %d bytes, title %q", len(svg), figs[0].Title)
+	}
+}
