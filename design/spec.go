@@ -211,15 +211,16 @@ type UnitRow struct {
 	Covariate *float64
 }
 
-// UnitListError is a problem in a unit list, located by line and column.
-type UnitListError struct {
+// CSVError is a problem in a CSV file (a unit list, or a plain data
+// table), located by line and column.
+type CSVError struct {
 	File   string
 	Line   int
 	Column string
 	Msg    string
 }
 
-func (e *UnitListError) Error() string {
+func (e *CSVError) Error() string {
 	loc := e.File
 	if e.Line > 0 {
 		loc += fmt.Sprintf(" line %d", e.Line)
@@ -246,16 +247,16 @@ func ReadUnitList(r io.Reader, file, idCol, blockCol, covCol string) ([]UnitRow,
 		if err != nil {
 			var pe *csv.ParseError
 			if errors.As(err, &pe) {
-				return nil, &UnitListError{File: file, Line: pe.Line, Msg: pe.Err.Error()}
+				return nil, &CSVError{File: file, Line: pe.Line, Msg: pe.Err.Error()}
 			}
-			return nil, &UnitListError{File: file, Msg: err.Error()}
+			return nil, &CSVError{File: file, Msg: err.Error()}
 		}
 		line, _ := cr.FieldPos(0)
 		recs = append(recs, rec)
 		lines = append(lines, line)
 	}
 	if len(recs) < 2 {
-		return nil, &UnitListError{File: file, Msg: "needs a header row and at least one unit"}
+		return nil, &CSVError{File: file, Msg: "needs a header row and at least one unit"}
 	}
 	head := recs[0]
 	col := func(name string) (int, error) {
@@ -267,7 +268,7 @@ func ReadUnitList(r io.Reader, file, idCol, blockCol, covCol string) ([]UnitRow,
 				return i, nil
 			}
 		}
-		return -1, &UnitListError{File: file, Line: 1, Column: name, Msg: fmt.Sprintf("no such column (columns: %s); name it with --id-column, --block-column or --match-on", strings.Join(head, ", "))}
+		return -1, &CSVError{File: file, Line: 1, Column: name, Msg: fmt.Sprintf("no such column (columns: %s); name it with --id-column, --block-column or --match-on", strings.Join(head, ", "))}
 	}
 	ic, err := col(idCol)
 	if err != nil {
@@ -296,26 +297,26 @@ func ReadUnitList(r io.Reader, file, idCol, blockCol, covCol string) ([]UnitRow,
 			if strings.TrimSpace(strings.Join(rec, "")) == "" {
 				continue
 			}
-			return nil, &UnitListError{File: file, Line: line, Column: idCol, Msg: "the unit ID is empty"}
+			return nil, &CSVError{File: file, Line: line, Column: idCol, Msg: "the unit ID is empty"}
 		}
 		if prev, dup := seen[row.ID]; dup {
-			return nil, &UnitListError{File: file, Line: line, Column: idCol, Msg: fmt.Sprintf("unit ID %q already appears on line %d; IDs must be unique", row.ID, prev)}
+			return nil, &CSVError{File: file, Line: line, Column: idCol, Msg: fmt.Sprintf("unit ID %q already appears on line %d; IDs must be unique", row.ID, prev)}
 		}
 		seen[row.ID] = line
 		if bc >= 0 && row.Block == "" {
-			return nil, &UnitListError{File: file, Line: line, Column: blockCol, Msg: "the block is empty"}
+			return nil, &CSVError{File: file, Line: line, Column: blockCol, Msg: "the block is empty"}
 		}
 		if cc >= 0 {
 			v, err := strconv.ParseFloat(get(cc), 64)
 			if err != nil || math.IsNaN(v) || math.IsInf(v, 0) {
-				return nil, &UnitListError{File: file, Line: line, Column: covCol, Msg: fmt.Sprintf("%q is not a number", get(cc))}
+				return nil, &CSVError{File: file, Line: line, Column: covCol, Msg: fmt.Sprintf("%q is not a number", get(cc))}
 			}
 			row.Covariate = &v
 		}
 		out = append(out, row)
 	}
 	if len(out) == 0 {
-		return nil, &UnitListError{File: file, Msg: "lists no units"}
+		return nil, &CSVError{File: file, Msg: "lists no units"}
 	}
 	return out, nil
 }

@@ -89,41 +89,29 @@ func regIncBeta(a, b, x, xc float64) float64 {
 	return front * betaCF(a, b, x)
 }
 
+// nonzero keeps a Lentz denominator away from zero (Thompson and Barnett's
+// "tiny" substitution).
+func nonzero(v float64) float64 {
+	if math.Abs(v) < 1e-300 {
+		return 1e-300
+	}
+	return v
+}
+
 // betaCF evaluates the continued fraction of the incomplete beta function
 // by the modified Lentz method, to a relative change below 1e-16.
 func betaCF(a, b, x float64) float64 {
-	const tiny = 1e-300
 	qab, qap, qam := a+b, a+1, a-1
-	c, d := 1.0, 1-qab*x/qap
-	if math.Abs(d) < tiny {
-		d = tiny
-	}
-	d = 1 / d
+	c, d := 1.0, 1/nonzero(1-qab*x/qap)
 	h := d
 	for m := 1; m < 100000; m++ {
 		fm := float64(m)
 		m2 := 2 * fm
 		aa := fm * (b - fm) * x / ((qam + m2) * (a + m2))
-		d = 1 + aa*d
-		if math.Abs(d) < tiny {
-			d = tiny
-		}
-		c = 1 + aa/c
-		if math.Abs(c) < tiny {
-			c = tiny
-		}
-		d = 1 / d
+		d, c = 1/nonzero(1+aa*d), nonzero(1+aa/c)
 		h *= d * c
 		aa = -(a + fm) * (qab + fm) * x / ((a + m2) * (qap + m2))
-		d = 1 + aa*d
-		if math.Abs(d) < tiny {
-			d = tiny
-		}
-		c = 1 + aa/c
-		if math.Abs(c) < tiny {
-			c = tiny
-		}
-		d = 1 / d
+		d, c = 1/nonzero(1+aa*d), nonzero(1+aa/c)
 		del := d * c
 		h *= del
 		if math.Abs(del-1) < 1e-16 {

@@ -207,7 +207,7 @@ func planError(err error) error {
 		}
 		return inputErr(fmt.Errorf("--%s: %s", flag, de.Msg))
 	}
-	var ue *design.UnitListError
+	var ue *design.CSVError
 	if errors.As(err, &ue) {
 		return inputErr(fmt.Errorf("--units %w", err))
 	}

@@ -93,7 +93,6 @@ type Observations struct {
 	Blocks     []string   // block number as text, per observation (nil for CRD)
 	Units      []string
 	Cells      []string
-	Treatment  []string
 }
 
 // Observations collects the non-missing values of response r. It panics on
@@ -130,7 +129,6 @@ func (fl *Filled) Observations(r int) Observations {
 		}
 		o.Units = append(o.Units, u.ID)
 		o.Cells = append(o.Cells, SheetEntry+"!"+v.Cell)
-		o.Treatment = append(o.Treatment, tr[u.Treatment].Name)
 	}
 	return o
 }

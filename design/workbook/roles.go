@@ -1,6 +1,8 @@
 package workbook
 
 import (
+	"allot/design"
+
 	"encoding/csv"
 	"fmt"
 	"io"
@@ -17,25 +19,6 @@ type Roles struct {
 	Unit     string // optional unit-ID column
 }
 
-// RolesError is a problem in a plain CSV table.
-type RolesError struct {
-	Path   string
-	Line   int
-	Column string
-	Msg    string
-}
-
-func (e *RolesError) Error() string {
-	loc := e.Path
-	if e.Line > 0 {
-		loc += fmt.Sprintf(" line %d", e.Line)
-	}
-	if e.Column != "" {
-		loc += fmt.Sprintf(" column %q", e.Column)
-	}
-	return loc + ": " + e.Msg
-}
-
 // ReadRoles reads a plain CSV table with a header row and returns the
 // observations of the response (rows with an empty response are skipped and
 // counted in missing). A non-numeric response, or an empty factor or block
@@ -45,7 +28,7 @@ func ReadRoles(r io.Reader, path string, roles Roles, decimalComma bool) (obs Ob
 	cr.FieldsPerRecord = -1
 	head, err := cr.Read()
 	if err != nil {
-		return obs, 0, &RolesError{Path: path, Msg: "no header row: " + err.Error()}
+		return obs, 0, &design.CSVError{File: path, Msg: "no header row: " + err.Error()}
 	}
 	col := map[string]int{}
 	for i, h := range head {
@@ -54,7 +37,7 @@ func ReadRoles(r io.Reader, path string, roles Roles, decimalComma bool) (obs Ob
 	find := func(flag, name string) (int, error) {
 		i, ok := col[name]
 		if !ok {
-			return 0, &RolesError{Path: path, Line: 1, Column: name, Msg: fmt.Sprintf("no such column for --%s (columns: %s)", flag, strings.Join(head, ", "))}
+			return 0, &design.CSVError{File: path, Line: 1, Column: name, Msg: fmt.Sprintf("no such column for --%s (columns: %s)", flag, strings.Join(head, ", "))}
 		}
 		return i, nil
 	}
@@ -88,7 +71,7 @@ func ReadRoles(r io.Reader, path string, roles Roles, decimalComma bool) (obs Ob
 			break
 		}
 		if err != nil {
-			return obs, 0, &RolesError{Path: path, Msg: err.Error()}
+			return obs, 0, &design.CSVError{File: path, Msg: err.Error()}
 		}
 		line, _ := cr.FieldPos(0)
 		get := func(i int) string {
@@ -110,19 +93,19 @@ func ReadRoles(r io.Reader, path string, roles Roles, decimalComma bool) (obs Ob
 			if decimalCommaRE.MatchString(v) {
 				msg = fmt.Sprintf("%q has a decimal comma; run again with --decimal-comma", v)
 			}
-			return obs, 0, &RolesError{Path: path, Line: line, Column: roles.Response, Msg: msg}
+			return obs, 0, &design.CSVError{File: path, Line: line, Column: roles.Response, Msg: msg}
 		}
 		for k, i := range fi {
 			l := get(i)
 			if l == "" {
-				return obs, 0, &RolesError{Path: path, Line: line, Column: roles.Factors[k], Msg: "the factor level is empty"}
+				return obs, 0, &design.CSVError{File: path, Line: line, Column: roles.Factors[k], Msg: "the factor level is empty"}
 			}
 			obs.Levels[k] = append(obs.Levels[k], l)
 		}
 		if bi >= 0 {
 			b := get(bi)
 			if b == "" {
-				return obs, 0, &RolesError{Path: path, Line: line, Column: roles.Block, Msg: "the block is empty"}
+				return obs, 0, &design.CSVError{File: path, Line: line, Column: roles.Block, Msg: "the block is empty"}
 			}
 			obs.Blocks = append(obs.Blocks, b)
 		}
@@ -135,7 +118,7 @@ func ReadRoles(r io.Reader, path string, roles Roles, decimalComma bool) (obs Ob
 		obs.Cells = append(obs.Cells, fmt.Sprintf("line %d", line))
 	}
 	if len(obs.Values) == 0 {
-		return obs, missing, &RolesError{Path: path, Column: roles.Response, Msg: "has no numbers to analyse"}
+		return obs, missing, &design.CSVError{File: path, Column: roles.Response, Msg: "has no numbers to analyse"}
 	}
 	return obs, missing, nil
 }

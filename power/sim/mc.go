@@ -545,6 +545,3 @@ func indexOf(levels []string, l string) int {
 	}
 	return -1
 }
-
-// analyzeEngine builds the engine of a design (Type III), for tests.
-func analyzeEngine(d analyze.Data) (*analyze.Engine, error) { return analyze.NewEngine(d, 3) }

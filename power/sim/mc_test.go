@@ -2,6 +2,8 @@ package sim
 
 import (
 	"context"
+
+	"allot/analyze"
 	"math"
 	"testing"
 
@@ -181,3 +183,6 @@ func BenchmarkFactorial3x2Blocks4Dropout(b *testing.B) {
 		}
 	}
 }
+
+// analyzeEngine builds the engine of a design (Type III).
+func analyzeEngine(d analyze.Data) (*analyze.Engine, error) { return analyze.NewEngine(d, 3) }
