@@ -1,4 +1,4 @@
-module allot
+module github.com/allotproject/allot
 
 go 1.26.0
 

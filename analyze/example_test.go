@@ -3,7 +3,7 @@ package analyze_test
 import (
 	"fmt"
 
-	"allot/analyze"
+	"github.com/allotproject/allot/analyze"
 )
 
 // A one-way ANOVA of three groups of three.

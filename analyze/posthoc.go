@@ -6,7 +6,7 @@ import (
 	"sort"
 	"strings"
 
-	"allot/analyze/dist"
+	"github.com/allotproject/allot/prob"
 
 	"gonum.org/v1/gonum/stat/distuv"
 )
@@ -23,7 +23,7 @@ const (
 // Dunnett's test on the least-squares means: T_i = (m_i − m_0)/SE_i0 with
 // the model's SE of the difference (sqrt(MSe(1/n_i + 1/n_0)) for one-way
 // data) and the error of the fitted table, adjusted p-values P(max|T| > |t_i|) from
-// dist.Dunnett (exact for unequal groups), and simultaneous intervals
+// prob.Dunnett (exact for unequal groups), and simultaneous intervals
 // diff ± c·SE. sides 1 tests treatment > control.
 func Dunnett(d Data, t *Table, fi int, control string, sides int) (*PostHoc, error) {
 	groups, seOf, err := lsGroups(d, t, fi)
@@ -50,7 +50,7 @@ func Dunnett(d Data, t *Table, fi int, control string, sides int) (*PostHoc, err
 			lam = append(lam, math.Sqrt(float64(g.N)/float64(g.N+c0.N)))
 		}
 	}
-	dd := dist.Dunnett{Lambda: lam, Nu: float64(t.Residual.DF), Sides: sides}
+	dd := prob.Dunnett{Lambda: lam, Nu: float64(t.Residual.DF), Sides: sides}
 	method := "Dunnett (two-sided)"
 	if sides == 1 {
 		method = "Dunnett (one-sided, treatment > control)"

@@ -4,7 +4,7 @@ import (
 	"fmt"
 	"math"
 
-	"allot/analyze/dist"
+	"github.com/allotproject/allot/prob"
 )
 
 // Group is a level of a factor with its observations' summary.
@@ -139,7 +139,7 @@ func rawSE(groups []Group, t *Table) func(i, j int) float64 {
 func tukeyGroups(groups []Group, t *Table, term string, se func(i, j int) float64) *PostHoc {
 	k := float64(len(groups))
 	df := float64(t.Residual.DF)
-	sr := dist.StudentizedRange{K: k, Nu: df}
+	sr := prob.StudentizedRange{K: k, Nu: df}
 	ph := &PostHoc{Method: "Tukey HSD", Term: term, Alpha: t.Alpha, DF: t.Residual.DF, Groups: groups, StatName: "q"}
 	ph.Crit = sr.Quantile(1 - t.Alpha)
 	for i := 0; i < len(groups); i++ {

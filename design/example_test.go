@@ -3,7 +3,7 @@ package design_test
 import (
 	"fmt"
 
-	"allot/design"
+	"github.com/allotproject/allot/design"
 )
 
 // A factorial plan's treatments are the full combination of the levels,

@@ -4,14 +4,14 @@ import (
 	"fmt"
 	"testing"
 
-	"allot/analyze/dist"
+	"github.com/allotproject/allot/prob"
 )
 
 func BenchmarkNoncentralFSurvival(b *testing.B) {
 	for _, lam := range []float64{5, 50, 500} {
 		b.Run(fmt.Sprintf("lambda=%g", lam), func(b *testing.B) {
 			b.ReportAllocs()
-			d := dist.NoncentralF{D1: 3, D2: 60, Lambda: lam}
+			d := prob.NoncentralF{D1: 3, D2: 60, Lambda: lam}
 			for i := 0; i < b.N; i++ {
 				d.Survival(2.76)
 			}

@@ -4,7 +4,7 @@ import (
 	"fmt"
 	"math"
 
-	"allot/analyze/dist"
+	"github.com/allotproject/allot/prob"
 
 	"gonum.org/v1/gonum/stat/distuv"
 )
@@ -25,7 +25,7 @@ type Comparisons struct {
 	Control int  // index of the control group
 	Sides   int
 	// Dunnett uses Dunnett's critical value for the many-to-one family
-	// (dist.Dunnett, exact for the planned group sizes) instead of
+	// (prob.Dunnett, exact for the planned group sizes) instead of
 	// Bonferroni's t_{1−α/m}; it is less conservative.
 	Dunnett bool
 }
@@ -86,9 +86,9 @@ func (c Comparisons) Evaluate(n int, d, alpha float64) CResult {
 				lam = append(lam, math.Sqrt(float64(s)/float64(s+sizes[c.Control])))
 			}
 		}
-		r.TCrit = dist.Dunnett{Lambda: lam, Nu: r.DF, Sides: c.Sides}.Quantile(1 - alpha)
+		r.TCrit = prob.Dunnett{Lambda: lam, Nu: r.DF, Sides: c.Sides}.Quantile(1 - alpha)
 		r.AlphaEach = math.NaN()
-		nt := dist.NoncentralT{Nu: r.DF, Delta: r.Delta}
+		nt := prob.NoncentralT{Nu: r.DF, Delta: r.Delta}
 		r.Power = nt.Survival(r.TCrit)
 		if c.Sides == 2 {
 			r.Power += nt.CDF(-r.TCrit)
@@ -97,10 +97,10 @@ func (c Comparisons) Evaluate(n int, d, alpha float64) CResult {
 	}
 	if c.Sides == 1 {
 		r.TCrit = st.Quantile(1 - r.AlphaEach)
-		r.Power = dist.NoncentralT{Nu: r.DF, Delta: r.Delta}.Survival(r.TCrit)
+		r.Power = prob.NoncentralT{Nu: r.DF, Delta: r.Delta}.Survival(r.TCrit)
 	} else {
 		r.TCrit = st.Quantile(1 - r.AlphaEach/2)
-		r.Power = dist.NoncentralF{D1: 1, D2: r.DF, Lambda: r.Delta * r.Delta}.Survival(r.TCrit * r.TCrit)
+		r.Power = prob.NoncentralF{D1: 1, D2: r.DF, Lambda: r.Delta * r.Delta}.Survival(r.TCrit * r.TCrit)
 	}
 	return r
 }

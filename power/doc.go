@@ -3,7 +3,7 @@
 //
 // Every calculation is exact for its model: the power of an F test is the
 // survival function of the noncentral F distribution at the central critical
-// value (analyze/dist.NoncentralF), the power of a one-sided t test that of the
+// value (analyze/prob.NoncentralF), the power of a one-sided t test that of the
 // noncentral t distribution. The models are fixed-effects ANOVA with normal
 // errors of common variance, as in Cohen (1988), Statistical Power Analysis
 // for the Behavioral Sciences, 2nd ed., chapter 8, and the noncentrality

@@ -3,7 +3,7 @@ package power_test
 import (
 	"fmt"
 
-	"allot/power"
+	"github.com/allotproject/allot/power"
 )
 
 // Units per group for a one-way layout of four groups, Cohen's f = 0.25,

@@ -6,7 +6,7 @@ import (
 	"math"
 	"strings"
 
-	"allot/analyze/dist"
+	"github.com/allotproject/allot/prob"
 
 	"gonum.org/v1/gonum/stat/distuv"
 )
@@ -176,7 +176,7 @@ func (d Design) Evaluate(n int, f, alpha float64) Result {
 		return r
 	}
 	r.FCrit = distuv.F{D1: r.DF1, D2: r.DF2}.Quantile(1 - alpha)
-	r.Power = dist.NoncentralF{D1: r.DF1, D2: r.DF2, Lambda: r.Lambda}.Survival(r.FCrit)
+	r.Power = prob.NoncentralF{D1: r.DF1, D2: r.DF2, Lambda: r.Lambda}.Survival(r.FCrit)
 	return r
 }
 

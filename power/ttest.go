@@ -4,7 +4,7 @@ import (
 	"fmt"
 	"math"
 
-	"allot/analyze/dist"
+	"github.com/allotproject/allot/prob"
 
 	"gonum.org/v1/gonum/stat/distuv"
 )
@@ -58,10 +58,10 @@ func (g TwoGroups) Evaluate(n int, d, alpha float64) TResult {
 	st := distuv.StudentsT{Mu: 0, Sigma: 1, Nu: r.DF}
 	if g.Sides == 1 {
 		r.TCrit = st.Quantile(1 - alpha)
-		r.Power = dist.NoncentralT{Nu: r.DF, Delta: r.Delta}.Survival(r.TCrit)
+		r.Power = prob.NoncentralT{Nu: r.DF, Delta: r.Delta}.Survival(r.TCrit)
 	} else {
 		r.TCrit = st.Quantile(1 - alpha/2)
-		r.Power = dist.NoncentralF{D1: 1, D2: r.DF, Lambda: r.Delta * r.Delta}.Survival(r.TCrit * r.TCrit)
+		r.Power = prob.NoncentralF{D1: 1, D2: r.DF, Lambda: r.Delta * r.Delta}.Survival(r.TCrit * r.TCrit)
 	}
 	return r
 }

@@ -3,8 +3,8 @@ package randomize_test
 import (
 	"fmt"
 
-	"allot/design"
-	"allot/randomize"
+	"github.com/allotproject/allot/design"
+	"github.com/allotproject/allot/randomize"
 )
 
 // Three feeds on two benches: each bench holds each feed once, in an order

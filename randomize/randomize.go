@@ -55,7 +55,7 @@ import (
 	"encoding/binary"
 	"fmt"
 
-	"allot/design"
+	"github.com/allotproject/allot/design"
 
 	"golang.org/x/exp/rand"
 )

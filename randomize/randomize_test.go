@@ -9,7 +9,7 @@ import (
 	"strings"
 	"testing"
 
-	"allot/design"
+	"github.com/allotproject/allot/design"
 
 	"golang.org/x/exp/rand"
 	"gonum.org/v1/gonum/stat/distuv"

@@ -7,12 +7,12 @@ import (
 	"path/filepath"
 	"strings"
 
-	"allot/analyze"
-	"allot/analyze/report"
-	"allot/design"
-	"allot/design/workbook"
-	"allot/internal/atomicfile"
-	"allot/internal/version"
+	"github.com/allotproject/allot/analyze"
+	"github.com/allotproject/allot/design"
+	"github.com/allotproject/allot/design/workbook"
+	"github.com/allotproject/allot/internal/atomicfile"
+	"github.com/allotproject/allot/internal/version"
+	"github.com/allotproject/allot/report"
 
 	"github.com/spf13/cobra"
 )

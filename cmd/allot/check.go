@@ -7,9 +7,9 @@ import (
 	"path/filepath"
 	"strings"
 
-	"allot/analyze/report"
-	"allot/design"
-	"allot/design/workbook"
+	"github.com/allotproject/allot/design"
+	"github.com/allotproject/allot/design/workbook"
+	"github.com/allotproject/allot/report"
 
 	"github.com/spf13/cobra"
 )

@@ -3,8 +3,8 @@ package main
 import (
 	"errors"
 
-	"allot/internal/demo"
-	"allot/internal/version"
+	"github.com/allotproject/allot/internal/demo"
+	"github.com/allotproject/allot/internal/version"
 
 	"github.com/spf13/cobra"
 )

@@ -12,12 +12,12 @@ import (
 	"strings"
 	"time"
 
-	"allot/analyze/report"
-	"allot/design"
-	"allot/design/workbook"
-	"allot/internal/atomicfile"
-	"allot/internal/version"
-	"allot/randomize"
+	"github.com/allotproject/allot/design"
+	"github.com/allotproject/allot/design/workbook"
+	"github.com/allotproject/allot/internal/atomicfile"
+	"github.com/allotproject/allot/internal/version"
+	"github.com/allotproject/allot/randomize"
+	"github.com/allotproject/allot/report"
 
 	"github.com/spf13/cobra"
 )

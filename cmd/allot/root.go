@@ -5,7 +5,7 @@ import (
 	"fmt"
 	"strings"
 
-	"allot/internal/version"
+	"github.com/allotproject/allot/internal/version"
 
 	"github.com/spf13/cobra"
 )

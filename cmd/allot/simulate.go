@@ -10,12 +10,12 @@ import (
 	"strconv"
 	"strings"
 
-	"allot/analyze/report"
-	"allot/design"
-	"allot/internal/version"
-	"allot/power"
-	"allot/power/sim"
-	"allot/randomize"
+	"github.com/allotproject/allot/design"
+	"github.com/allotproject/allot/internal/version"
+	"github.com/allotproject/allot/power"
+	"github.com/allotproject/allot/power/sim"
+	"github.com/allotproject/allot/randomize"
+	"github.com/allotproject/allot/report"
 
 	"github.com/schollz/progressbar/v3"
 	"golang.org/x/term"

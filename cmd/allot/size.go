@@ -6,10 +6,10 @@ import (
 	"strconv"
 	"strings"
 
-	"allot/analyze/report"
-	"allot/internal/version"
-	"allot/power"
-	"allot/power/sim"
+	"github.com/allotproject/allot/internal/version"
+	"github.com/allotproject/allot/power"
+	"github.com/allotproject/allot/power/sim"
+	"github.com/allotproject/allot/report"
 
 	"github.com/spf13/cobra"
 	"github.com/spf13/pflag"

@@ -9,7 +9,7 @@ import (
 	"strings"
 	"testing"
 
-	"allot/power"
+	"github.com/allotproject/allot/power"
 )
 
 var update = flag.Bool("update", false, "rewrite golden files")

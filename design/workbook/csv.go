@@ -5,7 +5,7 @@ import (
 	"io"
 	"strings"
 
-	"allot/design"
+	"github.com/allotproject/allot/design"
 )
 
 // WriteCSV writes the Entry sheet's rows as CSV (RFC 4180) for labs that

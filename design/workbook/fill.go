@@ -5,8 +5,8 @@ import (
 	"io"
 	"strings"
 
-	"allot/design"
-	"allot/internal/atomicfile"
+	"github.com/allotproject/allot/design"
+	"github.com/allotproject/allot/internal/atomicfile"
 
 	"github.com/xuri/excelize/v2"
 )

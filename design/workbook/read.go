@@ -10,7 +10,7 @@ import (
 	"strconv"
 	"strings"
 
-	"allot/design"
+	"github.com/allotproject/allot/design"
 
 	"github.com/xuri/excelize/v2"
 )

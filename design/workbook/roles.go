@@ -1,7 +1,7 @@
 package workbook
 
 import (
-	"allot/design"
+	"github.com/allotproject/allot/design"
 
 	"encoding/csv"
 	"fmt"

@@ -12,8 +12,8 @@ import (
 	"testing"
 	"time"
 
-	"allot/design"
-	"allot/randomize"
+	"github.com/allotproject/allot/design"
+	"github.com/allotproject/allot/randomize"
 
 	"github.com/xuri/excelize/v2"
 )

@@ -8,8 +8,8 @@ import (
 	"strings"
 	"time"
 
-	"allot/design"
-	"allot/internal/atomicfile"
+	"github.com/allotproject/allot/design"
+	"github.com/allotproject/allot/internal/atomicfile"
 
 	"github.com/xuri/excelize/v2"
 )

@@ -17,14 +17,14 @@ import (
 	"strings"
 	"time"
 
-	"allot/analyze"
-	"allot/analyze/report"
-	"allot/design"
-	"allot/design/workbook"
-	"allot/internal/atomicfile"
-	"allot/power"
-	"allot/power/sim"
-	"allot/randomize"
+	"github.com/allotproject/allot/analyze"
+	"github.com/allotproject/allot/design"
+	"github.com/allotproject/allot/design/workbook"
+	"github.com/allotproject/allot/internal/atomicfile"
+	"github.com/allotproject/allot/power"
+	"github.com/allotproject/allot/power/sim"
+	"github.com/allotproject/allot/randomize"
+	"github.com/allotproject/allot/report"
 )
 
 // Scenario is the embedded trial.

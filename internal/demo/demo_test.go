@@ -9,7 +9,7 @@ import (
 	"testing"
 	"time"
 
-	"allot/design/workbook"
+	"github.com/allotproject/allot/design/workbook"
 )
 
 func runDemo(t *testing.T, dir string, force bool) (*Result, string, error) {

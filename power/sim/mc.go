@@ -8,10 +8,10 @@ import (
 	"strconv"
 	"sync"
 
-	"allot/analyze"
-	"allot/analyze/dist"
-	"allot/design"
-	"allot/randomize"
+	"github.com/allotproject/allot/analyze"
+	"github.com/allotproject/allot/design"
+	"github.com/allotproject/allot/prob"
+	"github.com/allotproject/allot/randomize"
 
 	"golang.org/x/exp/rand"
 	"gonum.org/v1/gonum/stat/distuv"
@@ -349,7 +349,7 @@ func (w *worker) postCrit(df int) float64 {
 	k := len(w.s.Means)
 	var c float64
 	if w.s.PostHoc == "tukey" {
-		c = dist.StudentizedRange{K: float64(k), Nu: float64(df)}.Quantile(1 - w.s.Alpha)
+		c = prob.StudentizedRange{K: float64(k), Nu: float64(df)}.Quantile(1 - w.s.Alpha)
 	} else {
 		sizes := make([]int, k)
 		for _, u := range w.s.Layout.Units {
@@ -361,7 +361,7 @@ func (w *worker) postCrit(df int) float64 {
 				lam = append(lam, math.Sqrt(float64(n)/float64(n+sizes[w.s.Control])))
 			}
 		}
-		c = dist.Dunnett{Lambda: lam, Nu: float64(df), Sides: 2}.Quantile(1 - w.s.Alpha)
+		c = prob.Dunnett{Lambda: lam, Nu: float64(df), Sides: 2}.Quantile(1 - w.s.Alpha)
 	}
 	w.qcrit[df] = c
 	return c

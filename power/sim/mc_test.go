@@ -3,13 +3,13 @@ package sim
 import (
 	"context"
 
-	"allot/analyze"
+	"github.com/allotproject/allot/analyze"
 	"math"
 	"testing"
 
-	"allot/design"
-	"allot/power"
-	"allot/randomize"
+	"github.com/allotproject/allot/design"
+	"github.com/allotproject/allot/power"
+	"github.com/allotproject/allot/randomize"
 )
 
 func layout(t testing.TB, kind design.Kind, blocks int, reps []int, factors ...design.Factor) design.Layout {

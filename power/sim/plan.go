@@ -6,8 +6,8 @@ import (
 	"math"
 	"strconv"
 
-	"allot/design"
-	"allot/randomize"
+	"github.com/allotproject/allot/design"
+	"github.com/allotproject/allot/randomize"
 )
 
 // PlanFor returns the plan of a balanced layout with n units per treatment

@@ -9,8 +9,8 @@ import (
 	"fmt"
 	"math"
 
-	"allot/design"
-	"allot/randomize"
+	"github.com/allotproject/allot/design"
+	"github.com/allotproject/allot/randomize"
 
 	"golang.org/x/exp/rand"
 )

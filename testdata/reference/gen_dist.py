@@ -1,5 +1,5 @@
 #!/usr/bin/python3
-"""Generate reference values for analyze/dist tests.
+"""Generate reference values for prob tests.
 
 Run offline with Debian's python3-scipy and python3-mpmath:
 

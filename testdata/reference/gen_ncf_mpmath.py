@@ -1,6 +1,6 @@
 #!/usr/bin/python3
 """High-precision noncentral F values where double-precision references
-disagree (denominator df 10^5), for analyze/dist tests.
+disagree (denominator df 10^5), for prob tests.
 
     /usr/bin/python3 testdata/reference/gen_ncf_mpmath.py
 

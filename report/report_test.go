@@ -13,9 +13,9 @@ import (
 	"strings"
 	"testing"
 
-	"allot/analyze"
-	"allot/design"
-	"allot/randomize"
+	"github.com/allotproject/allot/analyze"
+	"github.com/allotproject/allot/design"
+	"github.com/allotproject/allot/randomize"
 
 	"golang.org/x/net/html"
 )
@@ -33,7 +33,7 @@ func golden(t *testing.T, name, got string) {
 	}
 	want, err := os.ReadFile(path)
 	if err != nil {
-		t.Fatalf("%v (go test ./analyze/report -update writes it)", err)
+		t.Fatalf("%v (go test ./report -update writes it)", err)
 	}
 	if got != string(want) {
 		t.Errorf("%s differs:\n--- got\n%s\n--- want\n%s", path, got, want)

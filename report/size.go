@@ -6,7 +6,7 @@ import (
 	"io"
 	"strings"
 
-	"allot/power"
+	"github.com/allotproject/allot/power"
 )
 
 // Size is a planning answer with the command that produced it.

@@ -6,7 +6,7 @@ import (
 	"io"
 	"strings"
 
-	"allot/design"
+	"github.com/allotproject/allot/design"
 )
 
 // MaxMapUnits is the largest layout whose text map is printed; larger

@@ -7,8 +7,8 @@ import (
 	"path/filepath"
 	"strings"
 
-	"allot/internal/atomicfile"
-	"allot/power"
+	"github.com/allotproject/allot/internal/atomicfile"
+	"github.com/allotproject/allot/power"
 
 	"gonum.org/v1/plot"
 	"gonum.org/v1/plot/plotter"

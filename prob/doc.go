@@ -1,4 +1,4 @@
-// Package dist holds the probability distributions that power planning and
+// Package prob holds the probability distributions that power planning and
 // analysis share: the noncentral F and noncentral t distributions (Poisson
 // mixtures of regularised incomplete beta functions) and the studentized range
 // distribution (double numerical integration).
@@ -10,4 +10,4 @@
 // Each function documents its definition, domain, behaviour outside the
 // domain, the published method it follows and the accuracy measured against
 // outside references in the package tests.
-package dist
+package prob

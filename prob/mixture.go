@@ -1,4 +1,4 @@
-package dist
+package prob
 
 import "math"
 
@@ -170,5 +170,5 @@ func lgammaRatioSum(mu, c float64) float64 {
 		}
 		return mu + math.Log(math.Erf(math.Sqrt(mu))/math.Sqrt(mu))
 	}
-	panic("dist: lgammaRatioSum: unsupported c")
+	panic("prob: lgammaRatioSum: unsupported c")
 }

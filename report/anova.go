@@ -5,8 +5,8 @@ import (
 	"io"
 	"strings"
 
-	"allot/analyze"
-	"allot/design"
+	"github.com/allotproject/allot/analyze"
+	"github.com/allotproject/allot/design"
 )
 
 // Analysis is everything reported for one response.

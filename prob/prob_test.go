@@ -1,4 +1,4 @@
-package dist
+package prob
 
 import (
 	"bufio"
@@ -13,7 +13,7 @@ import (
 // that start with '#'.
 func readTSV(t *testing.T, name string) [][]string {
 	t.Helper()
-	f, err := os.Open("../../testdata/reference/" + name)
+	f, err := os.Open("../testdata/reference/" + name)
 	if err != nil {
 		t.Fatal(err)
 	}

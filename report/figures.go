@@ -11,8 +11,8 @@ import (
 	"sort"
 	"strings"
 
-	"allot/design"
-	"allot/internal/atomicfile"
+	"github.com/allotproject/allot/design"
+	"github.com/allotproject/allot/internal/atomicfile"
 
 	"gonum.org/v1/gonum/stat/distuv"
 	"gonum.org/v1/plot"

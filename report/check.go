@@ -6,7 +6,7 @@ import (
 	"io"
 	"strings"
 
-	"allot/design/workbook"
+	"github.com/allotproject/allot/design/workbook"
 )
 
 // CheckText writes the result of a read-back check: what was read, every

@@ -1,4 +1,4 @@
-package dist
+package prob
 
 import "math"
 
@@ -27,7 +27,7 @@ import "math"
 //
 // Accuracy: two-sided 5% critical values agree with Dunnett's printed tables
 // to their three decimals, p = 1 reproduces Student's t quantile to 1e-8,
-// and a Monte-Carlo check agrees within its standard error (dist tests).
+// and a Monte-Carlo check agrees within its standard error (prob tests).
 type Dunnett struct {
 	Lambda []float64
 	Nu     float64

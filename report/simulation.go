@@ -5,7 +5,7 @@ import (
 	"io"
 	"strings"
 
-	"allot/power/sim"
+	"github.com/allotproject/allot/power/sim"
 )
 
 // Simulation is a Monte-Carlo power result ready to render.

@@ -6,8 +6,8 @@ import (
 	"io"
 	"strings"
 
-	"allot/analyze"
-	"allot/design"
+	"github.com/allotproject/allot/analyze"
+	"github.com/allotproject/allot/design"
 )
 
 // HTMLReport is everything the HTML report shows.
