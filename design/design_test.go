@@ -9,7 +9,7 @@ import (
 func u64(v uint64) *uint64 { return &v }
 
 func TestResolveErrors(t *testing.T) {
-	base := Spec{Factor: []string{"feed=A,B,C"}, Seed: u64(1)}
+	base := Spec{Factor: []string{"feed=A,B,C"}, Reps: "2", Seed: u64(1)}
 	tests := []struct {
 		name  string
 		edit  func(*Spec)
@@ -23,7 +23,7 @@ func TestResolveErrors(t *testing.T) {
 		{"five factors", func(s *Spec) { s.Factor = []string{"a=1,2", "b=1,2", "c=1,2", "d=1,2", "e=1,2"} }, nil, "factor", "at most 4"},
 		{"control not a level", func(s *Spec) { s.Control = "Z" }, nil, "control", `control "Z" is not a level`},
 		{"rcbd without blocks", func(s *Spec) { s.Design = "rcbd" }, nil, "blocks", "at least 2 blocks"},
-		{"crd with blocks", func(s *Spec) { s.Blocks = 3 }, nil, "blocks", "has no blocks"},
+		{"crd with blocks", func(s *Spec) { s.Design, s.Blocks = "crd", 3 }, nil, "blocks", "has no blocks"},
 		{"bad design", func(s *Spec) { s.Design = "latin" }, nil, "design", `design "latin"`},
 		{"reps unknown treatment", func(s *Spec) { s.Reps = "Q=3,default=2" }, nil, "reps", `names "Q"`},
 		{"reps missing default", func(s *Spec) { s.Reps = "A=3" }, nil, "reps", `no count for treatment "B"`},
@@ -31,10 +31,10 @@ func TestResolveErrors(t *testing.T) {
 		{"grid too small", func(s *Spec) { s.Design, s.Blocks, s.Reps, s.Grid = "rcbd", 2, "2", "2x2" }, nil, "grid", "holds 4 places, but a block has 6 units"},
 		{"grid syntax", func(s *Spec) { s.Grid = "4by6" }, nil, "grid", "ROWSxCOLS"},
 		{"response range", func(s *Spec) { s.Response = []string{"h:10..1"} }, nil, "response", "empty"},
-		{"litter too small", func(s *Spec) { s.Design, s.BlockColumn, s.BlockName = "rcbd", "litter", "litter" },
+		{"litter too small", func(s *Spec) { s.Design, s.BlockColumn, s.BlockName, s.Reps = "rcbd", "litter", "litter", "" },
 			[]UnitRow{{ID: "a", Block: "L1"}, {ID: "b", Block: "L1"}, {ID: "c", Block: "L1"}, {ID: "d", Block: "L2"}, {ID: "e", Block: "L2"}},
 			"units", "litter L2 has 2 unit(s), fewer than the 3 treatments"},
-		{"matching remainder", func(s *Spec) { s.Design, s.MatchOn = "rcbd", "weight" },
+		{"matching remainder", func(s *Spec) { s.Design, s.MatchOn, s.Reps = "rcbd", "weight", "" },
 			[]UnitRow{{ID: "a", Covariate: f(1)}, {ID: "b", Covariate: f(2)}, {ID: "c", Covariate: f(3)}, {ID: "d", Covariate: f(4)}},
 			"units", "4 units do not divide into matched blocks of 3"},
 		{"too many units", func(s *Spec) { s.Reps = "400000" }, nil, "reps", "more than a worksheet can hold"},
@@ -75,7 +75,7 @@ func TestResolve(t *testing.T) {
 }
 
 func TestCanonicalAndFingerprint(t *testing.T) {
-	p, err := Spec{Factor: []string{"feed=A,B"}, Seed: u64(9)}.Resolve(nil)
+	p, err := Spec{Factor: []string{"feed=A,B"}, Reps: "3", Seed: u64(9)}.Resolve(nil)
 	if err != nil {
 		t.Fatal(err)
 	}

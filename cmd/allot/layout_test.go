@@ -35,11 +35,13 @@ func TestLayoutRun(t *testing.T) {
 		{"layout_rcbd", []string{"layout", "--title", "Four feeds", "--factor", "feed=F0,F1,F2,F3", "--design", "rcbd", "--blocks", "3", "--block-name", "bench", "--seed", "42"}},
 		{"layout_grid_order", []string{"layout", "--factor", "N=N0,N1", "--factor", "K=K0,K1,K2", "--design", "rcbd", "--blocks", "2", "--seed", "7", "--grid", "2x3", "--numbering", "serpentine", "--order"}},
 		{"layout_crd_unequal", []string{"layout", "--factor", "diet=chow,fat,fibre", "--control", "chow", "--reps", "chow=4,default=3", "--seed", "3"}},
-		{"layout_litter_blind", []string{"layout", "--factor", "dose=0,10,30", "--design", "rcbd", "--units", units, "--id-column", "tag", "--block-column", "litter", "--block-name", "litter", "--blind", "--key", filepath.Join(dir, "k.json"), "--seed", "7"}},
+		{"layout_litter_blind", []string{"layout", "--factor", "dose=0,10,30", "--units", units, "--id-column", "tag", "--block-column", "litter", "--block-name", "litter", "--allow-unequal", "--blind", "--key", filepath.Join(dir, "k.json"), "--seed", "7"}},
+		{"layout_litter_per_block", []string{"layout", "--factor", "dose=0,10,30", "--units", units, "--id-column", "tag", "--block-column", "litter", "--block-name", "litter", "--per-block", "3", "--blind", "unit", "--key", filepath.Join(dir, "k2.json"), "--seed", "7"}},
+		{"layout_grid_spread", []string{"layout", "--factor", "feed=F0,F1,F2,F3", "--blocks", "2", "--seed", "5", "--grid", "2x3"}},
 	}
 	for _, tt := range tests {
 		t.Run(tt.name, func(t *testing.T) {
-			code, out, errs := runArgs(t, tt.args...)
+			code, out, errs := runLayoutSecret(t, testSecret, tt.args[1:]...)
 			if code != 0 {
 				t.Fatalf("exit %d: %s", code, errs)
 			}
@@ -117,8 +119,24 @@ func TestLayoutBadInput(t *testing.T) {
 	}
 }
 
+// testSecret replaces the blinding secret in tests whose output is compared
+// with a golden file; real runs draw it from crypto/rand.
+var testSecret = bytes.Repeat([]byte{0x5a}, 32)
+
+// runLayoutSecret runs allot layout args with a fixed blinding secret.
+func runLayoutSecret(t *testing.T, secret []byte, args ...string) (int, string, string) {
+	t.Helper()
+	var out, errw bytes.Buffer
+	s := &streams{In: strings.NewReader(""), Out: &out, Err: &errw}
+	cmd := newLayoutCmd(s, func(o *layoutOptions) error { o.secret = secret; return layoutRun(s, o) })
+	cmd.SilenceErrors, cmd.SilenceUsage = true, true
+	cmd.SetArgs(args)
+	c, err := cmd.ExecuteC()
+	return exitCode(s, c, err), out.String(), errw.String()
+}
+
 func TestLayoutDrawsSeed(t *testing.T) {
-	code, out, errs := runArgs(t, "layout", "--factor", "feed=A,B")
+	code, out, errs := runArgs(t, "layout", "--factor", "feed=A,B", "--reps", "3")
 	if code != 0 || !strings.Contains(errs, "no --seed given; drew seed") || !strings.Contains(out, "seed ") {
 		t.Errorf("exit %d, %q", code, errs)
 	}
