@@ -39,12 +39,12 @@ type Spec struct {
 	Response  []string `toml:"response"` // NAME or NAME:MIN..MAX
 	Seed      *uint64  `toml:"seed"`
 	// Unit list: a CSV file with a header row.
-	Units       string `toml:"units"`
-	IDColumn    string `toml:"id_column"`
-	BlockColumn string `toml:"block_column"`
-	MatchOn     string `toml:"match_on"`
-	Grid        string `toml:"grid"` // ROWSxCOLS
-	Numbering   string `toml:"numbering"`
+	Units       string      `toml:"units"`
+	IDColumn    string      `toml:"id_column"`
+	BlockColumn string      `toml:"block_column"`
+	MatchOn     string      `toml:"match_on"`
+	Grid        string      `toml:"grid"` // ROWSxCOLS
+	Numbering   string      `toml:"numbering"`
 	Blind       BlindChoice `toml:"blind"` // "", "treatment" or "unit" (true means "treatment")
 	Order       bool        `toml:"order"`
 	Subsamples  int         `toml:"subsamples"`
