@@ -129,7 +129,7 @@ file (keys are these flag names, with _ for -); flags override it.` + "\n" + exi
 	f.StringVar(&o.spec.MatchOn, "match-on", "", "unit-list `COLUMN` to sort on and cut into matched blocks (weight)")
 	f.StringVar(&o.spec.Grid, "grid", "", "place each block on a grid of `ROWSxCOLS`")
 	f.StringVar(&o.spec.Numbering, "numbering", "", "grid numbering: `rows` or serpentine")
-	f.Var(&o.spec.Blind, "blind", "show codes instead of treatment names, one per `treatment` (the default) or one per unit; write the key to --key")
+	f.Var(&o.spec.Blind, "blind", "show codes instead of treatment names: `MODE` treatment (one code per treatment, the default) or unit (one per unit); write the key to --key")
 	f.Lookup("blind").NoOptDefVal = design.BlindTreatment
 	f.IntVar(&o.spec.PerBlock, "per-block", 0, "take `K` units of each block of the unit list at random; mark the rest spare")
 	f.BoolVar(&o.spec.AllowUnequal, "allow-unequal", false, "use every unit of a unit list whose blocks differ in size")
