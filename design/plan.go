@@ -556,11 +556,14 @@ func CheckText(field, what, s string, max int) error {
 	}
 	for _, r := range s {
 		if unicode.IsControl(r) {
-			return errf(field, "%s contains a control character (%U, such as a newline, tab or NUL); use plain text on one line", strconv.QuoteToASCII(s), r)
+			return errf(field, "%s contains a control character (%U, such as a newline, tab or NUL); use plain text on one line", what, r)
 		}
 	}
 	if n := utf8.RuneCountInString(s); n > max {
-		return errf(field, "%.40s… is %d characters long: at most %d are allowed", s, n, max)
+		if len(what) > 80 {
+			what = string([]rune(what)[:60]) + "…"
+		}
+		return errf(field, "%s is %d characters long: at most %d are allowed", what, n, max)
 	}
 	return nil
 }

@@ -389,3 +389,24 @@ func macOf(k design.Key) string {
 	m.Write(b)
 	return hex.EncodeToString(m.Sum(nil))
 }
+
+// BenchmarkAssignUnitList lays out a unit list of litters (5 treatments,
+// litters of 5), with and without per-unit blind codes.
+func BenchmarkAssignUnitList(b *testing.B) {
+	for _, mode := range []string{"", design.BlindUnit} {
+		b.Run(fmt.Sprintf("units=100000/blind=%s", mode), func(b *testing.B) {
+			p := plan(design.RCBD, 20000, []int{1, 1, 1, 1, 1}, design.Factor{Name: "dose", Levels: []string{"a", "b", "c", "d", "e"}})
+			for i := 0; i < 100000; i++ {
+				p.Units = append(p.Units, design.UnitSpec{ID: fmt.Sprintf("A%d", i), Block: i/5 + 1, BlockLabel: fmt.Sprintf("L%d", i/5+1)})
+			}
+			p.Blind, p.BlindMode = mode != "", mode
+			secret := bytes.Repeat([]byte{7}, 32)
+			b.ReportAllocs()
+			for i := 0; i < b.N; i++ {
+				if _, err := AssignSecret(p, secret); err != nil {
+					b.Fatal(err)
+				}
+			}
+		})
+	}
+}

@@ -37,12 +37,40 @@
 //  5. Measurement order (Plan.Order). Block b's order comes from stream
 //     2^32 + b: the list 1..s is shuffled by step 3 and entry k is the rank
 //     in which the unit at position k+1 is measured.
-//  6. Blind codes (Plan.Blind). From stream 2^33, each treatment in plan
-//     order gets three characters drawn uniformly (step 2) from the
-//     alphabet "ACDEFHJKMNPRTUVWXY3479", which leaves out characters that
-//     are easily misread for each other (0/O/D… are reduced to one; 1, I,
-//     L; 2, Z; 5, S; 6, G; 8, B); a code equal to an earlier one is
-//     drawn again.
+//  6. Blind codes (Plan.Blind). Plans with a BlindMode draw them from a
+//     keyed stream: 64-bit words, read little-endian, of the successive
+//     HMAC-SHA256 (RFC 2104) values under the plan's secret (32 bytes from
+//     crypto/rand, kept only in the key file) of the ASCII text
+//     "allot-codes-v2" followed by the seed and a counter 0, 1, 2, … as
+//     8-byte little-endian integers, each value giving 4 words. Each code
+//     is L characters drawn uniformly (step 2) from the alphabet
+//     "ACDEFHJKMNPRTUVWXY3479", which leaves out characters that are easily
+//     misread for each other (0/O/D… are reduced to one; 1, I, L; 2, Z; 5,
+//     S; 6, G; 8, B); a code equal to an earlier one is drawn again. With n
+//     codes, L is the least length of at least 3 with 22^L ≥ 100·n (3 up to
+//     106 codes). BlindMode "treatment" gives n = the number of treatments,
+//     one code per treatment in plan order; "unit" gives one code per unit,
+//     in layout order (block, then position), so that units sharing a code
+//     no longer reveal that they share a treatment. The allocation (steps
+//     1–5, 7, 8) does not depend on the secret: the same seed gives the same
+//     allocation and, with a new secret, new codes. The seed of a blind plan
+//     is kept with the key as well, since the allocation follows from it.
+//     Plans without a BlindMode (written by earlier versions) took L = 3
+//     codes, one per treatment, from stream 2^33 instead of the keyed
+//     stream; Codes reproduces them.
+//  7. Spares (Plan.PerBlock = K, a unit list in blocks). A block with s > K
+//     units shuffles the list 0..s−1 by step 3 with stream 2^34 + b; the
+//     units at the first K entries are laid out, in list order (position
+//     k+1 is the k-th of them), and the others are spare: no treatment, no
+//     row. The choice depends on the seed alone, is made before and
+//     independently of the allocation, and every K-subset is equally
+//     likely. Steps 3 and 4 then treat the block as one of K units.
+//  8. Grids with more places than units (Grid.Placement "random"). A block
+//     of s units on a grid of P > s places shuffles the places 1..P by step
+//     3 with stream 2^35 + b and takes the first s, in ascending order:
+//     position k+1 goes to the k-th smallest of them, which the numbering
+//     (rows or serpentine) turns into a row and column. Every s-subset of
+//     places is equally likely. Without Placement, position k is place k.
 //
 // Rejected alternatives: one stream for all blocks would make each block's
 // layout depend on the sizes of the blocks before it, so a plan with one

@@ -91,8 +91,11 @@ file (keys are these flag names, with _ for -); flags override it.` + "\n" + exi
   allot layout verify trial.xlsx`,
 		Args: func(c *cobra.Command, args []string) error {
 			// "--blind unit": the flag's optional value parsed as an argument.
-			if len(args) == 1 && c.Flags().Changed("blind") && (args[0] == design.BlindUnit || args[0] == design.BlindTreatment) {
-				return nil
+			if len(args) == 1 && c.Flags().Changed("blind") {
+				if args[0] == design.BlindUnit || args[0] == design.BlindTreatment {
+					return nil
+				}
+				return usagef("--blind %s: give --blind treatment (one code per treatment, the default) or --blind unit (one code per unit)", args[0])
 			}
 			if len(args) > 0 {
 				return usagef("layout takes no arguments, got %q (did you mean allot layout verify?)", strings.Join(args, " "))
