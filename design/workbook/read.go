@@ -414,6 +414,8 @@ func checkRows(path, sheet string, rows [][]string, isText func(ref string) bool
 			if _, ok := seenRow[u.ID]; ok && out.Values[k][i].Missing {
 				name := ""
 				switch {
+				case labels != nil && p.BlindMode == design.BlindUnit:
+					name = "" // one code per unit: counted together
 				case labels != nil:
 					name = labels[i]
 				default:
@@ -434,6 +436,10 @@ func checkRows(path, sheet string, rows [][]string, isText func(ref string) bool
 			}
 		}
 		for _, name := range order {
+			if name == "" {
+				add(Warning, "", "", fmt.Sprintf("%s: %d unit(s) have no value (missing)", resp.Name, missing[name]))
+				continue
+			}
 			add(Warning, "", "", fmt.Sprintf("%s: %d unit(s) of %s %q have no value (missing)", resp.Name, missing[name], strings.ToLower(treatmentWord(p)), name))
 		}
 	}
