@@ -1,7 +1,10 @@
 package design
 
 import (
+	"encoding/json"
 	"errors"
+	"fmt"
+	"strconv"
 	"strings"
 	"testing"
 )
@@ -276,5 +279,86 @@ func TestUnitListCRDSharesEqually(t *testing.T) {
 	_, err = Spec{Factor: []string{"diet=x,y,z,w"}, Seed: u64(1)}.Resolve(rows)
 	if err == nil || !strings.Contains(err.Error(), "6 units do not divide equally among 4 treatments") {
 		t.Errorf("got %v", err)
+	}
+}
+
+// TestAbsurdPlansRefused: plan JSON that would build an absurd design is
+// refused by its limit, before anything is allocated.
+func TestAbsurdPlansRefused(t *testing.T) {
+	levels := func(n int) []string {
+		out := make([]string, n)
+		for i := range out {
+			out[i] = strings.Repeat("l", 1) + strconv.Itoa(i)
+		}
+		return out
+	}
+	fs := []Factor{{Name: "a", Levels: levels(100)}, {Name: "b", Levels: levels(100)}, {Name: "c", Levels: levels(100)}, {Name: "d", Levels: levels(100)}}
+	tests := []struct {
+		name  string
+		plan  Plan
+		field string
+	}{
+		{"4 factors of 100 levels", Plan{Design: RCBD, Factors: fs, Blocks: 2, BlockName: "b"}, "factor"},
+		{"10^5 blind treatments", Plan{Design: CRD, Factors: []Factor{{Name: "a", Levels: levels(1000)}, {Name: "b", Levels: levels(100)}}, Blocks: 1, BlockName: "b", Blind: true, BlindMode: BlindUnit}, "factor"},
+		{"10^12 blocks", Plan{Design: RCBD, Factors: fs[:1], Reps: ones(100), Blocks: 1e12, BlockName: "b"}, "blocks"},
+		{"huge grid", Plan{Design: CRD, Factors: fs[:1], Reps: ones(100), Blocks: 1, BlockName: "b", Grid: &Grid{Rows: 1e9, Cols: 1e9, Numbering: RowWise}}, "grid"},
+		{"huge reps", Plan{Design: CRD, Factors: fs[:1], Reps: append(ones(99), 1e15), Blocks: 1, BlockName: "b"}, "reps"},
+	}
+	for _, tt := range tests {
+		t.Run(tt.name, func(t *testing.T) {
+			b, _ := json.Marshal(tt.plan)
+			_, err := ParsePlan(b)
+			var e *Error
+			if !errors.As(err, &e) || e.Field != tt.field {
+				t.Errorf("got %v, want a %s error", err, tt.field)
+			}
+		})
+	}
+}
+
+func ones(n int) []int {
+	out := make([]int, n)
+	for i := range out {
+		out[i] = 1
+	}
+	return out
+}
+
+func TestUnequalBlocksAndNaming(t *testing.T) {
+	rows := func(sizes ...int) []UnitRow {
+		var out []UnitRow
+		for b, n := range sizes {
+			for i := 0; i < n; i++ {
+				out = append(out, UnitRow{ID: fmt.Sprintf("%d-%d", b, i), Block: fmt.Sprintf("L%d", b+1)})
+			}
+		}
+		return out
+	}
+	base := Spec{Factor: []string{"dose=0,1,2,3,4"}, BlockColumn: "litter", BlockName: "litter", Seed: u64(1)}
+	if _, err := base.Resolve(rows(5, 8, 6, 7)); err == nil || !strings.Contains(err.Error(), "--per-block 5") {
+		t.Errorf("litters of 5-8 for 5 treatments: %v", err)
+	}
+	cases := []struct {
+		edit  func(*Spec)
+		sizes []int
+		name  string
+		n     int
+	}{
+		{func(s *Spec) { s.PerBlock = 5 }, []int{5, 8, 6, 7}, "randomised complete block design", 20},
+		{func(s *Spec) { s.PerBlock = 10 }, []int{10, 12, 11}, "generalised randomised block design", 30},
+		{func(s *Spec) { s.AllowUnequal = true }, []int{5, 8, 6, 7}, "randomised block design with unequal blocks", 26},
+		{func(s *Spec) {}, []int{10, 10}, "generalised randomised block design", 20},
+		{func(s *Spec) {}, []int{5, 5, 5}, "randomised complete block design", 15},
+	}
+	for _, c := range cases {
+		s := base
+		c.edit(&s)
+		p, err := s.Resolve(rows(c.sizes...))
+		if err != nil {
+			t.Fatalf("%v: %v", c.sizes, err)
+		}
+		if p.DesignName() != c.name || p.NumUnits() != c.n {
+			t.Errorf("%v: %q with %d units, want %q with %d", c.sizes, p.DesignName(), p.NumUnits(), c.name, c.n)
+		}
 	}
 }

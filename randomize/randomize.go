@@ -581,20 +581,26 @@ func Verify(l design.Layout) ([]Difference, error) {
 			diffs = append(diffs, Difference{Unit: u.ID, Recorded: rd, Derived: what})
 		}
 	}
+	return append(diffs, spareDiffs(l.Spares, d.Spares)...), nil
+}
+
+// spareDiffs compares recorded and derived spare units.
+func spareDiffs(recorded, derived []design.Spare) []Difference {
+	var diffs []Difference
 	spare := map[string]bool{}
-	for _, s := range l.Spares {
+	for _, s := range recorded {
 		spare[s.ID] = true
 	}
-	for _, s := range d.Spares {
+	for _, s := range derived {
 		if !spare[s.ID] {
 			diffs = append(diffs, Difference{Unit: s.ID, Recorded: "not marked spare", Derived: fmt.Sprintf("spare of block %d", s.Block)})
 		}
 		delete(spare, s.ID)
 	}
-	for _, s := range l.Spares {
+	for _, s := range recorded {
 		if spare[s.ID] {
 			diffs = append(diffs, Difference{Unit: s.ID, Recorded: "marked spare", Derived: "laid out, or not in the plan"})
 		}
 	}
-	return diffs, nil
+	return diffs
 }
