@@ -12,6 +12,7 @@ import (
 	"testing"
 
 	"github.com/allotproject/allot/design"
+	"github.com/allotproject/allot/design/workbook"
 )
 
 // blindNames are treatment names that appear nowhere else in any output.
@@ -290,5 +291,54 @@ func TestOutputsCheckedFirst(t *testing.T) {
 	code, _, errs = runArgs(t, "layout", "--factor", "feed=A,B", "--blocks", "2", "-o", filepath.Join(dir, "no", "such", "w.csv"))
 	if code != exitUsage || !strings.Contains(errs, "does not exist") {
 		t.Errorf("missing folder: exit %d %s", code, errs)
+	}
+}
+
+// TestBlindCSVAndJSON: a blind CSV and its layout JSON from one run (-o
+// and --json) check together with the key; verify and unblind take the
+// JSON too.
+func TestBlindCSVAndJSON(t *testing.T) {
+	dir := t.TempDir()
+	key, csvPath, jsPath := filepath.Join(dir, "k.json"), filepath.Join(dir, "t.csv"), filepath.Join(dir, "t.json")
+	code, js, errs := runArgs(t, "layout", "--factor", "feed=F0,F1,F2", "--blocks", "3", "--blind", "unit", "--key", key, "--response", "h", "-o", csvPath, "--json")
+	if code != 0 {
+		t.Fatal(errs)
+	}
+	os.WriteFile(jsPath, []byte(js), 0o644)
+	if code, out, errs := runArgs(t, "check", csvPath, "--plan", jsPath, "--key", key); code != 0 || !strings.Contains(out, "9 units") {
+		t.Errorf("check: exit %d %s %s", code, out, errs)
+	}
+	if code, out, errs := runArgs(t, "layout", "verify", jsPath, "--key", key); code != 0 || !strings.Contains(out, "matches") {
+		t.Errorf("verify: exit %d %s %s", code, out, errs)
+	}
+	if code, out, errs := runArgs(t, "unblind", jsPath, "--key", key); code != 0 || !strings.Contains(out, "Each unit's code and treatment") {
+		t.Errorf("unblind: exit %d %s %s", code, out, errs)
+	}
+	if code, _, errs := runArgs(t, "layout", "verify", jsPath); code != exitUsage || !strings.Contains(errs, "give its key") {
+		t.Errorf("verify without key: exit %d %s", code, errs)
+	}
+}
+
+// TestBlindAnalyze: a filled blind workbook is analysed with its key (the
+// treatments appear in the analysis) and refused without it.
+func TestBlindAnalyze(t *testing.T) {
+	dir := t.TempDir()
+	key, wb, filledWB := filepath.Join(dir, "k.json"), filepath.Join(dir, "t.xlsx"), filepath.Join(dir, "filled.xlsx")
+	if code, _, errs := runArgs(t, "layout", "--factor", "feed=zetaA,zetaB,zetaC", "--blocks", "4", "--blind", "unit", "--key", key, "--response", "h", "-o", wb); code != 0 {
+		t.Fatal(errs)
+	}
+	vals := make([]float64, 12)
+	for i := range vals {
+		vals[i] = float64(10 + i%5)
+	}
+	if err := workbook.Fill(wb, filledWB, [][]float64{vals}, "", false); err != nil {
+		t.Fatal(err)
+	}
+	code, out, errs := runArgs(t, "analyze", filledWB, "--key", key, "--posthoc", "none")
+	if code != 0 || !strings.Contains(out, "feed") || !strings.Contains(out, "source of variation") {
+		t.Errorf("analyze with key: exit %d\n%s%s", code, out, errs)
+	}
+	if code, _, errs := runArgs(t, "analyze", filledWB); code != exitUsage || !strings.Contains(errs, "blind") {
+		t.Errorf("analyze without key: exit %d %s", code, errs)
 	}
 }

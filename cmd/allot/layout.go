@@ -83,9 +83,14 @@ file (keys are these flag names, with _ for -); flags override it.` + "\n" + exi
   allot layout --factor feed=F0,F1,F2,F3 --design rcbd --blocks 5 --block-name bench \
     --response height_cm:0..200 --seed 42 -o trial.xlsx
 
-  # Animals blocked by litter from a list, blinded scoring, random measuring order
-  allot layout --factor dose=0,10,30 --design rcbd --units mice.csv --id-column tag \
-    --block-column litter --blind --key trial-key.json --order --seed 7 -o mice.xlsx
+  # Animals blocked by litter from a list, 3 per litter (the rest spare),
+  # blinded scoring with one code per animal, random measuring order
+  allot layout --factor dose=0,10,30 --units mice.csv --id-column tag \
+    --block-column litter --per-block 3 --expect-n 24 --blind unit \
+    --key trial-key.json --order -o mice.xlsx
+
+  # Reveal the codes after scoring, with a record of when and which key
+  allot unblind mice-filled.xlsx --key trial-key.json
 
   # Re-derive a layout from its workbook
   allot layout verify trial.xlsx`,
