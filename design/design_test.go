@@ -362,3 +362,33 @@ func TestUnequalBlocksAndNaming(t *testing.T) {
 		}
 	}
 }
+
+// FuzzParseKey: a key file never panics the parser, and whatever it
+// accepts marshals and parses again to the same key.
+func FuzzParseKey(f *testing.F) {
+	f.Add([]byte(`{"format":"allot-key-1","plan_fingerprint":"ab","seed":1,"treatments":["a"],"codes":["X"]}`))
+	f.Add([]byte(`{"format":"allot-key-2","plan_fingerprint":"ab","seed":1,"blind_mode":"unit","secret":"00112233445566778899aabbccddeeff","treatments":["a"],"mac":"00"}`))
+	f.Fuzz(func(t *testing.T, b []byte) {
+		k, err := ParseKey(b)
+		if err != nil {
+			return
+		}
+		again, _ := json.Marshal(k)
+		k2, err := ParseKey(again)
+		if err != nil || k2.Digest() != k.Digest() {
+			t.Fatalf("accepted key does not round-trip: %v", err)
+		}
+	})
+}
+
+// FuzzDecodeLayout: a layout file never panics the decoder or Check.
+func FuzzDecodeLayout(f *testing.F) {
+	p, _ := Spec{Factor: []string{"feed=A,B"}, Reps: "2", Seed: u64(1)}.Resolve(nil)
+	doc, _ := json.Marshal(LayoutDoc{Format: LayoutFormat, Fingerprint: p.Fingerprint(), Layout: Layout{Plan: p, Units: []Unit{{ID: "1", Block: 1, Position: 1}}}})
+	f.Add(doc)
+	f.Fuzz(func(t *testing.T, b []byte) {
+		if l, err := DecodeLayout(b); err == nil {
+			_ = l.Check()
+		}
+	})
+}
