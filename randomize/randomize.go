@@ -75,7 +75,13 @@
 // Rejected alternatives: one stream for all blocks would make each block's
 // layout depend on the sizes of the blocks before it, so a plan with one
 // more block would reshuffle all later ones; math/rand's Intn is not
-// guaranteed stable across Go releases.
+// guaranteed stable across Go releases. Blind codes drawn from the seed
+// (as before BlindMode) can be recovered by anyone who searches small or
+// printed seeds; a PCG stream seeded from a hash of the secret would pass
+// the 256-bit secret through a 64-bit seed; HMAC-SHA256 keeps the whole
+// secret, is a published standard (RFC 2104, FIPS 198-1) and is in every
+// language's standard library, so the keyed stream stays re-implementable
+// from this description (testdata/reference/allot_pcg_v1.py does).
 package randomize
 
 import (
