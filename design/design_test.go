@@ -392,3 +392,14 @@ func FuzzDecodeLayout(f *testing.F) {
 		}
 	})
 }
+
+func TestDesignNameEqualBlocksWithRemainder(t *testing.T) {
+	var rows []UnitRow
+	for i := 0; i < 16; i++ {
+		rows = append(rows, UnitRow{ID: strconv.Itoa(i), Block: strconv.Itoa(i / 8)})
+	}
+	p, err := Spec{Factor: []string{"dose=5"}, BlockColumn: "litter", PerBlock: 7, Seed: u64(1)}.Resolve(rows)
+	if err != nil || p.DesignName() != "randomised block design with unequal replication within blocks" {
+		t.Errorf("%v %q", err, p.DesignName())
+	}
+}

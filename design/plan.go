@@ -692,8 +692,10 @@ func (p Plan) Generalised() bool {
 // DesignName names the design in words: "completely randomised design",
 // "randomised complete block design" (each treatment once in every block),
 // "generalised randomised block design" (each treatment equally often, at
-// least twice, in every block), or "randomised block design with unequal
-// blocks" (every treatment in every block, some more often than others).
+// least twice, in every block), "randomised block design with unequal
+// blocks" (blocks of a unit list that differ in size), or "randomised block
+// design with unequal replication" (every treatment in every block, some
+// more often than others).
 func (p Plan) DesignName() string {
 	if p.Design != RCBD {
 		return "completely randomised design"
@@ -715,10 +717,14 @@ func (p Plan) DesignName() string {
 			return "incomplete block design"
 		}
 	}
-	for _, s := range p.BlockSizes() {
-		if s != nt {
+	sizes := p.BlockSizes()
+	for _, s := range sizes {
+		if s != sizes[0] {
 			return "randomised block design with unequal blocks"
 		}
+	}
+	if sizes[0] != nt {
+		return "randomised block design with unequal replication within blocks"
 	}
 	return "randomised complete block design"
 }
