@@ -251,7 +251,7 @@ func writeStudy(f *excelize.File, l design.Layout, meta Meta) error {
 		"Leave a cell empty when a unit could not be measured, and say why in Notes.",
 		"Type numbers only (no units, no \"n/a\"); use a decimal point.",
 		"You may sort or filter the rows: allot matches rows by unit ID.",
-		"Do not change the Unit, " + blockOrNot(p) + "Position or " + treatmentWord(p) + " cells.",
+		"Do not change the Unit, " + blockOrNot(p) + "Position, " + gridOrNot(p) + "or " + treatmentWord(p) + " cells.",
 		"Run `allot check` on the filled file before analysing it.",
 	} {
 		r++
@@ -289,6 +289,13 @@ func seedText(p design.Plan) string {
 		return "kept with the unblinding key (blind study)"
 	}
 	return strconv.FormatUint(p.Seed, 10)
+}
+
+func gridOrNot(p design.Plan) string {
+	if p.Grid != nil {
+		return headRow + ", " + headColumn + " "
+	}
+	return ""
 }
 
 func blockOrNot(p design.Plan) string {
