@@ -184,6 +184,21 @@ func TestBlindRoundTrip(t *testing.T) {
 	if code != 0 || !strings.Contains(vout, "matches") {
 		t.Errorf("verify: %d %s %s", code, vout, errs)
 	}
+	// A blind workbook with an edited code cell: verify names the cell even
+	// without the key.
+	edited := filepath.Join(dir, "edited.xlsx")
+	rewriteZip(t, wb, edited, "xl/worksheets/sheet2.xml", func(s string) string {
+		re := regexp.MustCompile(`(<c r="D2" t="inlineStr"><is><t>)([^<]+)(</t>)`)
+		if re.FindStringSubmatch(s) == nil {
+			t.Fatal("no code cell D2")
+		}
+		return re.ReplaceAllString(s, "${1}ZZZ${3}")
+	})
+	for _, args := range [][]string{{"layout", "verify", edited}, {"layout", "verify", edited, "--key", key}} {
+		if code, out, _ := runArgs(t, args...); code != exitFailed || !strings.Contains(out, `sheet "Entry" cell D2`) {
+			t.Errorf("%v: exit %d, %s", args, code, out)
+		}
+	}
 	code, uout, errs := runArgs(t, "unblind", wb, "--key", key, "-o", filepath.Join(dir, "unblinding.json"))
 	if code != 0 || !strings.Contains(uout, "when ") || !strings.Contains(uout, "key       "+key) || !strings.Contains(uout, "SHA-256") {
 		t.Errorf("unblind: %d %s %s", code, uout, errs)

@@ -481,7 +481,11 @@ func verifyRun(s *streams, o *verifyOptions) error {
 			return inputErr(err)
 		}
 		if fl.Sealed {
-			return inputErr(fmt.Errorf("%s: the workbook is blind: give its key file with --key to re-derive it", o.file))
+			if d := fl.DesignProblems(); len(d) > 0 {
+				printVisible(s, o.file, d)
+				return &failedError{err: fmt.Errorf("%s: visible design cells were edited (give --key to re-derive the allocation as well)", o.file)}
+			}
+			return inputErr(fmt.Errorf("%s: the workbook is blind: its visible design cells agree with the recorded layout; give its key file with --key to re-derive the allocation", o.file))
 		}
 		lay, visible = fl.Layout, fl.DesignProblems()
 	case ".json":
@@ -527,11 +531,16 @@ func verifyRun(s *streams, o *verifyOptions) error {
 			fmt.Fprintf(s.Out, "  unit %s: recorded %s; derived %s\n", d.Unit, d.Recorded, d.Derived)
 		}
 	}
-	if len(visible) > 0 {
-		fmt.Fprintf(s.Out, "%s: %d visible design cell(s) or row(s) differ from the recorded layout:\n", o.file, len(visible))
-		for _, p := range visible {
-			fmt.Fprintf(s.Out, "  %s\n", p)
-		}
-	}
+	printVisible(s, o.file, visible)
 	return &failedError{err: fmt.Errorf("%s: the layout does not match its plan and seed", o.file)}
+}
+
+func printVisible(s *streams, file string, visible []workbook.Problem) {
+	if len(visible) == 0 {
+		return
+	}
+	fmt.Fprintf(s.Out, "%s: %d visible design cell(s) or row(s) differ from the recorded layout:\n", file, len(visible))
+	for _, p := range visible {
+		fmt.Fprintf(s.Out, "  %s\n", p)
+	}
 }
