@@ -430,8 +430,12 @@ func newVerifyCmd(s *streams, runF func(*verifyOptions) error) *cobra.Command {
 		Short: "Re-derive a layout from its recorded plan and seed",
 		Long: `Read the plan, seed and assignment recorded in FILE (a workbook written by
 allot layout -o, or its .json layout), run the randomisation again and report
-"matches", or every unit whose recorded assignment differs. A blind workbook
-needs its --key. Exit status 1 when the layout differs.` + "\n" + exitHelp,
+"matches", or every unit whose recorded assignment differs (moved, missing,
+listed twice, spare) and, for a workbook, every visible design cell (unit,
+block, position, row, column, treatment or code) edited since it was
+written, by sheet and cell. A blind layout needs its --key to re-derive the
+allocation; without it only the visible cells of a workbook are checked.
+Exit status 1 when the layout differs.` + "\n" + exitHelp,
 		Example: `  allot layout verify trial.xlsx
   allot layout verify mice.xlsx --key trial-key.json`,
 		Args: func(c *cobra.Command, args []string) error {
