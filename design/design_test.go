@@ -1,7 +1,10 @@
 package design
 
 import (
+	"encoding/json"
 	"errors"
+	"fmt"
+	"strconv"
 	"strings"
 	"testing"
 )
@@ -9,7 +12,7 @@ import (
 func u64(v uint64) *uint64 { return &v }
 
 func TestResolveErrors(t *testing.T) {
-	base := Spec{Factor: []string{"feed=A,B,C"}, Seed: u64(1)}
+	base := Spec{Factor: []string{"feed=A,B,C"}, Reps: "2", Seed: u64(1)}
 	tests := []struct {
 		name  string
 		edit  func(*Spec)
@@ -23,7 +26,7 @@ func TestResolveErrors(t *testing.T) {
 		{"five factors", func(s *Spec) { s.Factor = []string{"a=1,2", "b=1,2", "c=1,2", "d=1,2", "e=1,2"} }, nil, "factor", "at most 4"},
 		{"control not a level", func(s *Spec) { s.Control = "Z" }, nil, "control", `control "Z" is not a level`},
 		{"rcbd without blocks", func(s *Spec) { s.Design = "rcbd" }, nil, "blocks", "at least 2 blocks"},
-		{"crd with blocks", func(s *Spec) { s.Blocks = 3 }, nil, "blocks", "has no blocks"},
+		{"crd with blocks", func(s *Spec) { s.Design, s.Blocks = "crd", 3 }, nil, "blocks", "has no blocks"},
 		{"bad design", func(s *Spec) { s.Design = "latin" }, nil, "design", `design "latin"`},
 		{"reps unknown treatment", func(s *Spec) { s.Reps = "Q=3,default=2" }, nil, "reps", `names "Q"`},
 		{"reps missing default", func(s *Spec) { s.Reps = "A=3" }, nil, "reps", `no count for treatment "B"`},
@@ -31,10 +34,10 @@ func TestResolveErrors(t *testing.T) {
 		{"grid too small", func(s *Spec) { s.Design, s.Blocks, s.Reps, s.Grid = "rcbd", 2, "2", "2x2" }, nil, "grid", "holds 4 places, but a block has 6 units"},
 		{"grid syntax", func(s *Spec) { s.Grid = "4by6" }, nil, "grid", "ROWSxCOLS"},
 		{"response range", func(s *Spec) { s.Response = []string{"h:10..1"} }, nil, "response", "empty"},
-		{"litter too small", func(s *Spec) { s.Design, s.BlockColumn, s.BlockName = "rcbd", "litter", "litter" },
+		{"litter too small", func(s *Spec) { s.Design, s.BlockColumn, s.BlockName, s.Reps = "rcbd", "litter", "litter", "" },
 			[]UnitRow{{ID: "a", Block: "L1"}, {ID: "b", Block: "L1"}, {ID: "c", Block: "L1"}, {ID: "d", Block: "L2"}, {ID: "e", Block: "L2"}},
 			"units", "litter L2 has 2 unit(s), fewer than the 3 treatments"},
-		{"matching remainder", func(s *Spec) { s.Design, s.MatchOn = "rcbd", "weight" },
+		{"matching remainder", func(s *Spec) { s.Design, s.MatchOn, s.Reps = "rcbd", "weight", "" },
 			[]UnitRow{{ID: "a", Covariate: f(1)}, {ID: "b", Covariate: f(2)}, {ID: "c", Covariate: f(3)}, {ID: "d", Covariate: f(4)}},
 			"units", "4 units do not divide into matched blocks of 3"},
 		{"too many units", func(s *Spec) { s.Reps = "400000" }, nil, "reps", "more than a worksheet can hold"},
@@ -75,7 +78,7 @@ func TestResolve(t *testing.T) {
 }
 
 func TestCanonicalAndFingerprint(t *testing.T) {
-	p, err := Spec{Factor: []string{"feed=A,B"}, Seed: u64(9)}.Resolve(nil)
+	p, err := Spec{Factor: []string{"feed=A,B"}, Reps: "3", Seed: u64(9)}.Resolve(nil)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -276,5 +279,127 @@ func TestUnitListCRDSharesEqually(t *testing.T) {
 	_, err = Spec{Factor: []string{"diet=x,y,z,w"}, Seed: u64(1)}.Resolve(rows)
 	if err == nil || !strings.Contains(err.Error(), "6 units do not divide equally among 4 treatments") {
 		t.Errorf("got %v", err)
+	}
+}
+
+// TestAbsurdPlansRefused: plan JSON that would build an absurd design is
+// refused by its limit, before anything is allocated.
+func TestAbsurdPlansRefused(t *testing.T) {
+	levels := func(n int) []string {
+		out := make([]string, n)
+		for i := range out {
+			out[i] = strings.Repeat("l", 1) + strconv.Itoa(i)
+		}
+		return out
+	}
+	fs := []Factor{{Name: "a", Levels: levels(100)}, {Name: "b", Levels: levels(100)}, {Name: "c", Levels: levels(100)}, {Name: "d", Levels: levels(100)}}
+	tests := []struct {
+		name  string
+		plan  Plan
+		field string
+	}{
+		{"4 factors of 100 levels", Plan{Design: RCBD, Factors: fs, Blocks: 2, BlockName: "b"}, "factor"},
+		{"10^5 blind treatments", Plan{Design: CRD, Factors: []Factor{{Name: "a", Levels: levels(1000)}, {Name: "b", Levels: levels(100)}}, Blocks: 1, BlockName: "b", Blind: true, BlindMode: BlindUnit}, "factor"},
+		{"10^12 blocks", Plan{Design: RCBD, Factors: fs[:1], Reps: ones(100), Blocks: 1e12, BlockName: "b"}, "blocks"},
+		{"huge grid", Plan{Design: CRD, Factors: fs[:1], Reps: ones(100), Blocks: 1, BlockName: "b", Grid: &Grid{Rows: 1e9, Cols: 1e9, Numbering: RowWise}}, "grid"},
+		{"huge reps", Plan{Design: CRD, Factors: fs[:1], Reps: append(ones(99), 1e15), Blocks: 1, BlockName: "b"}, "reps"},
+	}
+	for _, tt := range tests {
+		t.Run(tt.name, func(t *testing.T) {
+			b, _ := json.Marshal(tt.plan)
+			_, err := ParsePlan(b)
+			var e *Error
+			if !errors.As(err, &e) || e.Field != tt.field {
+				t.Errorf("got %v, want a %s error", err, tt.field)
+			}
+		})
+	}
+}
+
+func ones(n int) []int {
+	out := make([]int, n)
+	for i := range out {
+		out[i] = 1
+	}
+	return out
+}
+
+func TestUnequalBlocksAndNaming(t *testing.T) {
+	rows := func(sizes ...int) []UnitRow {
+		var out []UnitRow
+		for b, n := range sizes {
+			for i := 0; i < n; i++ {
+				out = append(out, UnitRow{ID: fmt.Sprintf("%d-%d", b, i), Block: fmt.Sprintf("L%d", b+1)})
+			}
+		}
+		return out
+	}
+	base := Spec{Factor: []string{"dose=0,1,2,3,4"}, BlockColumn: "litter", BlockName: "litter", Seed: u64(1)}
+	if _, err := base.Resolve(rows(5, 8, 6, 7)); err == nil || !strings.Contains(err.Error(), "--per-block 5") {
+		t.Errorf("litters of 5-8 for 5 treatments: %v", err)
+	}
+	cases := []struct {
+		edit  func(*Spec)
+		sizes []int
+		name  string
+		n     int
+	}{
+		{func(s *Spec) { s.PerBlock = 5 }, []int{5, 8, 6, 7}, "randomised complete block design", 20},
+		{func(s *Spec) { s.PerBlock = 10 }, []int{10, 12, 11}, "generalised randomised block design", 30},
+		{func(s *Spec) { s.AllowUnequal = true }, []int{5, 8, 6, 7}, "randomised block design with unequal blocks", 26},
+		{func(s *Spec) {}, []int{10, 10}, "generalised randomised block design", 20},
+		{func(s *Spec) {}, []int{5, 5, 5}, "randomised complete block design", 15},
+	}
+	for _, c := range cases {
+		s := base
+		c.edit(&s)
+		p, err := s.Resolve(rows(c.sizes...))
+		if err != nil {
+			t.Fatalf("%v: %v", c.sizes, err)
+		}
+		if p.DesignName() != c.name || p.NumUnits() != c.n {
+			t.Errorf("%v: %q with %d units, want %q with %d", c.sizes, p.DesignName(), p.NumUnits(), c.name, c.n)
+		}
+	}
+}
+
+// FuzzParseKey: a key file never panics the parser, and whatever it
+// accepts marshals and parses again to the same key.
+func FuzzParseKey(f *testing.F) {
+	f.Add([]byte(`{"format":"allot-key-1","plan_fingerprint":"ab","seed":1,"treatments":["a"],"codes":["X"]}`))
+	f.Add([]byte(`{"format":"allot-key-2","plan_fingerprint":"ab","seed":1,"blind_mode":"unit","secret":"00112233445566778899aabbccddeeff","treatments":["a"],"mac":"00"}`))
+	f.Fuzz(func(t *testing.T, b []byte) {
+		k, err := ParseKey(b)
+		if err != nil {
+			return
+		}
+		again, _ := json.Marshal(k)
+		k2, err := ParseKey(again)
+		if err != nil || k2.Digest() != k.Digest() {
+			t.Fatalf("accepted key does not round-trip: %v", err)
+		}
+	})
+}
+
+// FuzzDecodeLayout: a layout file never panics the decoder or Check.
+func FuzzDecodeLayout(f *testing.F) {
+	p, _ := Spec{Factor: []string{"feed=A,B"}, Reps: "2", Seed: u64(1)}.Resolve(nil)
+	doc, _ := json.Marshal(LayoutDoc{Format: LayoutFormat, Fingerprint: p.Fingerprint(), Layout: Layout{Plan: p, Units: []Unit{{ID: "1", Block: 1, Position: 1}}}})
+	f.Add(doc)
+	f.Fuzz(func(t *testing.T, b []byte) {
+		if l, err := DecodeLayout(b); err == nil {
+			_ = l.Check()
+		}
+	})
+}
+
+func TestDesignNameEqualBlocksWithRemainder(t *testing.T) {
+	var rows []UnitRow
+	for i := 0; i < 16; i++ {
+		rows = append(rows, UnitRow{ID: strconv.Itoa(i), Block: strconv.Itoa(i / 8)})
+	}
+	p, err := Spec{Factor: []string{"dose=5"}, BlockColumn: "litter", PerBlock: 7, Seed: u64(1)}.Resolve(rows)
+	if err != nil || p.DesignName() != "randomised block design with unequal replication within blocks" {
+		t.Errorf("%v %q", err, p.DesignName())
 	}
 }

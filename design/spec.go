@@ -39,16 +39,65 @@ type Spec struct {
 	Response  []string `toml:"response"` // NAME or NAME:MIN..MAX
 	Seed      *uint64  `toml:"seed"`
 	// Unit list: a CSV file with a header row.
-	Units       string `toml:"units"`
-	IDColumn    string `toml:"id_column"`
-	BlockColumn string `toml:"block_column"`
-	MatchOn     string `toml:"match_on"`
-	Grid        string `toml:"grid"` // ROWSxCOLS
-	Numbering   string `toml:"numbering"`
-	Blind       bool   `toml:"blind"`
-	Order       bool   `toml:"order"`
-	Subsamples  int    `toml:"subsamples"`
+	Units       string      `toml:"units"`
+	IDColumn    string      `toml:"id_column"`
+	BlockColumn string      `toml:"block_column"`
+	MatchOn     string      `toml:"match_on"`
+	Grid        string      `toml:"grid"` // ROWSxCOLS
+	Numbering   string      `toml:"numbering"`
+	Blind       BlindChoice `toml:"blind"` // "", "treatment" or "unit" (true means "treatment")
+	Order       bool        `toml:"order"`
+	Subsamples  int         `toml:"subsamples"`
+	// PerBlock takes this many units from each block of a unit list; the
+	// rest are spare.
+	PerBlock int `toml:"per_block"`
+	// AllowUnequal accepts a unit list whose blocks differ in size (or are
+	// not a multiple of the number of treatments) and uses every unit.
+	AllowUnequal bool `toml:"allow_unequal"`
+	// ExpectN is the number of units justified (by allot size, say): the
+	// plan is refused when it uses another number.
+	ExpectN int `toml:"expect_n"`
 }
+
+// BlindChoice is the blinding asked for: "" (none), BlindTreatment or
+// BlindUnit. In a spec file, blind = true means BlindTreatment. It is a
+// flag value (pflag.Value) as well.
+type BlindChoice string
+
+// UnmarshalTOML accepts true, false, "treatment" and "unit".
+func (b *BlindChoice) UnmarshalTOML(v any) error {
+	switch x := v.(type) {
+	case bool:
+		*b = ""
+		if x {
+			*b = BlindTreatment
+		}
+		return nil
+	case string:
+		return b.Set(x)
+	}
+	return fmt.Errorf("blind: give true, false, %q or %q", BlindTreatment, BlindUnit)
+}
+
+// Set parses a flag value.
+func (b *BlindChoice) Set(v string) error {
+	switch v {
+	case BlindTreatment, BlindUnit:
+		*b = BlindChoice(v)
+	case "", "false", "none":
+		*b = ""
+	case "true":
+		*b = BlindTreatment
+	default:
+		return fmt.Errorf("%q: give %q (one code per treatment, the default) or %q (one code per unit)", v, BlindTreatment, BlindUnit)
+	}
+	return nil
+}
+
+func (b *BlindChoice) String() string { return string(*b) }
+
+// Type names the flag's value in help.
+func (b *BlindChoice) Type() string { return "mode" }
 
 // ParseSpec decodes a TOML spec file. Unknown keys are errors, so that a
 // misspelt key is not silently ignored.
@@ -68,14 +117,24 @@ func ParseSpec(name string, b []byte) (Spec, error) {
 	return s, nil
 }
 
-// ParseFactor parses NAME=L1,L2,... .
+// ParseFactor parses NAME=L1,L2,... or NAME=K, K levels named NAME1 to
+// NAMEK (as allot size reads a count).
 func ParseFactor(s string) (Factor, error) {
 	name, levels, ok := strings.Cut(s, "=")
 	name = strings.TrimSpace(name)
 	if !ok || name == "" {
-		return Factor{}, errf("factor", "factor %q: write NAME=LEVEL1,LEVEL2,..., for example feed=F0,F1,F2", s)
+		return Factor{}, errf("factor", "factor %q: write NAME=LEVEL1,LEVEL2,..., or NAME=K for K levels, for example feed=F0,F1,F2 or dose=3", s)
 	}
 	f := Factor{Name: name}
+	if k, err := strconv.Atoi(strings.TrimSpace(levels)); err == nil && k >= 2 {
+		if k > MaxLevels {
+			return Factor{}, errf("factor", "factor %q: %d levels; at most %d are supported", s, k, MaxLevels)
+		}
+		for i := 1; i <= k; i++ {
+			f.Levels = append(f.Levels, name+strconv.Itoa(i))
+		}
+		return f, nil
+	}
 	for _, l := range strings.Split(levels, ",") {
 		f.Levels = append(f.Levels, strings.TrimSpace(l))
 	}
@@ -150,6 +209,7 @@ func ParseReps(s string, tr []Treatment, control string) ([]int, error) {
 	}
 	def := 0
 	set := make([]bool, len(tr))
+	given := make([]string, len(tr))
 	for _, part := range strings.Split(s, ",") {
 		k, v, ok := strings.Cut(part, "=")
 		k = strings.TrimSpace(k)
@@ -157,7 +217,13 @@ func ParseReps(s string, tr []Treatment, control string) ([]int, error) {
 		if !ok || err != nil || n < 1 {
 			return nil, errf("reps", "replication %q: write R, or TREATMENT=R,...,default=R with whole numbers of at least 1 (for example control=8,default=6)", s)
 		}
+		if n > MaxUnits {
+			return nil, errf("reps", "replication %q: %d is more than a worksheet can hold (%d rows below the header)", s, n, MaxUnits)
+		}
 		if k == "default" {
+			if def != 0 {
+				return nil, errf("reps", "replication %q gives default twice; give it once", s)
+			}
 			def = n
 			continue
 		}
@@ -165,7 +231,10 @@ func ParseReps(s string, tr []Treatment, control string) ([]int, error) {
 		if !known {
 			return nil, errf("reps", "replication %q names %q, which is not a treatment (treatments: %s)", s, k, treatmentNames(tr))
 		}
-		out[i], set[i] = n, true
+		if set[i] {
+			return nil, errf("reps", "replication %q gives treatment %q twice (as %q and %q); give it once", s, tr[i].Name, given[i], k)
+		}
+		out[i], set[i], given[i] = n, true, k
 	}
 	for i := range out {
 		if !set[i] {
@@ -196,6 +265,9 @@ func ParseGrid(s, numbering string) (*Grid, error) {
 	cols, err2 := strconv.Atoi(strings.TrimSpace(c))
 	if !ok || err1 != nil || err2 != nil || rows < 1 || cols < 1 {
 		return nil, errf("grid", "grid %q: write ROWSxCOLS with whole numbers, for example 4x6", s)
+	}
+	if rows > MaxGridSide || cols > MaxGridSide || rows*cols > MaxGridPlaces {
+		return nil, errf("grid", "grid %q: at most %d rows or columns and %d places per block are supported", s, MaxGridSide, MaxGridPlaces)
 	}
 	if numbering == "" {
 		numbering = RowWise
@@ -326,22 +398,24 @@ func ReadUnitList(r io.Reader, file, idCol, blockCol, covCol string) ([]UnitRow,
 // block).
 func BlocksFromColumn(rows []UnitRow) ([]UnitSpec, int) {
 	num := map[string]int{}
-	var labels []string
-	for _, r := range rows {
-		if _, ok := num[r.Block]; !ok {
-			labels = append(labels, r.Block)
-			num[r.Block] = len(labels)
+	var members [][]int
+	for i, r := range rows {
+		b, ok := num[r.Block]
+		if !ok {
+			b = len(members)
+			num[r.Block] = b
+			members = append(members, nil)
 		}
+		members[b] = append(members[b], i)
 	}
 	out := make([]UnitSpec, 0, len(rows))
-	for b, l := range labels {
-		for _, r := range rows {
-			if r.Block == l {
-				out = append(out, UnitSpec{ID: r.ID, Block: b + 1, BlockLabel: l, Covariate: r.Covariate})
-			}
+	for b, m := range members {
+		for _, i := range m {
+			r := rows[i]
+			out = append(out, UnitSpec{ID: r.ID, Block: b + 1, BlockLabel: r.Block, Covariate: r.Covariate})
 		}
 	}
-	return out, len(labels)
+	return out, len(members)
 }
 
 // BlocksByMatching sorts units on their covariate (ties by list order) and
@@ -369,8 +443,68 @@ func BlocksByMatching(rows []UnitRow, size int, covName string) ([]UnitSpec, int
 // Resolve turns the spec into a validated plan. units is the parsed unit
 // list (nil without one). The seed must be set (Seed != nil); drawing one is
 // the caller's business, so that the plan records it.
+//
+// Defaults that would give a useless design are refused: a completely
+// randomised plan needs its replication (1 unit per treatment leaves no
+// error df), and a unit list whose blocks are unequal, or not a multiple of
+// the number of treatments, needs PerBlock or AllowUnequal. Blocks (or a
+// block column, or matching) without a design mean randomised blocks.
 func (s Spec) Resolve(units []UnitRow) (Plan, error) {
-	p := Plan{Title: s.Title, Design: Kind(s.Design), Control: s.Control, BlockName: s.BlockName, Blind: s.Blind, Order: s.Order, Subsamples: s.Subsamples}
+	p, err := s.basePlan()
+	if err != nil {
+		return Plan{}, err
+	}
+	nt := p.NumTreatments()
+	repsText := s.Reps
+	if repsText == "" && p.Design == CRD {
+		if units == nil {
+			return Plan{}, errf("reps", "a completely randomised layout needs the replication: give the units per treatment, for example 6 (one unit per treatment leaves no error df to test with); allot size says how many")
+		}
+		// A completely randomised unit list shares its units equally.
+		if len(units)%nt != 0 {
+			return Plan{}, errf("reps", "%d units do not divide equally among %d treatments: give the replication per treatment, for example %s=%d,default=%d", len(units), nt, p.Treatments()[0].Name, len(units)/nt+len(units)%nt, len(units)/nt)
+		}
+		repsText = strconv.Itoa(len(units) / nt)
+	}
+	if p.Reps, err = ParseReps(repsText, p.Treatments(), p.Control); err != nil {
+		return Plan{}, err
+	}
+	if s.Blocks < 0 || s.Blocks > MaxUnits {
+		return Plan{}, errf("blocks", "%d blocks: give a whole number from 2 to %d", s.Blocks, MaxUnits)
+	}
+	p.Blocks = s.Blocks
+	if p.Design == CRD && p.Blocks == 0 {
+		p.Blocks = 1
+	}
+	if err := s.resolveUnits(&p, units); err != nil {
+		return Plan{}, err
+	}
+	if p.Grid, err = ParseGrid(s.Grid, s.Numbering); err != nil {
+		return Plan{}, err
+	}
+	if s.Numbering != "" && s.Grid == "" {
+		return Plan{}, errf("grid", "a numbering needs a grid (ROWSxCOLS)")
+	}
+	if err := p.Validate(); err != nil {
+		return Plan{}, err
+	}
+	if g := p.Grid; g != nil {
+		for _, n := range p.BlockSizes() {
+			if n < g.Rows*g.Cols {
+				g.Placement = RandomPlaces
+			}
+		}
+	}
+	if err := s.checkExpectN(p); err != nil {
+		return Plan{}, err
+	}
+	return p, nil
+}
+
+// basePlan resolves everything but replication, blocks and units, and
+// checks the factors before any treatment is built from them.
+func (s Spec) basePlan() (Plan, error) {
+	p := Plan{Title: s.Title, Design: Kind(s.Design), Control: s.Control, BlockName: s.BlockName, Blind: s.Blind != "", BlindMode: string(s.Blind), Order: s.Order, Subsamples: s.Subsamples, PerBlock: s.PerBlock}
 	if p.Subsamples == 1 {
 		p.Subsamples = 0
 	}
@@ -379,6 +513,9 @@ func (s Spec) Resolve(units []UnitRow) (Plan, error) {
 	}
 	if p.Design == "" {
 		p.Design = CRD
+		if s.Blocks > 0 || s.BlockColumn != "" || s.MatchOn != "" {
+			p.Design = RCBD
+		}
 	}
 	if p.BlockName == "" {
 		p.BlockName = "block"
@@ -387,6 +524,12 @@ func (s Spec) Resolve(units []UnitRow) (Plan, error) {
 		return Plan{}, errf("seed", "no seed: give one, or let allot draw one and record it")
 	}
 	p.Seed = *s.Seed
+	if s.PerBlock < 0 {
+		return Plan{}, errf("per_block", "%d units per block: must be at least 1", s.PerBlock)
+	}
+	if s.ExpectN < 0 {
+		return Plan{}, errf("expect_n", "%d units: must be at least 1", s.ExpectN)
+	}
 	for _, f := range s.Factor {
 		fa, err := ParseFactor(f)
 		if err != nil {
@@ -401,70 +544,111 @@ func (s Spec) Resolve(units []UnitRow) (Plan, error) {
 		}
 		p.Responses = append(p.Responses, resp)
 	}
-	// Validate factors before building treatments from them.
+	// Validate the parts that do not depend on replication and blocks
+	// first; Validate checks the number of treatments before building them.
 	probe := p
-	probe.Reps = make([]int, len(p.Treatments()))
-	for i := range probe.Reps {
-		probe.Reps[i] = 1
-	}
 	probe.Blocks = 1
 	if p.Design == RCBD {
 		probe.Blocks = 2
 	}
 	if err := probe.Validate(); err != nil {
 		var e *Error
-		if errors.As(err, &e) && (e.Field == "factor" || e.Field == "control" || e.Field == "design" || e.Field == "response" || e.Field == "block_name") {
+		if errors.As(err, &e) && (e.Field == "factor" || e.Field == "control" || e.Field == "design" || e.Field == "response" || e.Field == "block_name" || e.Field == "title" || e.Field == "blind") {
 			return Plan{}, err
 		}
 	}
-	repsText := s.Reps
-	if repsText == "" && units != nil && p.Design == CRD {
-		// A completely randomised unit list shares its units equally.
-		nt := len(p.Treatments())
-		if len(units)%nt != 0 {
-			return Plan{}, errf("reps", "%d units do not divide equally among %d treatments: give the replication per treatment, for example %s=%d,default=%d", len(units), nt, p.Treatments()[0].Name, len(units)/nt+len(units)%nt, len(units)/nt)
-		}
-		repsText = strconv.Itoa(len(units) / nt)
-	}
-	reps, err := ParseReps(repsText, p.Treatments(), p.Control)
-	if err != nil {
-		return Plan{}, err
-	}
-	p.Reps = reps
-	p.Blocks = s.Blocks
-	if p.Design == CRD && p.Blocks == 0 {
-		p.Blocks = 1
-	}
+	return p, nil
+}
+
+// resolveUnits sets the plan's units and blocks from the unit list.
+func (s Spec) resolveUnits(p *Plan, units []UnitRow) error {
 	if s.BlockColumn != "" && s.MatchOn != "" {
-		return Plan{}, errf("units", "give either a block column or a covariate to match on, not both")
+		return errf("units", "give either a block column or a covariate to match on, not both")
 	}
 	if (s.BlockColumn != "" || s.MatchOn != "") && p.Design != RCBD {
-		return Plan{}, errf("units", "blocks from a unit list need design %q", RCBD)
+		return errf("units", "blocks from a unit list need design %q", RCBD)
 	}
-	if units != nil {
-		switch {
-		case s.BlockColumn != "":
-			p.Units, p.Blocks = BlocksFromColumn(units)
-		case s.MatchOn != "":
-			if p.Units, p.Blocks, err = BlocksByMatching(units, len(p.Treatments()), s.MatchOn); err != nil {
-				return Plan{}, err
-			}
-		case p.Design == RCBD:
-			return Plan{}, errf("units", "a randomised complete block design with a unit list needs the blocks: a block column (litter) or a covariate to match on (weight)")
-		default:
-			for _, u := range units {
-				p.Units = append(p.Units, UnitSpec{ID: u.ID, Block: 1, Covariate: u.Covariate})
-			}
+	if units == nil {
+		if s.PerBlock > 0 {
+			return errf("per_block", "units per block are taken from a unit list (--units with a block column)")
 		}
-		if s.Blocks != 0 && s.Blocks != p.Blocks && p.Design == RCBD {
-			return Plan{}, errf("blocks", "%d blocks given, but the unit list makes %d", s.Blocks, p.Blocks)
+		return nil
+	}
+	var err error
+	switch {
+	case s.BlockColumn != "":
+		p.Units, p.Blocks = BlocksFromColumn(units)
+	case s.MatchOn != "":
+		if p.Units, p.Blocks, err = BlocksByMatching(units, p.NumTreatments(), s.MatchOn); err != nil {
+			return err
+		}
+	case p.Design == RCBD:
+		return errf("units", "a randomised complete block design with a unit list needs the blocks: a block column (litter) or a covariate to match on (weight)")
+	default:
+		p.Units = make([]UnitSpec, 0, len(units))
+		for _, u := range units {
+			p.Units = append(p.Units, UnitSpec{ID: u.ID, Block: 1, Covariate: u.Covariate})
 		}
 	}
-	if p.Grid, err = ParseGrid(s.Grid, s.Numbering); err != nil {
-		return Plan{}, err
+	if s.PerBlock > 0 && p.Design != RCBD {
+		return errf("per_block", "units per block are taken from a unit list with blocks (a block column)")
 	}
-	if s.Numbering != "" && s.Grid == "" {
-		return Plan{}, errf("grid", "a numbering needs a grid (ROWSxCOLS)")
+	if s.Blocks != 0 && s.Blocks != p.Blocks && p.Design == RCBD {
+		return errf("blocks", "%d blocks given, but the unit list makes %d", s.Blocks, p.Blocks)
 	}
-	return p, p.Validate()
+	if p.Design == RCBD && s.PerBlock == 0 && !s.AllowUnequal {
+		return p.checkEqualBlocks()
+	}
+	return nil
+}
+
+// checkEqualBlocks refuses blocks of a unit list that differ in size or are
+// not a multiple of the number of treatments: using every unit would
+// replicate treatments unequally and lay out more units than a balanced
+// design needs.
+func (p Plan) checkEqualBlocks() error {
+	nt := p.NumTreatments()
+	sizes := p.ListSizes()
+	lo, hi := sizes[0], sizes[0]
+	for _, n := range sizes {
+		lo, hi = min(lo, n), max(hi, n)
+	}
+	if lo < nt || (lo == hi && lo%nt == 0) {
+		return nil // too small is reported by Validate, naming the block
+	}
+	k := lo / nt * nt
+	what := fmt.Sprintf("the %s hold %d to %d units", Plural(p.BlockName), lo, hi)
+	if lo == hi {
+		what = fmt.Sprintf("every %s holds %d units, not a multiple of the %d treatments", p.BlockName, lo, nt)
+	}
+	return errf("units", "%s, so using every unit would replicate the %d treatments unequally within %s; give --per-block %d to take %d units of each %s at random (the rest marked spare), or --allow-unequal to use every unit", what, nt, Plural(p.BlockName), k, k, p.BlockName)
+}
+
+// checkExpectN compares the units laid out with the number justified.
+func (s Spec) checkExpectN(p Plan) error {
+	if s.ExpectN == 0 {
+		return nil
+	}
+	n := p.NumUnits()
+	if n == s.ExpectN {
+		return nil
+	}
+	diff, dir := n-s.ExpectN, "more"
+	if diff < 0 {
+		diff, dir = -diff, "fewer"
+	}
+	why := ""
+	switch {
+	case p.Units != nil && p.PerBlock > 0:
+		why = fmt.Sprintf("%d %s × %d units each", p.Blocks, Plural(p.BlockName), p.PerBlock)
+	case p.Units != nil && p.Design == RCBD:
+		why = fmt.Sprintf("the unit list's %d %s hold %d units in all; --per-block K takes K of each and marks the rest spare", p.Blocks, Plural(p.BlockName), n)
+	case p.Units != nil:
+		why = fmt.Sprintf("the unit list has %d units", n)
+	case p.Design == RCBD:
+		why = fmt.Sprintf("%d %s × %d units each (the replication); change --blocks or --reps", p.Blocks, Plural(p.BlockName), p.BlockSize())
+	default:
+		why = fmt.Sprintf("the replication adds up to %d; change --reps", n)
+	}
+	return errf("expect_n", "the layout uses %d units, %d %s than the %d justified (%s); lay out the justified number, or justify the new one", n, diff, dir, s.ExpectN, why)
 }

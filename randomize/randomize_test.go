@@ -1,6 +1,7 @@
 package randomize
 
 import (
+	"encoding/hex"
 	"encoding/json"
 	"flag"
 	"fmt"
@@ -274,6 +275,11 @@ func TestIndependentImplementation(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
+	type refUnit struct {
+		Block, Position, Treatment, Order, Row, Col int
+		Index                                       *int
+		Code                                        string
+	}
 	var ref struct {
 		Cases []struct {
 			Name       string
@@ -281,20 +287,28 @@ func TestIndependentImplementation(t *testing.T) {
 			Reps       []int
 			Blocks     int
 			Order      bool
-			BlockSizes []int `json:"block_sizes"`
+			BlockSizes []int  `json:"block_sizes"`
+			PerBlock   int    `json:"per_block"`
+			BlindMode  string `json:"blind_mode"`
+			Secret     string
+			Grid       *design.Grid
 			Codes      []string
-			Units      []struct{ Block, Position, Treatment, Order int }
+			Units      []refUnit
+			Spares     []struct{ Block, Index int }
 		}
 	}
 	if err := json.Unmarshal(b, &ref); err != nil {
 		t.Fatal(err)
+	}
+	if len(ref.Cases) < 11 {
+		t.Fatalf("%d reference cases; regenerate with testdata/reference/allot_pcg_v1.py", len(ref.Cases))
 	}
 	for _, c := range ref.Cases {
 		var levels []string
 		for i := range c.Reps {
 			levels = append(levels, fmt.Sprintf("t%d", i))
 		}
-		p := design.Plan{Title: "x", Design: design.RCBD, Factors: []design.Factor{{Name: "t", Levels: levels}}, Reps: c.Reps, Blocks: c.Blocks, BlockName: "block", Seed: c.Seed, Order: c.Order, Blind: true}
+		p := design.Plan{Title: "x", Design: design.RCBD, Factors: []design.Factor{{Name: "t", Levels: levels}}, Reps: c.Reps, Blocks: c.Blocks, BlockName: "block", Seed: c.Seed, Order: c.Order, Blind: true, BlindMode: c.BlindMode, PerBlock: c.PerBlock, Grid: c.Grid}
 		if c.Blocks == 1 {
 			p.Design = design.CRD
 		}
@@ -305,18 +319,35 @@ func TestIndependentImplementation(t *testing.T) {
 				}
 			}
 		}
-		l, err := Assign(p)
+		secret, _ := hex.DecodeString(c.Secret)
+		l, err := AssignSecret(p, secret)
 		if err != nil {
-			t.Fatal(err)
+			t.Fatalf("%s: %v", c.Name, err)
+		}
+		if len(l.Units) != len(c.Units) || len(l.Spares) != len(c.Spares) {
+			t.Fatalf("%s: %d units and %d spares, reference %d and %d", c.Name, len(l.Units), len(l.Spares), len(c.Units), len(c.Spares))
 		}
 		if strings.Join(l.Codes, " ") != strings.Join(c.Codes, " ") {
 			t.Errorf("%s: codes %v, reference %v", c.Name, l.Codes, c.Codes)
 		}
 		for i, u := range l.Units {
 			w := c.Units[i]
-			if u.Block != w.Block || u.Position != w.Position || u.Treatment != w.Treatment || u.Order != w.Order {
+			code := ""
+			if c.BlindMode == design.BlindUnit {
+				code = u.Code
+			}
+			if u.Block != w.Block || u.Position != w.Position || u.Treatment != w.Treatment || u.Order != w.Order || u.Row != w.Row || u.Col != w.Col || code != w.Code {
 				t.Errorf("%s unit %d: %+v, reference %+v", c.Name, i, u, w)
 				break
+			}
+			if w.Index != nil && u.ID != fmt.Sprintf("u%d-%d", w.Block, *w.Index) {
+				t.Errorf("%s unit %d: %s, reference list index %d", c.Name, i, u.ID, *w.Index)
+				break
+			}
+		}
+		for i, sp := range l.Spares {
+			if w := c.Spares[i]; sp.ID != fmt.Sprintf("u%d-%d", w.Block, w.Index) {
+				t.Errorf("%s spare %d: %s, reference block %d index %d", c.Name, i, sp.ID, w.Block, w.Index)
 			}
 		}
 	}

@@ -14,73 +14,157 @@ import (
 const MaxMapUnits = 240
 
 // LayoutText writes the layout summary: design, treatments, seed and
-// fingerprint, the treatments × blocks balance table and a text map.
+// fingerprint, the treatments × blocks balance table and a text map. A
+// blind layout is written sealed: no seed, and the balance table by code,
+// so that nothing but the key tells what a code stands for.
 func LayoutText(w io.Writer, l design.Layout) error {
+	l = l.Sealed()
 	p := l.Plan
 	var b strings.Builder
 	tr := p.Treatments()
+	labels := p.BlockLabels()
 	fmt.Fprintf(&b, "Layout: %s\n", p.Title)
-	kind := "completely randomised design"
+	kind := p.DesignName()
 	if p.Design == design.RCBD {
-		kind = fmt.Sprintf("randomised complete block design, %s", plural(p.Blocks, p.BlockName, design.Plural(p.BlockName)))
+		kind = fmt.Sprintf("%s, %s", kind, plural(p.Blocks, p.BlockName, design.Plural(p.BlockName)))
 	}
 	var fs []string
 	for _, f := range p.Factors {
 		fs = append(fs, f.Name+": "+strings.Join(f.Levels, ", "))
 	}
+	seed := fmt.Sprintf("%d (generator %s)", p.Seed, p.Generator)
+	if p.Blind {
+		seed = fmt.Sprintf("kept in the key file (generator %s)", p.Generator)
+	}
 	rows := [][2]string{
 		{"design", kind},
 		{"treatments", fmt.Sprintf("%d (%s)", len(tr), strings.Join(fs, "; "))},
 		{"units", unitsText(p)},
-		{"seed", fmt.Sprintf("%d (generator %s)", p.Seed, p.Generator)},
+		{"seed", seed},
 		{"fingerprint", p.Fingerprint()},
 	}
 	if p.Control != "" {
 		rows = append(rows[:2], append([][2]string{{"control", p.Control}}, rows[2:]...)...)
 	}
+	if len(l.Spares) > 0 {
+		rows = append(rows, [2]string{"spare", spareText(l, labels)})
+	}
 	for _, r := range rows {
 		fmt.Fprintf(&b, "  %-12s %s\n", r[0], r[1])
 	}
-	counts := l.Counts()
-	bt := table{head: []string{"treatment"}, right: []bool{false}}
-	for k := 1; k <= p.Blocks; k++ {
-		if p.Design == design.RCBD {
-			bt.head = append(bt.head, fmt.Sprintf("%s %s", p.BlockName, p.BlockLabel(k)))
-		} else {
-			bt.head = append(bt.head, "units")
-		}
-		bt.right = append(bt.right, true)
-	}
-	for t, row := range counts {
-		cells := []string{tr[t].Name}
-		for _, c := range row {
-			cells = append(cells, fmt.Sprint(c))
-		}
-		bt.rows = append(bt.rows, cells)
-	}
-	if p.Design == design.RCBD {
+	bt := balanceTable(l, labels)
+	switch {
+	case p.BlindMode == design.BlindUnit:
+		fmt.Fprintf(&b, "\nBalance: hidden (one code per unit); units in each %s\n", p.BlockName)
+	case p.Blind && p.Design == design.RCBD:
+		fmt.Fprintf(&b, "\nBalance: units of each code in each %s\n", p.BlockName)
+	case p.Blind:
+		b.WriteString("\nReplication: units of each code\n")
+	case p.Design == design.RCBD:
 		fmt.Fprintf(&b, "\nBalance: units of each treatment in each %s\n", p.BlockName)
-	} else {
+	default:
 		b.WriteString("\nReplication: units of each treatment\n")
 	}
 	b.WriteString(bt.text("  "))
 	if len(l.Units) <= MaxMapUnits {
-		writeMap(&b, l)
+		writeMap(&b, l, labels)
 	} else {
 		fmt.Fprintf(&b, "\nMap: %d units are too many to print here; see the workbook's Map sheet.\n", len(l.Units))
 	}
-	if p.Blind {
+	switch {
+	case p.BlindMode == design.BlindUnit:
+		b.WriteString("\nBlind: every unit has its own code in the map and the workbook; the key file holds each code's treatment.\n")
+	case p.Blind:
 		b.WriteString("\nBlind: codes replace treatment names in the map and the workbook; the key file holds their meaning.\n")
 	}
 	_, err := io.WriteString(w, b.String())
 	return err
 }
 
+// balanceTable counts units by treatment (or, sealed, by code in order of
+// first appearance; one row of all units for per-unit codes) and block.
+func balanceTable(l design.Layout, labels []string) table {
+	p := l.Plan
+	first := "treatment"
+	if p.Blind {
+		first = "code"
+	}
+	bt := table{head: []string{first}, right: []bool{false}}
+	for k := 1; k <= p.Blocks; k++ {
+		if p.Design == design.RCBD {
+			bt.head = append(bt.head, fmt.Sprintf("%s %s", p.BlockName, labels[k-1]))
+		} else {
+			bt.head = append(bt.head, "units")
+		}
+		bt.right = append(bt.right, true)
+	}
+	var names []string
+	row := map[string]int{}
+	switch {
+	case p.BlindMode == design.BlindUnit:
+		bt.head[0] = "units"
+		names = []string{"all"}
+	case p.Blind:
+		for _, u := range l.Units {
+			if _, ok := row[u.Code]; !ok {
+				row[u.Code] = len(names)
+				names = append(names, u.Code)
+			}
+		}
+	default:
+		for _, t := range p.Treatments() {
+			names = append(names, t.Name)
+		}
+	}
+	counts := make([][]int, len(names))
+	for i := range counts {
+		counts[i] = make([]int, p.Blocks)
+	}
+	for _, u := range l.Units {
+		r := u.Treatment
+		switch {
+		case p.BlindMode == design.BlindUnit:
+			r = 0
+		case p.Blind:
+			r = row[u.Code]
+		}
+		counts[r][u.Block-1]++
+	}
+	for i, name := range names {
+		cells := []string{name}
+		for _, c := range counts[i] {
+			cells = append(cells, fmt.Sprint(c))
+		}
+		bt.rows = append(bt.rows, cells)
+	}
+	return bt
+}
+
+func spareText(l design.Layout, labels []string) string {
+	n := len(l.Spares)
+	if n > 20 {
+		return fmt.Sprintf("%d units of the list are spare (not laid out); the workbook and the JSON list them", n)
+	}
+	var parts []string
+	for i, sp := range l.Spares {
+		if i == 0 || sp.Block != l.Spares[i-1].Block {
+			parts = append(parts, fmt.Sprintf("%s %s: %s", l.Plan.BlockName, labels[sp.Block-1], sp.ID))
+		} else {
+			parts[len(parts)-1] += ", " + sp.ID
+		}
+	}
+	return fmt.Sprintf("%d (%s; not laid out)", n, strings.Join(parts, "; "))
+}
+
 // writeMap writes each block as its grid (or as one line of positions),
 // each unit as its ID and treatment (or code), with the measurement rank
 // after "#" when an order was planned.
-func writeMap(b *strings.Builder, l design.Layout) {
+func writeMap(b *strings.Builder, l design.Layout, labels []string) {
 	p := l.Plan
+	what := "treatment"
+	if p.Blind {
+		what = "code"
+	}
 	cellText := func(u design.Unit) string {
 		t := u.ID + " " + l.Label(u)
 		if u.Order > 0 {
@@ -95,14 +179,14 @@ func writeMap(b *strings.Builder, l design.Layout) {
 		width = max(width, runeLen(cellText(u)))
 	}
 	if g := p.Grid; g != nil {
-		fmt.Fprintf(b, "\nMap: each %s as its %d×%d grid (%s numbering); unit ID and treatment", gridWord(p), g.Rows, g.Cols, g.Numbering)
+		fmt.Fprintf(b, "\nMap: each %s as its %d×%d grid (%s numbering); unit ID and %s", gridWord(p), g.Rows, g.Cols, g.Numbering, what)
 		if p.Order {
 			b.WriteString(", #measurement order")
 		}
 		b.WriteString("\n")
 		for k := 1; k <= p.Blocks; k++ {
 			if p.Design == design.RCBD {
-				fmt.Fprintf(b, "  %s %s\n", p.BlockName, p.BlockLabel(k))
+				fmt.Fprintf(b, "  %s %s\n", p.BlockName, labels[k-1])
 			}
 			grid := make([][]string, g.Rows)
 			for r := range grid {
@@ -125,9 +209,9 @@ func writeMap(b *strings.Builder, l design.Layout) {
 		return
 	}
 	if p.Design == design.RCBD {
-		fmt.Fprintf(b, "\nMap: position → unit ID and treatment, one line per %s", p.BlockName)
+		fmt.Fprintf(b, "\nMap: position → unit ID and %s, one line per %s", what, p.BlockName)
 	} else {
-		b.WriteString("\nMap: position → unit ID and treatment")
+		b.WriteString("\nMap: position → unit ID and " + what)
 	}
 	if p.Order {
 		b.WriteString(" (#measurement order)")
@@ -135,7 +219,7 @@ func writeMap(b *strings.Builder, l design.Layout) {
 	b.WriteString("\n")
 	for k := 1; k <= p.Blocks; k++ {
 		if p.Design == design.RCBD {
-			fmt.Fprintf(b, "  %s %s:", p.BlockName, p.BlockLabel(k))
+			fmt.Fprintf(b, "  %s %s:", p.BlockName, labels[k-1])
 		} else {
 			b.WriteString("  units:")
 		}
@@ -167,12 +251,12 @@ func unitsText(p design.Plan) string {
 	return fmt.Sprintf("%d (%d to %d per %s)", p.NumUnits(), lo, hi, p.BlockName)
 }
 
-// LayoutJSON writes the resolved plan and assignment, with the fingerprint.
+// LayoutJSON writes the resolved plan and assignment, with the format and
+// fingerprint (design.LayoutDoc). A blind layout is written sealed: the plan
+// without its seed and each unit's code instead of its treatment.
 func LayoutJSON(w io.Writer, l design.Layout) error {
+	l = l.Sealed()
 	enc := json.NewEncoder(w)
 	enc.SetIndent("", "  ")
-	return enc.Encode(struct {
-		Fingerprint string `json:"fingerprint"`
-		design.Layout
-	}{l.Plan.Fingerprint(), l})
+	return enc.Encode(design.LayoutDoc{Format: design.LayoutFormat, Fingerprint: l.Plan.Fingerprint(), Layout: l})
 }

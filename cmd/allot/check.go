@@ -9,6 +9,7 @@ import (
 
 	"github.com/allotproject/allot/design"
 	"github.com/allotproject/allot/design/workbook"
+	"github.com/allotproject/allot/randomize"
 	"github.com/allotproject/allot/report"
 
 	"github.com/spf13/cobra"
@@ -115,8 +116,8 @@ func readFilled(o *checkOptions) (*workbook.Filled, error) {
 		if key == nil {
 			return nil, usagef("--plan %s: the layout is blind; give its --key", o.plan)
 		}
-		if key.Fingerprint != lay.Plan.Fingerprint() {
-			return nil, inputErr(fmt.Errorf("--key %s: the key belongs to another plan", o.key))
+		if lay, err = randomize.Unblind(lay, *key); err != nil {
+			return nil, inputErr(fmt.Errorf("--key %s: %w", o.key, err))
 		}
 	}
 	f, err := os.Open(o.file)

@@ -32,6 +32,9 @@ type layoutOptions struct {
 	json     bool
 	force    bool
 	now      func() time.Time
+	// secret, when set, replaces the blinding secret drawn from
+	// crypto/rand (tests only).
+	secret []byte
 }
 
 func newLayoutCmd(s *streams, runF func(*layoutOptions) error) *cobra.Command {
@@ -53,10 +56,25 @@ Units are numbered block × 100 + position (101, 102, …, 201, …) unless
 --block-column litter, or --match-on weight to sort on a covariate and cut
 into blocks of one unit per treatment).
 
+Blocks of a unit list must be equal and a multiple of the number of
+treatments, unless --per-block K takes K units of each block by a seeded
+rule fixed before allocation (the rest are marked spare) or --allow-unequal
+uses every unit. --expect-n N refuses a layout that uses another number of
+units than the N justified (by allot size).
+
 --blind shows codes instead of treatment names to the people who score
-outcomes and writes the key (seed and codes) to --key FILE; --order adds a
-randomised measurement order within each block; --grid ROWSxCOLS places each
-block on a grid numbered by --numbering rows|serpentine.
+outcomes, in every output but the key, and writes the key (seed, secret and
+codes; mode 0600) to --key FILE. --blind treatment (the default) gives one
+code per treatment: units sharing a code share a treatment, so learning one
+unit's treatment reveals all of its code. --blind unit gives every unit its
+own code: learning one reveals no other, at the cost of a longer key. The
+codes come from a 256-bit secret drawn from the system's random source and
+kept only in the key; the allocation comes from the seed, so the seed of a
+blind layout is a secret too: let allot draw it. allot unblind reveals the
+map. --order adds a randomised measurement order within each block; --grid
+ROWSxCOLS places each block on a grid numbered by --numbering
+rows|serpentine; with more places than units, the units are spread over the
+places at random.
 
 -o FILE writes the data-entry workbook (.xlsx), a CSV of the same rows (.csv)
 or the plan and assignment (.json). --spec FILE.toml reads everything from a
@@ -65,14 +83,34 @@ file (keys are these flag names, with _ for -); flags override it.` + "\n" + exi
   allot layout --factor feed=F0,F1,F2,F3 --design rcbd --blocks 5 --block-name bench \
     --response height_cm:0..200 --seed 42 -o trial.xlsx
 
-  # Animals blocked by litter from a list, blinded scoring, random measuring order
-  allot layout --factor dose=0,10,30 --design rcbd --units mice.csv --id-column tag \
-    --block-column litter --blind --key trial-key.json --order --seed 7 -o mice.xlsx
+  # Animals blocked by litter from a list, 3 per litter (the rest spare),
+  # blinded scoring with one code per animal, random measuring order
+  allot layout --factor dose=0,10,30 --units mice.csv --id-column tag \
+    --block-column litter --per-block 3 --expect-n 24 --blind unit \
+    --key trial-key.json --order -o mice.xlsx
+
+  # Reveal the codes after scoring, with a record of when and which key
+  allot unblind mice-filled.xlsx --key trial-key.json
 
   # Re-derive a layout from its workbook
   allot layout verify trial.xlsx`,
-		Args: cobra.NoArgs,
+		Args: func(c *cobra.Command, args []string) error {
+			// "--blind unit": the flag's optional value parsed as an argument.
+			if len(args) == 1 && c.Flags().Changed("blind") {
+				if args[0] == design.BlindUnit || args[0] == design.BlindTreatment {
+					return nil
+				}
+				return usagef("--blind %s: give --blind treatment (one code per treatment, the default) or --blind unit (one code per unit)", args[0])
+			}
+			if len(args) > 0 {
+				return usagef("layout takes no arguments, got %q (did you mean allot layout verify?)", strings.Join(args, " "))
+			}
+			return nil
+		},
 		RunE: func(c *cobra.Command, args []string) error {
+			if len(args) == 1 {
+				o.spec.Blind = design.BlindChoice(args[0])
+			}
 			if err := o.resolveSpec(c); err != nil {
 				return err
 			}
@@ -89,7 +127,7 @@ file (keys are these flag names, with _ for -); flags override it.` + "\n" + exi
 	f.StringArrayVar(&o.spec.Factor, "factor", nil, "treatment factor `NAME=L1,L2,...`; repeat for a factorial (2–4 factors)")
 	f.StringVar(&o.spec.Control, "control", "", "the control `LEVEL` (one-factor plans)")
 	f.StringVar(&o.spec.Reps, "reps", "", "replication `R` (per block for rcbd), or TREATMENT=R,...,default=R")
-	f.IntVar(&o.spec.Blocks, "blocks", 0, "number of blocks `B` (rcbd)")
+	f.IntVar(&o.spec.Blocks, "blocks", 0, "number of blocks `B` (implies --design rcbd)")
 	f.StringVar(&o.spec.BlockName, "block-name", "", "what a block is called: `NAME` such as bench, litter, day, rack (default block)")
 	f.StringArrayVar(&o.spec.Response, "response", nil, "a response to record, `NAME[:MIN..MAX]`; repeat for several")
 	f.StringVar(&o.seed, "seed", "", "random seed, an unsigned 64-bit `N`; without it one is drawn and printed")
@@ -99,7 +137,11 @@ file (keys are these flag names, with _ for -); flags override it.` + "\n" + exi
 	f.StringVar(&o.spec.MatchOn, "match-on", "", "unit-list `COLUMN` to sort on and cut into matched blocks (weight)")
 	f.StringVar(&o.spec.Grid, "grid", "", "place each block on a grid of `ROWSxCOLS`")
 	f.StringVar(&o.spec.Numbering, "numbering", "", "grid numbering: `rows` or serpentine")
-	f.BoolVar(&o.spec.Blind, "blind", false, "show codes instead of treatment names; write the key to --key")
+	f.Var(&o.spec.Blind, "blind", "show codes instead of treatment names: `MODE` treatment (one code per treatment, the default) or unit (one per unit); write the key to --key")
+	f.Lookup("blind").NoOptDefVal = design.BlindTreatment
+	f.IntVar(&o.spec.PerBlock, "per-block", 0, "take `K` units of each block of the unit list at random; mark the rest spare")
+	f.BoolVar(&o.spec.AllowUnequal, "allow-unequal", false, "use every unit of a unit list whose blocks differ in size")
+	f.IntVar(&o.spec.ExpectN, "expect-n", 0, "refuse a layout that does not use exactly `N` units (the number justified)")
 	f.StringVar(&o.key, "key", "", "write the blinding key to `FILE` (with --blind)")
 	f.BoolVar(&o.spec.Order, "order", false, "add a randomised measurement order within each block")
 	f.IntVar(&o.spec.Subsamples, "subsamples", 0, "record `N` measurements per unit, one row each (averaged to the unit for analysis)")
@@ -158,6 +200,15 @@ func (o *layoutOptions) resolveSpec(c *cobra.Command) error {
 		if changed("order") {
 			sp.Order = flags.Order
 		}
+		if changed("per-block") {
+			sp.PerBlock = flags.PerBlock
+		}
+		if changed("allow-unequal") {
+			sp.AllowUnequal = flags.AllowUnequal
+		}
+		if changed("expect-n") {
+			sp.ExpectN = flags.ExpectN
+		}
 		if changed("subsamples") {
 			sp.Subsamples = flags.Subsamples
 		}
@@ -173,11 +224,14 @@ func (o *layoutOptions) resolveSpec(c *cobra.Command) error {
 	if o.spec.IDColumn == "" {
 		o.spec.IDColumn = "id"
 	}
-	if o.spec.Blind && o.key == "" {
+	if o.spec.Blind != "" && o.key == "" {
 		return usagef("--blind: give --key FILE for the unblinding key, and keep that file from the people who score outcomes")
 	}
-	if !o.spec.Blind && o.key != "" {
+	if o.spec.Blind == "" && o.key != "" {
 		return usagef("--key %s: a key is written only for a --blind layout", o.key)
+	}
+	if err := distinctOutputs([][2]string{{"-o", o.out}, {"--map", o.mapFile}, {"--key", o.key}}); err != nil {
+		return err
 	}
 	if o.mapFile != "" {
 		switch strings.ToLower(filepath.Ext(o.mapFile)) {
@@ -201,7 +255,8 @@ func planError(err error) error {
 	var de *design.Error
 	if errors.As(err, &de) {
 		flag := map[string]string{"factor": "factor", "control": "control", "reps": "reps", "blocks": "blocks",
-			"block_name": "block-name", "response": "response", "design": "design", "units": "units", "grid": "grid", "seed": "seed", "subsamples": "subsamples"}[de.Field]
+			"block_name": "block-name", "response": "response", "design": "design", "units": "units", "grid": "grid", "seed": "seed", "subsamples": "subsamples",
+			"per_block": "per-block", "expect_n": "expect-n", "blind": "blind", "title": "title"}[de.Field]
 		if flag == "" {
 			flag = de.Field
 		}
@@ -214,14 +269,62 @@ func planError(err error) error {
 	return inputErr(err)
 }
 
+// distinctOutputs refuses two outputs at the same path (a key written over
+// the workbook would leave neither).
+func distinctOutputs(outs [][2]string) error {
+	seen := map[string]string{}
+	for _, o := range outs {
+		if o[1] == "" {
+			continue
+		}
+		abs, err := filepath.Abs(o[1])
+		if err != nil {
+			abs = filepath.Clean(o[1])
+		}
+		if prev, dup := seen[abs]; dup {
+			return usagef("%s %s: the same file as %s; give each output its own file", o[0], o[1], prev)
+		}
+		seen[abs] = o[0]
+	}
+	return nil
+}
+
+// checkOutputs checks every output path before any is written: its folder
+// exists and, without --force, the file does not.
+func checkOutputs(force bool, outs [][2]string) error {
+	for _, o := range outs {
+		if o[1] == "" {
+			continue
+		}
+		if st, err := os.Stat(filepath.Dir(o[1])); err != nil || !st.IsDir() {
+			return inputErr(fmt.Errorf("%s %s: the folder %s does not exist; create it or choose another", o[0], o[1], filepath.Dir(o[1])))
+		}
+		if _, err := os.Stat(o[1]); err == nil && !force {
+			return inputErr(fmt.Errorf("%s %s: %w: %s already exists; choose another name or add --force to replace it", o[0], o[1], atomicfile.ErrExists, o[1]))
+		}
+	}
+	return nil
+}
+
 func layoutRun(s *streams, o *layoutOptions) error {
+	outs := [][2]string{{"--key", o.key}, {"-o", o.out}, {"--map", o.mapFile}}
+	if err := checkOutputs(o.force, outs); err != nil {
+		return err
+	}
+	blind := o.spec.Blind != ""
 	if o.spec.Seed == nil {
 		seed, err := randomize.NewSeed()
 		if err != nil {
 			return err
 		}
 		o.spec.Seed = &seed
-		fmt.Fprintf(s.Err, "allot layout: no --seed given; drew seed %d (recorded in the plan; give --seed %d to repeat this layout)\n", seed, seed)
+		if blind {
+			fmt.Fprintf(s.Err, "allot layout: drew a seed from the system's random source; it is kept in the key file only\n")
+		} else {
+			fmt.Fprintf(s.Err, "allot layout: no --seed given; drew seed %d (recorded in the plan; give --seed %d to repeat this layout)\n", seed, seed)
+		}
+	} else if blind {
+		fmt.Fprintf(s.Err, "allot layout: warning: --seed with --blind: anyone who knows or guesses this seed can re-derive the allocation from the workbook's unit IDs (and, with one code per treatment, the meaning of every code); leave --seed out to let allot draw one, kept in the key file only\n")
 	}
 	var units []design.UnitRow
 	if o.spec.Units != "" {
@@ -238,10 +341,40 @@ func layoutRun(s *streams, o *layoutOptions) error {
 	if err != nil {
 		return planError(err)
 	}
-	lay, err := randomize.Assign(plan)
+	var lay design.Layout
+	if o.secret != nil {
+		lay, err = randomize.AssignSecret(plan, o.secret)
+	} else {
+		lay, err = randomize.Assign(plan)
+	}
 	if err != nil {
 		return planError(err)
 	}
+	// The key goes first: a blind workbook is never written without it.
+	// Everything else sees the sealed layout only.
+	if plan.Blind {
+		if err := writeJSONFile(o.key, design.KeyOf(lay), o.force, atomicfile.Private()); err != nil {
+			return inputErr(fmt.Errorf("--key %s: %w", o.key, err))
+		}
+	}
+	shown := lay.Sealed()
+	if err := writeOutputs(s, o, shown); err != nil {
+		if plan.Blind && !o.force {
+			os.Remove(o.key) // it did not exist before: leave no key without its workbook
+		}
+		return err
+	}
+	if plan.Blind {
+		fmt.Fprintf(s.Err, "allot layout: wrote the unblinding key to %s (readable by you only); keep it from the people who score outcomes\n", o.key)
+	}
+	if o.json {
+		return report.LayoutJSON(s.Out, shown)
+	}
+	return report.LayoutText(s.Out, shown)
+}
+
+// writeOutputs writes -o and --map.
+func writeOutputs(s *streams, o *layoutOptions, lay design.Layout) error {
 	if o.out != "" {
 		if err := writeLayout(o.out, lay, o); err != nil {
 			return err
@@ -258,16 +391,7 @@ func layoutRun(s *streams, o *layoutOptions) error {
 		}
 		fmt.Fprintf(s.Err, "allot layout: wrote the map to %s\n", o.mapFile)
 	}
-	if plan.Blind {
-		if err := writeJSONFile(o.key, design.KeyOf(lay), o.force); err != nil {
-			return inputErr(err)
-		}
-		fmt.Fprintf(s.Err, "allot layout: wrote the unblinding key to %s; keep it from the people who score outcomes\n", o.key)
-	}
-	if o.json {
-		return report.LayoutJSON(s.Out, lay)
-	}
-	return report.LayoutText(s.Out, lay)
+	return nil
 }
 
 func writeLayout(path string, lay design.Layout, o *layoutOptions) error {
@@ -286,12 +410,12 @@ func writeLayout(path string, lay design.Layout, o *layoutOptions) error {
 	return nil
 }
 
-func writeJSONFile(path string, v any, force bool) error {
+func writeJSONFile(path string, v any, force bool, opts ...atomicfile.Option) error {
 	return atomicfile.Write(path, force, func(w io.Writer) error {
 		enc := json.NewEncoder(w)
 		enc.SetIndent("", "  ")
 		return enc.Encode(v)
-	})
+	}, opts...)
 }
 
 type verifyOptions struct {
@@ -306,8 +430,12 @@ func newVerifyCmd(s *streams, runF func(*verifyOptions) error) *cobra.Command {
 		Short: "Re-derive a layout from its recorded plan and seed",
 		Long: `Read the plan, seed and assignment recorded in FILE (a workbook written by
 allot layout -o, or its .json layout), run the randomisation again and report
-"matches", or every unit whose recorded assignment differs. A blind workbook
-needs its --key. Exit status 1 when the layout differs.` + "\n" + exitHelp,
+"matches", or every unit whose recorded assignment differs (moved, missing,
+listed twice, spare) and, for a workbook, every visible design cell (unit,
+block, position, row, column, treatment or code) edited since it was
+written, by sheet and cell. A blind layout needs its --key to re-derive the
+allocation; without it only the visible cells of a workbook are checked.
+Exit status 1 when the layout differs.` + "\n" + exitHelp,
 		Example: `  allot layout verify trial.xlsx
   allot layout verify mice.xlsx --key trial-key.json`,
 		Args: func(c *cobra.Command, args []string) error {
@@ -349,11 +477,21 @@ func verifyRun(s *streams, o *verifyOptions) error {
 		return err
 	}
 	var lay design.Layout
+	var visible []workbook.Problem
 	switch strings.ToLower(filepath.Ext(o.file)) {
 	case ".xlsx":
-		if lay, err = workbook.ReadLayout(o.file, key); err != nil {
+		fl, err := workbook.Read(o.file, workbook.ReadOptions{Key: key})
+		if err != nil {
 			return inputErr(err)
 		}
+		if fl.Sealed {
+			if d := fl.DesignProblems(); len(d) > 0 {
+				printVisible(s, o.file, d)
+				return &failedError{err: fmt.Errorf("%s: visible design cells were edited (give --key to re-derive the allocation as well)", o.file)}
+			}
+			return inputErr(fmt.Errorf("%s: the workbook is blind: its visible design cells agree with the recorded layout; give its key file with --key to re-derive the allocation", o.file))
+		}
+		lay, visible = fl.Layout, fl.DesignProblems()
 	case ".json":
 		b, err := os.ReadFile(o.file)
 		if err != nil {
@@ -361,20 +499,17 @@ func verifyRun(s *streams, o *verifyOptions) error {
 		}
 		// Verify re-derives the assignment itself, so only the plan must be
 		// sound here: a moved unit is what verify reports, not an error.
-		var doc struct {
-			Fingerprint string `json:"fingerprint"`
-			design.Layout
+		if lay, err = design.DecodeLayout(b); err != nil {
+			return inputErr(fmt.Errorf("%s: %w", o.file, err))
 		}
-		if err := json.Unmarshal(b, &doc); err != nil {
-			return inputErr(fmt.Errorf("%s: not a layout JSON file: %w", o.file, err))
+		if lay.Plan.Blind {
+			if key == nil {
+				return inputErr(fmt.Errorf("%s: the layout is blind: give its key file with --key to re-derive it", o.file))
+			}
+			if lay, err = randomize.Unblind(lay, *key); err != nil {
+				return inputErr(fmt.Errorf("--key %s: %w", o.key, err))
+			}
 		}
-		if err := doc.Plan.Validate(); err != nil {
-			return inputErr(fmt.Errorf("%s: the recorded plan is not valid: %w", o.file, err))
-		}
-		if doc.Fingerprint != doc.Plan.Fingerprint() {
-			return inputErr(fmt.Errorf("%s: the plan does not match its fingerprint: the plan was edited", o.file))
-		}
-		lay = doc.Layout
 	default:
 		return usagef("%s: give a workbook (.xlsx) or a layout (.json)", o.file)
 	}
@@ -382,14 +517,34 @@ func verifyRun(s *streams, o *verifyOptions) error {
 	if err != nil {
 		return inputErr(fmt.Errorf("%s: %w", o.file, err))
 	}
-	if len(diffs) == 0 {
-		fmt.Fprintf(s.Out, "%s: matches: all %d units are where plan %s with seed %d puts them (generator %s)\n",
-			o.file, len(lay.Units), lay.Plan.Fingerprint()[:12], lay.Plan.Seed, lay.Plan.Generator)
+	if len(diffs) == 0 && len(visible) == 0 {
+		seed := fmt.Sprintf("seed %d", lay.Plan.Seed)
+		if lay.Plan.Blind {
+			seed = "the key's seed and secret"
+		}
+		fmt.Fprintf(s.Out, "%s: matches: all %d units are where plan %s with %s puts them (generator %s)", o.file, len(lay.Units), lay.Plan.Fingerprint()[:12], seed, lay.Plan.Generator)
+		if strings.EqualFold(filepath.Ext(o.file), ".xlsx") {
+			fmt.Fprint(s.Out, ", and every visible design cell agrees")
+		}
+		fmt.Fprintln(s.Out)
 		return nil
 	}
-	fmt.Fprintf(s.Out, "%s: %d unit(s) differ from the re-derived layout:\n", o.file, len(diffs))
-	for _, d := range diffs {
-		fmt.Fprintf(s.Out, "  unit %s: recorded %s; derived %s\n", d.Unit, d.Recorded, d.Derived)
+	if len(diffs) > 0 {
+		fmt.Fprintf(s.Out, "%s: %d unit(s) differ from the re-derived layout:\n", o.file, len(diffs))
+		for _, d := range diffs {
+			fmt.Fprintf(s.Out, "  unit %s: recorded %s; derived %s\n", d.Unit, d.Recorded, d.Derived)
+		}
 	}
+	printVisible(s, o.file, visible)
 	return &failedError{err: fmt.Errorf("%s: the layout does not match its plan and seed", o.file)}
+}
+
+func printVisible(s *streams, file string, visible []workbook.Problem) {
+	if len(visible) == 0 {
+		return
+	}
+	fmt.Fprintf(s.Out, "%s: %d visible design cell(s) or row(s) differ from the recorded layout:\n", file, len(visible))
+	for _, p := range visible {
+		fmt.Fprintf(s.Out, "  %s\n", p)
+	}
 }

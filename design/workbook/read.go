@@ -11,6 +11,7 @@ import (
 	"strings"
 
 	"github.com/allotproject/allot/design"
+	"github.com/allotproject/allot/randomize"
 
 	"github.com/xuri/excelize/v2"
 )
@@ -39,6 +40,22 @@ type Problem struct {
 	Cell     string   `json:"cell,omitempty"`
 	Unit     string   `json:"unit,omitempty"`
 	Msg      string   `json:"message"`
+	// design marks a problem with the design cells or rows (an edited
+	// Unit, block, position, row, column, treatment or code cell; a
+	// missing, repeated or unknown unit), as opposed to response cells.
+	design bool
+}
+
+// DesignProblems returns the problems with design cells and rows: what
+// allot layout verify reports besides the re-derivation.
+func (f *Filled) DesignProblems() []Problem {
+	var out []Problem
+	for _, p := range f.Problems {
+		if p.design {
+			out = append(out, p)
+		}
+	}
+	return out
 }
 
 func (p Problem) String() string {
@@ -192,7 +209,7 @@ func readData(f *excelize.File, path string, key *design.Key) (design.Layout, []
 	if err := json.Unmarshal(st.Units, &units); err != nil {
 		return design.Layout{}, nil, fail("A4", "the stored units are not valid JSON: "+err.Error())
 	}
-	l := design.Layout{Plan: p, Units: units}
+	l := design.Layout{Plan: p, Units: units, Spares: st.Spares}
 	if !p.Blind {
 		if p.Fingerprint() != fp {
 			return design.Layout{}, nil, fail("B1", "the plan fingerprint does not match the stored plan: the plan sheet was edited")
@@ -205,31 +222,30 @@ func readData(f *excelize.File, path string, key *design.Key) (design.Layout, []
 	if len(st.Labels) != len(units) {
 		return design.Layout{}, nil, fail("A4", "the stored blind codes do not match the units: the plan sheet was edited")
 	}
+	for i := range units {
+		units[i].Treatment, units[i].Code = -1, st.Labels[i]
+	}
+	if p.BlindMode != "" {
+		// The fingerprint of a plan with a blind mode leaves the seed out:
+		// it can be checked without the key.
+		if p.Fingerprint() != fp {
+			return design.Layout{}, nil, fail("B1", "the plan fingerprint does not match the stored plan: the plan sheet was edited")
+		}
+		if err := l.Check(); err != nil {
+			return design.Layout{}, nil, fail("A4", "the stored layout is inconsistent: "+err.Error())
+		}
+	}
 	if key == nil {
 		return l, st.Labels, nil
 	}
-	// Unblind: the key's seed must reproduce the full plan's fingerprint.
-	full := p
-	full.Seed = key.Seed
-	if key.Fingerprint != fp || full.Fingerprint() != fp {
+	if key.Format == design.KeyFormatV1 && key.Fingerprint != fp {
 		return design.Layout{}, nil, &FileError{Path: path, Sheet: SheetData, Cell: "B1", Msg: "the key belongs to another plan (its fingerprint and seed do not reproduce this workbook's); give the key file written with this layout"}
 	}
-	byCode := map[string]int{}
-	for t, c := range key.Codes {
-		byCode[c] = t
+	full, err := randomize.Unblind(l, *key)
+	if err != nil {
+		return design.Layout{}, nil, &FileError{Path: path, Sheet: SheetData, Cell: "B1", Msg: err.Error()}
 	}
-	for i := range units {
-		t, ok := byCode[st.Labels[i]]
-		if !ok {
-			return design.Layout{}, nil, fail("A4", fmt.Sprintf("unit %s has code %q, which the key does not know", units[i].ID, st.Labels[i]))
-		}
-		units[i].Treatment = t
-	}
-	l = design.Layout{Plan: full, Units: units, Codes: key.Codes}
-	if err := l.Check(); err != nil {
-		return design.Layout{}, nil, fail("A4", "the unblinded layout is inconsistent: "+err.Error())
-	}
-	return l, st.Labels, nil
+	return full, st.Labels, nil
 }
 
 func readEntry(f *excelize.File, path string, l design.Layout, labels []string, opt ReadOptions) (*Filled, error) {
@@ -277,6 +293,10 @@ func checkRows(path, sheet string, rows [][]string, isText func(ref string) bool
 	add := func(sev Severity, cellRef, unit, msg string) {
 		out.Problems = append(out.Problems, Problem{Severity: sev, Level: sev.String(), Sheet: sheet, Cell: cellRef, Unit: unit, Msg: msg})
 	}
+	addDesign := func(cellRef, unit, msg string) {
+		add(Error, cellRef, unit, msg)
+		out.Problems[len(out.Problems)-1].design = true
+	}
 	if len(rows) == 0 {
 		return nil, &FileError{Path: path, Sheet: sheet, Cell: "A1", Msg: "the sheet is empty: the header row and unit rows were deleted"}
 	}
@@ -315,14 +335,14 @@ func checkRows(path, sheet string, rows [][]string, isText func(ref string) bool
 		id := at(0)
 		ui, ok := index[id]
 		if !ok {
-			add(Error, ref(0), id, fmt.Sprintf("unit %q is not in the plan; correct the ID or delete the row", id))
+			addDesign(ref(0), id, fmt.Sprintf("unit %q is not in the plan; correct the ID or delete the row", id))
 			continue
 		}
 		sub, key := 1, id
 		if c.subsamples > 0 {
 			n, err := strconv.Atoi(at(nd - 1))
 			if err != nil || n < 1 || n > c.subsamples {
-				add(Error, ref(nd-1), id, fmt.Sprintf("subsample %q: must be a whole number from 1 to %d; restore it", at(nd-1), c.subsamples))
+				addDesign(ref(nd-1), id, fmt.Sprintf("subsample %q: must be a whole number from 1 to %d; restore it", at(nd-1), c.subsamples))
 				continue
 			}
 			sub, key = n, id+"/"+strconv.Itoa(n)
@@ -332,7 +352,7 @@ func checkRows(path, sheet string, rows [][]string, isText func(ref string) bool
 			if c.subsamples > 0 {
 				what += fmt.Sprintf(" subsample %d", sub)
 			}
-			add(Error, ref(0), id, fmt.Sprintf("%s appears again (first in %s); delete the duplicate row", what, prev))
+			addDesign(ref(0), id, fmt.Sprintf("%s appears again (first in %s); delete the duplicate row", what, prev))
 			continue
 		}
 		seenRow[key] = ref(0)
@@ -346,7 +366,7 @@ func checkRows(path, sheet string, rows [][]string, isText func(ref string) bool
 		want := designCells(c, l.Units[ui], sub, label, tr)
 		for j := 1; j < len(want); j++ {
 			if got := at(j); got != want[j] {
-				add(Error, ref(j), id, fmt.Sprintf("%s was %q in the plan and is now %q; restore it (the plan, not the sheet, says what each unit received)", heads[j], want[j], got))
+				addDesign(ref(j), id, fmt.Sprintf("%s was %q in the plan and is now %q; restore it (the plan, not the sheet, says what each unit received)", heads[j], want[j], got))
 			}
 		}
 		for k, resp := range p.Responses {
@@ -373,7 +393,7 @@ func checkRows(path, sheet string, rows [][]string, isText func(ref string) bool
 	for i, u := range l.Units {
 		for sub := 1; c.subsamples > 0 && sub <= c.subsamples; sub++ {
 			if _, ok := seenRow[u.ID+"/"+strconv.Itoa(sub)]; !ok && seenRow[u.ID] != "" {
-				add(Error, "", u.ID, fmt.Sprintf("unit %s subsample %d has no row: a row was deleted; add it back", u.ID, sub))
+				addDesign("", u.ID, fmt.Sprintf("unit %s subsample %d has no row: a row was deleted; add it back", u.ID, sub))
 			}
 		}
 		if _, ok := seenRow[u.ID]; !ok {
@@ -384,7 +404,7 @@ func checkRows(path, sheet string, rows [][]string, isText func(ref string) bool
 			case u.Treatment >= 0:
 				what = " (" + tr[u.Treatment].Name + ")"
 			}
-			add(Error, "", u.ID, fmt.Sprintf("unit %s%s has no row: a row was deleted; add it back with its unit ID", u.ID, what))
+			addDesign("", u.ID, fmt.Sprintf("unit %s%s has no row: a row was deleted; add it back with its unit ID", u.ID, what))
 		}
 	}
 	for k, resp := range p.Responses {
@@ -394,6 +414,8 @@ func checkRows(path, sheet string, rows [][]string, isText func(ref string) bool
 			if _, ok := seenRow[u.ID]; ok && out.Values[k][i].Missing {
 				name := ""
 				switch {
+				case labels != nil && p.BlindMode == design.BlindUnit:
+					name = "" // one code per unit: counted together
 				case labels != nil:
 					name = labels[i]
 				default:
@@ -414,6 +436,10 @@ func checkRows(path, sheet string, rows [][]string, isText func(ref string) bool
 			}
 		}
 		for _, name := range order {
+			if name == "" {
+				add(Warning, "", "", fmt.Sprintf("%s: %d unit(s) have no value (missing)", resp.Name, missing[name]))
+				continue
+			}
 			add(Warning, "", "", fmt.Sprintf("%s: %d unit(s) of %s %q have no value (missing)", resp.Name, missing[name], strings.ToLower(treatmentWord(p)), name))
 		}
 	}

@@ -8,7 +8,8 @@
 //   - "Study": the plan in plain words (title, design, treatments, blocks,
 //     seed, fingerprint, allot version, created time) and instructions.
 //   - "Entry": one row per unit below a frozen header row: Unit, the block
-//     column (RCBD), Position, Treatment, one column per factor (factorial
+//     column (RCBD), Position, Row and Column (grid plans), Treatment (or
+//     Code, blind plans), one column per factor (factorial
 //     plans), one column per response, Notes. Design columns are locked by
 //     sheet protection without a password; response and Notes cells are not.
 //   - "Map": each block as a row of positions with unit IDs and treatments.
@@ -18,7 +19,10 @@
 //     characters (a cell holds 32,767). For a blind plan the document holds
 //     the plan without its seed, units without their treatment (−1) and
 //     "labels", each unit's code; B1 is the full plan's fingerprint, which
-//     a key file must reproduce. Another program may re-save the
+//     a key file must reproduce (for plans with a blind mode, the plan's
+//     fingerprint, which leaves the seed out). "spares" lists the units of
+//     the list that the plan leaves out (also named on the Study sheet).
+//     Another program may re-save the
 //     sheet as merely hidden; reading does not depend on how hidden it is.
 package workbook
 
@@ -26,6 +30,8 @@ import (
 	"crypto/sha256"
 	"encoding/hex"
 	"encoding/json"
+
+	"github.com/allotproject/allot/design"
 )
 
 // Sheet names and fixed headers.
@@ -37,6 +43,8 @@ const (
 
 	headUnit      = "Unit"
 	headPosition  = "Position"
+	headRow       = "Row"
+	headColumn    = "Column"
 	headTreatment = "Treatment"
 	headCode      = "Code"
 	headOrder     = "Measure order"
@@ -59,6 +67,8 @@ type stored struct {
 	Units json.RawMessage `json:"units"`
 	// Labels holds each unit's blind code (blind plans only).
 	Labels []string `json:"labels,omitempty"`
+	// Spares lists the units of the list left out (Plan.PerBlock).
+	Spares []design.Spare `json:"spares,omitempty"`
 }
 
 func digest(b []byte) string {

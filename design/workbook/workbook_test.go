@@ -444,3 +444,77 @@ func TestEntryHygiene(t *testing.T) {
 		t.Error("the plan sheet is visible")
 	}
 }
+
+// TestBlindModesAndSpares: a blind workbook (one code per treatment or per
+// unit) written from the sealed layout names no treatment on any sheet but
+// the plan's description, reads back with its key, and lists its spares;
+// a grid plan has Row and Column columns.
+func TestBlindModesAndSpares(t *testing.T) {
+	for _, mode := range []string{design.BlindTreatment, design.BlindUnit} {
+		t.Run(mode, func(t *testing.T) {
+			p := design.Plan{
+				Title: "spares", Design: design.RCBD, Factors: []design.Factor{{Name: "dose", Levels: []string{"qlow", "qmid", "qhigh"}}},
+				Reps: []int{1, 1, 1}, BlockName: "litter", Responses: []design.Response{{Name: "score"}},
+				Seed: 5, Blind: true, BlindMode: mode, PerBlock: 3, Grid: &design.Grid{Rows: 2, Cols: 2, Numbering: design.RowWise, Placement: design.RandomPlaces},
+			}
+			rows := []design.UnitRow{{ID: "a", Block: "L1"}, {ID: "b", Block: "L1"}, {ID: "c", Block: "L1"}, {ID: "d", Block: "L1"},
+				{ID: "e", Block: "L2"}, {ID: "f", Block: "L2"}, {ID: "g", Block: "L2"}}
+			p.Units, p.Blocks = design.BlocksFromColumn(rows)
+			l, err := randomize.Assign(p)
+			if err != nil {
+				t.Fatal(err)
+			}
+			path := filepath.Join(t.TempDir(), "blind.xlsx")
+			if err := Write(path, l.Sealed(), meta, false); err != nil {
+				t.Fatal(err)
+			}
+			g, _ := excelize.OpenFile(path)
+			for _, sheet := range []string{SheetEntry, SheetMap, SheetStudy} {
+				cells, _ := g.GetRows(sheet)
+				for _, r := range cells {
+					for _, v := range r {
+						if strings.HasPrefix(v, "dose: ") {
+							continue // the Study sheet's list of levels
+						}
+						for _, name := range []string{"qlow", "qmid", "qhigh"} {
+							if strings.Contains(v, name) {
+								t.Errorf("sheet %s names %q: %q", sheet, name, v)
+							}
+						}
+					}
+				}
+			}
+			head, _ := g.GetRows(SheetEntry)
+			if got := strings.Join(head[0], ","); got != "Unit,Litter,Position,Row,Column,Code,score,Notes" {
+				t.Errorf("Entry header %s", got)
+			}
+			study, _ := g.GetRows(SheetStudy)
+			spares := ""
+			for _, r := range study {
+				if len(r) > 1 && r[0] == "Spare units" {
+					spares = r[1]
+				}
+			}
+			if !strings.Contains(spares, "litter L1: ") || len(l.Spares) != 1 {
+				t.Errorf("spares %v, Study row %q", l.Spares, spares)
+			}
+			fl, err := Read(path, ReadOptions{})
+			if err != nil || !fl.Sealed || fl.Errors() != 0 {
+				t.Fatalf("sealed read: %v %v", err, fl.Problems)
+			}
+			key := design.KeyOf(l)
+			fl, err = Read(path, ReadOptions{Key: &key})
+			if err != nil {
+				t.Fatal(err)
+			}
+			for i, u := range fl.Layout.Units {
+				if u.Treatment != l.Units[i].Treatment || u.Row != l.Units[i].Row {
+					t.Fatalf("unit %s unblinded as %d, laid out as %d", u.ID, u.Treatment, l.Units[i].Treatment)
+				}
+			}
+			if len(fl.Layout.Spares) != 1 || fl.Layout.Spares[0] != l.Spares[0] {
+				t.Errorf("spares read back %v", fl.Layout.Spares)
+			}
+		})
+	}
+}

@@ -23,6 +23,7 @@ type Meta struct {
 // columns describes the Entry sheet's columns for a plan.
 type columns struct {
 	block      bool
+	grid       bool // Row and Column after Position
 	factors    bool
 	order      bool
 	blind      bool
@@ -31,7 +32,7 @@ type columns struct {
 }
 
 func layoutColumns(p design.Plan) columns {
-	return columns{block: p.Design == design.RCBD, factors: len(p.Factors) > 1 && !p.Blind, order: p.Order, blind: p.Blind, subsamples: p.Subsamples, responses: p.Responses}
+	return columns{block: p.Design == design.RCBD, grid: p.Grid != nil, factors: len(p.Factors) > 1 && !p.Blind, order: p.Order, blind: p.Blind, subsamples: p.Subsamples, responses: p.Responses}
 }
 
 // rowsPer returns the number of Entry rows of a unit.
@@ -44,6 +45,9 @@ func (c columns) headers(p design.Plan) []string {
 		h = append(h, blockHeader(p))
 	}
 	h = append(h, headPosition)
+	if c.grid {
+		h = append(h, headRow, headColumn)
+	}
 	if c.blind {
 		h = append(h, headCode)
 	} else {
@@ -71,6 +75,9 @@ func (c columns) designCount(p design.Plan) int {
 	n := 3
 	if c.block {
 		n++
+	}
+	if c.grid {
+		n += 2
 	}
 	if c.factors {
 		n += len(p.Factors)
@@ -100,7 +107,11 @@ func designCells(c columns, u design.Unit, sub int, label string, tr []design.Tr
 	if c.block {
 		row = append(row, strconv.Itoa(u.Block))
 	}
-	row = append(row, strconv.Itoa(u.Position), label)
+	row = append(row, strconv.Itoa(u.Position))
+	if c.grid {
+		row = append(row, strconv.Itoa(u.Row), strconv.Itoa(u.Col))
+	}
+	row = append(row, label)
 	if c.factors {
 		row = append(row, tr[u.Treatment].Levels...)
 	}
@@ -193,9 +204,9 @@ func writeStudy(f *excelize.File, l design.Layout, meta Meta) error {
 		}
 		resp = append(resp, s)
 	}
-	designName := "completely randomised design"
+	designName := p.DesignName()
 	if p.Design == design.RCBD {
-		designName = fmt.Sprintf("randomised complete block design, %d %ss", p.Blocks, p.BlockName)
+		designName = fmt.Sprintf("%s, %d %s", designName, p.Blocks, design.Plural(p.BlockName))
 	}
 	rows := [][2]string{
 		{"Title", p.Title},
@@ -212,6 +223,14 @@ func writeStudy(f *excelize.File, l design.Layout, meta Meta) error {
 	}
 	if p.Control != "" {
 		rows = append(rows[:4], append([][2]string{{"Control", p.Control}}, rows[4:]...)...)
+	}
+	if len(l.Spares) > 0 {
+		rows = append(rows, [2]string{"Spare units", spareText(l)})
+	}
+	if p.BlindMode == design.BlindUnit {
+		rows = append(rows, [2]string{"Blinding", "one code per unit; the key file holds each code's treatment"})
+	} else if p.Blind {
+		rows = append(rows, [2]string{"Blinding", "one code per treatment; the key file holds each code's treatment"})
 	}
 	if err := f.SetCellValue(SheetStudy, "A1", "Data-entry workbook: "+p.Title); err != nil {
 		return err
@@ -232,7 +251,7 @@ func writeStudy(f *excelize.File, l design.Layout, meta Meta) error {
 		"Leave a cell empty when a unit could not be measured, and say why in Notes.",
 		"Type numbers only (no units, no \"n/a\"); use a decimal point.",
 		"You may sort or filter the rows: allot matches rows by unit ID.",
-		"Do not change the Unit, " + blockOrNot(p) + "Position or " + treatmentWord(p) + " cells.",
+		"Do not change the Unit, " + blockOrNot(p) + "Position, " + gridOrNot(p) + "or " + treatmentWord(p) + " cells.",
 		"Run `allot check` on the filled file before analysing it.",
 	} {
 		r++
@@ -241,6 +260,21 @@ func writeStudy(f *excelize.File, l design.Layout, meta Meta) error {
 	f.SetColWidth(SheetStudy, "A", "A", 20)
 	f.SetColWidth(SheetStudy, "B", "B", 70)
 	return nil
+}
+
+// spareText lists the spare units block by block: units of the list that
+// the plan does not use, and which get no treatment.
+func spareText(l design.Layout) string {
+	labels := l.Plan.BlockLabels()
+	var parts []string
+	for i, sp := range l.Spares {
+		if i == 0 || sp.Block != l.Spares[i-1].Block {
+			parts = append(parts, fmt.Sprintf("%s %s: %s", l.Plan.BlockName, labels[sp.Block-1], sp.ID))
+		} else {
+			parts[len(parts)-1] += ", " + sp.ID
+		}
+	}
+	return strings.Join(parts, "; ") + " (not in the experiment: no treatment, no row on the Entry sheet)"
 }
 
 func treatmentWord(p design.Plan) string {
@@ -255,6 +289,13 @@ func seedText(p design.Plan) string {
 		return "kept with the unblinding key (blind study)"
 	}
 	return strconv.FormatUint(p.Seed, 10)
+}
+
+func gridOrNot(p design.Plan) string {
+	if p.Grid != nil {
+		return headRow + ", " + headColumn + " "
+	}
+	return ""
 }
 
 func blockOrNot(p design.Plan) string {
@@ -385,10 +426,14 @@ func writeEntry(f *excelize.File, l design.Layout) error {
 // numericCount is the number of leading columns written as numbers when they
 // parse as integers: Unit, the block column and Position.
 func (c columns) numericCount() int {
+	n := 2
 	if c.block {
-		return 3
+		n++
 	}
-	return 2
+	if c.grid {
+		n += 2
+	}
+	return n
 }
 
 func writeMap(f *excelize.File, l design.Layout) error {
@@ -413,8 +458,9 @@ func writeMap(f *excelize.File, l design.Layout) error {
 		for _, u := range l.Units {
 			byBlock[u.Block] = append(byBlock[u.Block], u)
 		}
+		labels := p.BlockLabels()
 		for b := 1; b <= p.Blocks; b++ {
-			f.SetCellStr(SheetMap, cell(1, top), fmt.Sprintf("%s %s", blockHeader(p), p.BlockLabel(b)))
+			f.SetCellStr(SheetMap, cell(1, top), fmt.Sprintf("%s %s", blockHeader(p), labels[b-1]))
 			f.SetCellStyle(SheetMap, cell(1, top), cell(1, top), bold)
 			for c := 1; c <= g.Cols; c++ {
 				f.SetCellStr(SheetMap, cell(c+1, top), fmt.Sprintf("col %d", c))
@@ -438,9 +484,10 @@ func writeMap(f *excelize.File, l design.Layout) error {
 		f.SetCellInt(SheetMap, cell(i+1, 3), int64(i))
 	}
 	f.SetCellStyle(SheetMap, cell(2, 3), cell(width+1, 3), bold)
+	labels := p.BlockLabels()
 	for _, u := range l.Units {
 		row := u.Block + 3
-		f.SetCellStr(SheetMap, cell(1, row), fmt.Sprintf("%s %s", blockHeader(p), p.BlockLabel(u.Block)))
+		f.SetCellStr(SheetMap, cell(1, row), fmt.Sprintf("%s %s", blockHeader(p), labels[u.Block-1]))
 		f.SetCellStr(SheetMap, cell(u.Position+1, row), text(u))
 	}
 	if width > 0 {
@@ -451,7 +498,7 @@ func writeMap(f *excelize.File, l design.Layout) error {
 }
 
 func writeData(f *excelize.File, l design.Layout) error {
-	st := stored{Plan: l.Plan.Canonical()}
+	st := stored{Plan: l.Plan.Canonical(), Spares: l.Spares}
 	units := l.Units
 	if l.Plan.Blind {
 		// Keep the seed and the meaning of the codes out of the workbook:

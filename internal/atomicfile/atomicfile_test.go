@@ -5,6 +5,7 @@ import (
 	"io"
 	"os"
 	"path/filepath"
+	"syscall"
 	"testing"
 )
 
@@ -37,5 +38,31 @@ func TestWrite(t *testing.T) {
 	st, _ := os.Stat(p)
 	if len(entries) != 1 || st.Mode().Perm()&0o044 == 0 {
 		t.Errorf("entries %v, mode %v", entries, st.Mode())
+	}
+}
+
+func TestModes(t *testing.T) {
+	dir := t.TempDir()
+	put := func(w io.Writer) error { _, err := io.WriteString(w, "x"); return err }
+	old := syscall.Umask(0o027)
+	defer syscall.Umask(old)
+	pub, key := filepath.Join(dir, "out.txt"), filepath.Join(dir, "key.json")
+	if err := Write(pub, false, put); err != nil {
+		t.Fatal(err)
+	}
+	if err := Write(key, false, put, Private()); err != nil {
+		t.Fatal(err)
+	}
+	for _, c := range []struct {
+		path string
+		want os.FileMode
+	}{{pub, 0o640}, {key, 0o600}} { // 0666 less umask 027; the key always 0600
+		st, err := os.Stat(c.path)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if got := st.Mode().Perm(); got != c.want {
+			t.Errorf("%s: mode %o, want %o", c.path, got, c.want)
+		}
 	}
 }
