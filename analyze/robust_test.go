@@ -4,6 +4,8 @@ import (
 	"encoding/json"
 	"math"
 	"os"
+	"strconv"
+	"strings"
 	"testing"
 )
 
@@ -164,4 +166,86 @@ func TestFriedmanNeedsCompleteBlocks(t *testing.T) {
 	if _, err := Friedman(d, 0.05); err == nil {
 		t.Fatal("an incomplete block must be refused")
 	}
+}
+
+func TestTransformReference(t *testing.T) {
+	b, err := os.ReadFile("../testdata/reference/robust.json")
+	if err != nil {
+		t.Fatal(err)
+	}
+	var ref struct {
+		Transform []struct {
+			Name, Kind string
+			Values     []string
+			Groups     []string
+			F, P       float64
+			Means      []float64
+		}
+	}
+	if err := json.Unmarshal(b, &ref); err != nil {
+		t.Fatal(err)
+	}
+	for _, c := range ref.Transform {
+		t.Run(c.Name, func(t *testing.T) {
+			d := Data{Response: "y", Values: c.Values, Factors: []Column{{Name: "g", Values: c.Groups}}}
+			td, err := Transform(d, c.Kind)
+			if err != nil {
+				t.Fatal(err)
+			}
+			tab, err := Fit(td, Options{})
+			if err != nil {
+				t.Fatal(err)
+			}
+			// statsmodels ols + anova_lm on numpy's transform of the data.
+			refNear(t, "F", tab.Terms[0].F, c.F, 1e-10)
+			refNear(t, "p", tab.Terms[0].P, c.P, 1e-9)
+			gs := summaries([]string{"g1", "g2", "g3", "g4"}[:len(c.Means)], groupIndex(c.Groups), parseAll(t, td.Values))
+			for i, m := range c.Means {
+				refNear(t, "mean", gs[i].Mean, m, 1e-12)
+				if bt := BackTransform(c.Kind, gs[i].Mean); c.Kind == TransformLog && math.Abs(math.Log(bt)-m) > 1e-12 {
+					t.Errorf("back-transformed log mean %g does not invert %g", bt, m)
+				}
+			}
+		})
+	}
+}
+
+func TestTransformDomain(t *testing.T) {
+	d := Data{Response: "y", Values: []string{"0", "1", "2"}, Units: []string{"101", "102", "103"},
+		Factors: []Column{{Name: "g", Values: []string{"a", "b", "b"}}}}
+	for _, kind := range []string{TransformLog, TransformLogit} {
+		if _, err := Transform(d, kind); err == nil || !strings.Contains(err.Error(), "unit 101") {
+			t.Errorf("%s of 0: %v, want an error naming unit 101", kind, err)
+		}
+	}
+	if _, err := Transform(d, "cube"); err == nil {
+		t.Error("unknown transformation accepted")
+	}
+}
+
+func groupIndex(labels []string) []int {
+	seen := map[string]int{}
+	out := make([]int, len(labels))
+	for i, l := range labels {
+		j, ok := seen[l]
+		if !ok {
+			j = len(seen)
+			seen[l] = j
+		}
+		out[i] = j
+	}
+	return out
+}
+
+func parseAll(t *testing.T, vals []string) []float64 {
+	t.Helper()
+	out := make([]float64, len(vals))
+	for i, s := range vals {
+		v, err := strconv.ParseFloat(s, 64)
+		if err != nil {
+			t.Fatal(err)
+		}
+		out[i] = v
+	}
+	return out
 }

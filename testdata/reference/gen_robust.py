@@ -174,6 +174,30 @@ def friedman_case(name, b, k, shifts, exact, ties_round):
     return out
 
 
+def transform_case(name, kind, ns, locs, dec):
+    import pandas as pd
+    import statsmodels.formula.api as smf
+    from statsmodels.stats.anova import anova_lm
+    vals, labs = [], []
+    for g, (n, m) in enumerate(zip(ns, locs)):
+        for _ in range(n):
+            if kind == "log":
+                v = round(float(np.exp(rng.normal(m, 0.5))), dec)
+            elif kind == "sqrt":
+                v = float(rng.poisson(m))
+            else:
+                v = round(float(1 / (1 + np.exp(-rng.normal(m, 0.6)))), dec)
+            vals.append(v)
+            labs.append("g%d" % (g + 1))
+    f = {"log": np.log, "sqrt": np.sqrt, "logit": lambda p: np.log(p / (1 - p))}[kind]
+    df = pd.DataFrame({"y": f(np.array(vals)), "g": labs})
+    fit = smf.ols("y ~ C(g, Sum)", data=df).fit()
+    tab = anova_lm(fit, typ=3)
+    means = [float(df.y[df.g == l].mean()) for l in sorted(set(labs), key=labs.index)]
+    return {"name": name, "kind": kind, "values": [repr(v) for v in vals], "groups": labs,
+            "f": float(tab["F"].iloc[1]), "p": float(tab["PR(>F)"].iloc[1]), "means": means}
+
+
 cases = {
     "generator": "testdata/reference/gen_robust.py",
     "scipy": scipy.__version__, "statsmodels": statsmodels.__version__,
@@ -191,6 +215,13 @@ cases = {
         friedman_case("three treatments, six blocks, exact", 6, 3, [0, 0.7, 1.5], True, 1),
         friedman_case("four treatments, four blocks, exact", 4, 4, [0, 0.5, 1.0, 0.2], True, 10),
         friedman_case("five treatments, ten blocks", 10, 5, [0, 0.4, 0.8, 1.2, 0.1], False, 100),
+    ],
+    # One-way ANOVA of transformed values: statsmodels ols + anova_lm
+    # (Type 3, sum-to-zero) on numpy's log, sqrt and logit of the data.
+    "transform": [
+        transform_case("log", "log", [6, 6, 6], [1.0, 1.4, 1.2], 3),
+        transform_case("sqrt", "sqrt", [8, 8, 8, 8], [3, 5, 8, 4], 0),
+        transform_case("logit", "logit", [5, 7, 6], [-0.5, 0.3, 0.8], 4),
     ],
 }
 with open(os.path.join(HERE, "robust.json"), "w") as f:
