@@ -150,7 +150,7 @@ func welchSections(r *analyze.WelchResult, cautions []string) []section {
 	return []section{test, cmp, {title: "Cautions", parts: cautionParts(cautions)}}
 }
 
-// dfText formats degrees of freedom: whole numbers as such, fractional
+// dfNum formats degrees of freedom: whole numbers as such, fractional
 // (Welch–Satterthwaite) ones with four significant digits.
 func dfNum(df float64) string {
 	if df == math.Trunc(df) && !math.IsInf(df, 0) {
