@@ -407,13 +407,3 @@ func (res *ANCOVAResult) adjustedMeans(d Data, mdl *model, full *olsFit, p int, 
 		res.Pairs = append(res.Pairs, pairs)
 	}
 }
-
-// CovariateNote describes how the covariate was used, for reports.
-func (res *ANCOVAResult) CovariateNote() string {
-	dir := "rises"
-	if res.Slope < 0 {
-		dir = "falls"
-	}
-	return fmt.Sprintf("Adjusted for %s: the response %s by %.4g per unit of %s within treatments (t = %.3g, p = %.3g); adjusted means are at %s = %.4g.",
-		res.Covariate, dir, math.Abs(res.Slope), res.Covariate, res.SlopeT, res.SlopeP, res.Covariate, res.CovMean)
-}
