@@ -55,10 +55,10 @@ type SplitPlotResult struct {
 	Sub      string        `json:"sub_plot_factor"`
 	Terms    []StratumTerm `json:"terms"`
 	// MSa and MSb are the whole-plot and sub-plot error mean squares.
-	MSa   float64 `json:"ms_error_a"`
-	DFa   int     `json:"df_error_a"`
-	MSb   float64 `json:"ms_error_b"`
-	DFb   int     `json:"df_error_b"`
+	MSa   float64  `json:"ms_error_a"`
+	DFa   int      `json:"df_error_a"`
+	MSb   float64  `json:"ms_error_b"`
+	DFb   int      `json:"df_error_b"`
 	Diffs []DiffSE `json:"difference_ses"`
 	// Naive is the one-stratum table that treats every sub-plot as
 	// randomised on its own (for comparison only: its whole-plot F is
