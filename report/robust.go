@@ -13,9 +13,7 @@ import (
 // least-squares ANOVA: Welch's ANOVA, a rank test, or a GLM. Exactly one of
 // the pointers is set.
 type Method struct {
-	Welch *analyze.WelchResult `json:"welch,omitempty"`
-	Rank  *analyze.RankResult  `json:"rank,omitempty"`
-	GLM   *analyze.GLMResult   `json:"glm,omitempty"`
+	*analyze.MethodResult
 	// Unit names the experimental unit (pot, animal).
 	Unit      string `json:"unit"`
 	Missing   int    `json:"missing"`

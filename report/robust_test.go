@@ -44,7 +44,12 @@ func TestMethodGolden(t *testing.T) {
 		t.Fatal(err)
 	}
 	var txt, md strings.Builder
-	for _, m := range []Method{{Welch: w, Unit: "tray"}, {Rank: kw, Unit: "tray"}, {Rank: fr, Unit: "tray"}, {GLM: g, Unit: "tray", Missing: 1}} {
+	for _, m := range []Method{
+		{MethodResult: &analyze.MethodResult{Welch: w}, Unit: "tray"},
+		{MethodResult: &analyze.MethodResult{Rank: kw}, Unit: "tray"},
+		{MethodResult: &analyze.MethodResult{Rank: fr}, Unit: "tray"},
+		{MethodResult: &analyze.MethodResult{GLM: g}, Unit: "tray", Missing: 1},
+	} {
 		if err := MethodText(&txt, m); err != nil {
 			t.Fatal(err)
 		}
