@@ -140,6 +140,16 @@ func ols(y []float64, cols [][]float64) (*olsFit, error) {
 // measured before randomisation should not differ). Checked against
 // statsmodels OLS with anova_lm (testdata/reference/gen_ancova.py).
 func ANCOVA(d Data, covName string, x []string, opt Options) (*ANCOVAResult, error) {
+	return ancova(d, covName, x, opt, true)
+}
+
+// ANCOVATests is ANCOVA without the adjusted means and their comparisons,
+// for simulations that need only the F tests.
+func ANCOVATests(d Data, covName string, x []string, opt Options) (*ANCOVAResult, error) {
+	return ancova(d, covName, x, opt, false)
+}
+
+func ancova(d Data, covName string, x []string, opt Options, means bool) (*ANCOVAResult, error) {
 	if opt.SSType == 0 {
 		opt.SSType = 3
 	}
@@ -284,7 +294,9 @@ func ANCOVA(d Data, covName string, x []string, opt Options) (*ANCOVAResult, err
 		return nil, err
 	}
 	res.balance(mdl, xc, one)
-	res.adjustedMeans(d, mdl, full, p, xc, shift)
+	if means {
+		res.adjustedMeans(d, mdl, full, p, xc, shift)
+	}
 	return res, nil
 }
 
