@@ -50,7 +50,26 @@ type Response struct {
 	Name string   `json:"name"`
 	Min  *float64 `json:"min,omitempty"`
 	Max  *float64 `json:"max,omitempty"`
+	// Kind is what is recorded: empty for a continuous measurement, or
+	// KindCount, KindProportion (successes out of Trials, or out of the
+	// number in the TrialsColumn entry column) or KindScore (an ordinal
+	// score between Min and Max). Counts, proportions and scores are
+	// whole numbers.
+	Kind         string `json:"kind,omitempty"`
+	Trials       int    `json:"trials,omitempty"`
+	TrialsColumn string `json:"trials_column,omitempty"`
 }
+
+// Response kinds.
+const (
+	KindContinuous = ""
+	KindCount      = "count"
+	KindProportion = "proportion"
+	KindScore      = "score"
+)
+
+// Whole reports whether the response is recorded as whole numbers.
+func (r Response) Whole() bool { return r.Kind != KindContinuous }
 
 // Plan is everything needed to lay out, record and analyse the experiment.
 type Plan struct {
@@ -521,6 +540,30 @@ func (p Plan) validateResponses() error {
 		if r.Min != nil && r.Max != nil && *r.Min > *r.Max {
 			return errf("response", "response %q: range %g..%g is empty", r.Name, *r.Min, *r.Max)
 		}
+		if err := r.validKind(); err != nil {
+			return err
+		}
+	}
+	return nil
+}
+
+// validKind checks the fields that go with the response's kind.
+func (r Response) validKind() error {
+	switch r.Kind {
+	case KindContinuous, KindCount:
+	case KindProportion:
+		if (r.Trials > 0) == (r.TrialsColumn != "") {
+			return errf("response", "response %q: a proportion needs the number of trials per unit, either fixed (of=50) or from a column (of=COLUMN), not both", r.Name)
+		}
+		if r.Trials < 0 {
+			return errf("response", "response %q: %d trials: must be 1 or more", r.Name, r.Trials)
+		}
+	case KindScore:
+		if r.Min == nil || r.Max == nil {
+			return errf("response", "response %q: a score needs its range, for example score/0..4", r.Name)
+		}
+	default:
+		return errf("response", "response %q: kind %q: must be count, proportion or score (or none for a continuous measurement)", r.Name, r.Kind)
 	}
 	return nil
 }

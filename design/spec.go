@@ -141,7 +141,14 @@ func ParseFactor(s string) (Factor, error) {
 	return f, nil
 }
 
-// ParseResponse parses NAME or NAME:MIN..MAX (either bound may be empty).
+// ParseResponse parses a response declaration:
+//
+//	NAME                      a continuous measurement
+//	NAME:MIN..MAX             with its plausible range (either bound may be empty)
+//	NAME:count                a count (whole number, 0 or more)
+//	NAME:proportion/of=50     successes out of 50 trials per unit
+//	NAME:proportion/of=COL    successes out of the number in entry column COL
+//	NAME:score/0..4           an ordinal score, whole numbers 0 to 4
 func ParseResponse(s string) (Response, error) {
 	name, rng, hasRange := strings.Cut(s, ":")
 	r := Response{Name: strings.TrimSpace(name)}
@@ -151,9 +158,48 @@ func ParseResponse(s string) (Response, error) {
 	if !hasRange {
 		return r, nil
 	}
+	kind, arg, _ := strings.Cut(strings.TrimSpace(rng), "/")
+	switch kind {
+	case KindCount:
+		if arg != "" {
+			return r, errf("response", "response %q: a count takes no argument; write %s:count", s, r.Name)
+		}
+		zero := 0.0
+		r.Kind, r.Min = KindCount, &zero
+		return r, nil
+	case KindProportion:
+		of, ok := strings.CutPrefix(arg, "of=")
+		of = strings.TrimSpace(of)
+		if !ok || of == "" {
+			return r, errf("response", "response %q: say out of how many, for example %s:proportion/of=50 (or of=COLUMN for a number per unit)", s, r.Name)
+		}
+		zero := 0.0
+		r.Kind, r.Min = KindProportion, &zero
+		if n, err := strconv.Atoi(of); err == nil {
+			if n < 1 || n > 1_000_000 {
+				return r, errf("response", "response %q: of=%d: the number of trials must be between 1 and 1000000", s, n)
+			}
+			r.Trials = n
+			mx := float64(n)
+			r.Max = &mx
+		} else {
+			r.TrialsColumn = of
+		}
+		return r, nil
+	case KindScore:
+		lo, hi, ok := strings.Cut(arg, "..")
+		a, errA := strconv.Atoi(strings.TrimSpace(lo))
+		b, errB := strconv.Atoi(strings.TrimSpace(hi))
+		if !ok || errA != nil || errB != nil || a >= b {
+			return r, errf("response", "response %q: write the score's range as whole numbers MIN..MAX, for example %s:score/0..4", s, r.Name)
+		}
+		fa, fb := float64(a), float64(b)
+		r.Kind, r.Min, r.Max = KindScore, &fa, &fb
+		return r, nil
+	}
 	lo, hi, ok := strings.Cut(rng, "..")
 	if !ok {
-		return r, errf("response", "response %q: write the range as MIN..MAX, for example 0..200", s)
+		return r, errf("response", "response %q: write the range as MIN..MAX (for example 0..200), or the kind: count, proportion/of=N, score/MIN..MAX", s)
 	}
 	parse := func(v string) (*float64, error) {
 		v = strings.TrimSpace(v)
