@@ -57,7 +57,7 @@ func checkScansRun(s *streams, o *checkOptions, fl *workbook.Filled) error {
 		return err
 	}
 	if n, m := fl.Errors(), res.Errors(); n+m > 0 {
-		return &failedError{err: fmt.Errorf("%s: %d error(s) found, %s: %d", o.file, n, o.scans, m)}
+		return &failedError{err: fmt.Errorf("%s: %d error(s) found; %s: %d error(s) found", o.file, n, o.scans, m)}
 	}
 	return nil
 }

@@ -20,10 +20,11 @@ type ScanProblem struct {
 }
 
 func (p ScanProblem) String() string {
-	loc := "line " + strconv.Itoa(p.Line)
 	if p.Line == 0 {
-		loc = "all lines"
+		// A summary over the whole file.
+		return fmt.Sprintf("%s: %s", p.Severity, p.Msg)
 	}
+	loc := "line " + strconv.Itoa(p.Line)
 	if p.Unit != "" {
 		loc += " (unit " + p.Unit + ")"
 	}

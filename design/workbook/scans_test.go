@@ -95,14 +95,14 @@ func TestCheckScans(t *testing.T) {
 			// mass_g was scanned for no unit: no gap is reported for it.
 			[]string{`error: line 9 (unit 101): "NaN" is not a number`}},
 		{"out of range", append(all("101"), Scan{Line: 9, Code: code("101"), Response: "height_cm", Value: "250", Fields: 3}), 5,
-			[]string{"error: line 9 (unit 101): 250 is outside the declared range 0..200 for height_cm", "warning: all lines: height_cm: 1 of 6 units have no scan: 101"}},
+			[]string{"error: line 9 (unit 101): 250 is outside the declared range 0..200 for height_cm", "warning: height_cm: 1 of 6 units have no scan: 101"}},
 		{"twice, same value", append(all(""), Scan{Line: 9, Code: code("101"), Response: "height_cm", Value: "10", Fields: 3}), 6,
 			[]string{"warning: line 9 (unit 101): height_cm scanned again with the same value as on line 2"}},
 		{"twice, other value", append(all(""), Scan{Line: 9, Code: code("101"), Response: "height_cm", Value: "11", Fields: 3}), 6,
 			[]string{"error: line 9 (unit 101): height_cm scanned again: 11 here, 10 on line 2"}},
 		{"subsample of a plan without", append(all(""), Scan{Line: 9, Code: design.UnitCode(v.Fingerprint, "101", 2), Response: "height_cm", Value: "1", Fields: 3}), 6,
 			[]string{"error: line 9 (unit 101): the code names subsample 2, but the plan records one measurement per unit"}},
-		{"unit missing", all("203"), 5, []string{"warning: all lines: height_cm: 1 of 6 units have no scan: 203"}},
+		{"unit missing", all("203"), 5, []string{"warning: height_cm: 1 of 6 units have no scan: 203"}},
 	}
 	for _, c := range cases {
 		t.Run(c.name, func(t *testing.T) {
