@@ -79,18 +79,55 @@ const CodePrefix = "allot:"
 //	allot:<fingerprint12>:<unit ID>
 //
 // with the first 12 lower-case hexadecimal digits of the plan fingerprint
-// and the unit ID as written; a subsample label (sub ≥ 1) appends
-// "/<subsample>" to the unit ID: allot:1d97e0af74ca:101/2.
+// and the unit ID; a subsample label (sub ≥ 1) appends "/<subsample>":
+// allot:1d97e0af74ca:101/2. The text is printable ASCII, so that scanners
+// that type what they read as keystrokes pass it on unchanged: in the unit
+// ID every byte of its UTF-8 form outside "!".."~", and "%" and "/"
+// themselves, is written %XX (upper-case hexadecimal, as in RFC 3986
+// percent-encoding), so "Käfig 3" becomes K%C3%A4fig%203.
 func UnitCode(fingerprint, unitID string, sub int) string {
 	fp := fingerprint
 	if len(fp) > ShortFingerprint {
 		fp = fp[:ShortFingerprint]
 	}
-	s := CodePrefix + fp + ":" + unitID
+	s := CodePrefix + fp + ":" + escapeID(unitID)
 	if sub > 0 {
 		s += "/" + strconv.Itoa(sub)
 	}
 	return s
+}
+
+func escapeID(id string) string {
+	var b strings.Builder
+	for i := 0; i < len(id); i++ {
+		c := id[i]
+		if c <= ' ' || c > '~' || c == '%' || c == '/' {
+			fmt.Fprintf(&b, "%%%02X", c)
+		} else {
+			b.WriteByte(c)
+		}
+	}
+	return b.String()
+}
+
+func unescapeID(s string) (string, bool) {
+	var b strings.Builder
+	for i := 0; i < len(s); i++ {
+		if s[i] != '%' {
+			b.WriteByte(s[i])
+			continue
+		}
+		if i+2 >= len(s) {
+			return "", false
+		}
+		v, err := strconv.ParseUint(s[i+1:i+3], 16, 8)
+		if err != nil {
+			return "", false
+		}
+		b.WriteByte(byte(v))
+		i += 2
+	}
+	return b.String(), true
 }
 
 // CodeError is a text that is not a unit code.
@@ -99,53 +136,51 @@ type CodeError struct {
 	Msg  string
 }
 
-func (e *CodeError) Error() string {
-	return fmt.Sprintf("%q is not an allot unit code: %s", e.Text, e.Msg)
-}
+func (e *CodeError) Error() string { return fmt.Sprintf("%q is not an allot unit code: %s", e.Text, e.Msg) }
 
-// ParseUnitCode splits a unit code into the fingerprint's first 12 digits
-// and the rest (the unit ID, possibly followed by "/<subsample>"; see
-// View.Finder, which resolves it against the units).
-func ParseUnitCode(s string) (fp12, rest string, err error) {
+// ParseUnitCode reads a unit code (surrounding white space and the case of
+// the prefix and fingerprint do not matter): the fingerprint's first 12
+// digits, the unit ID and the subsample (0 for a unit's own code).
+func ParseUnitCode(s string) (fp12, unitID string, sub int, err error) {
 	t := strings.TrimSpace(s)
+	fail := func(msg string) (string, string, int, error) { return "", "", 0, &CodeError{Text: s, Msg: msg} }
 	if !strings.HasPrefix(strings.ToLower(t), CodePrefix) {
-		return "", "", &CodeError{Text: s, Msg: "it does not begin with " + strconv.Quote(CodePrefix)}
+		return fail("it does not begin with " + strconv.Quote(CodePrefix))
 	}
 	t = t[len(CodePrefix):]
 	if len(t) < ShortFingerprint+2 || t[ShortFingerprint] != ':' {
-		return "", "", &CodeError{Text: s, Msg: "the 12-digit plan fingerprint and a unit ID must follow, as in allot:1d97e0af74ca:101"}
+		return fail("the 12-digit plan fingerprint and a unit ID must follow, as in allot:1d97e0af74ca:101")
 	}
 	fp12 = strings.ToLower(t[:ShortFingerprint])
 	for _, c := range fp12 {
 		if !('0' <= c && c <= '9' || 'a' <= c && c <= 'f') {
-			return "", "", &CodeError{Text: s, Msg: "the plan fingerprint must be 12 hexadecimal digits"}
+			return fail("the plan fingerprint must be 12 hexadecimal digits")
 		}
 	}
-	return fp12, t[ShortFingerprint+1:], nil
+	rest := t[ShortFingerprint+1:]
+	if k := strings.IndexByte(rest, '/'); k >= 0 {
+		n, err := strconv.Atoi(rest[k+1:])
+		if err != nil || n < 1 || strings.HasPrefix(rest[k+1:], "+") {
+			return fail("a subsample number (1, 2, …) must follow the \"/\"")
+		}
+		rest, sub = rest[:k], n
+	}
+	id, ok := unescapeID(rest)
+	if !ok || id == "" {
+		return fail("the unit ID is empty or has a broken %XX escape")
+	}
+	return fp12, id, sub, nil
 }
 
-// Finder returns a function that resolves the unit part of a code (after
-// the fingerprint) to a unit index and subsample (0 for a code without
-// one). An exact unit ID wins; otherwise a trailing "/<n>" is read as the
-// subsample. ok is false when no unit matches.
-func (v View) Finder() func(rest string) (unit, sub int, ok bool) {
+// Finder returns a function that finds a unit by its ID: its index in
+// Layout.Units, or ok false.
+func (v View) Finder() func(id string) (unit int, ok bool) {
 	index := make(map[string]int, len(v.Layout.Units))
 	for i, u := range v.Layout.Units {
 		index[u.ID] = i
 	}
-	return func(rest string) (int, int, bool) {
-		if i, ok := index[rest]; ok {
-			return i, 0, true
-		}
-		k := strings.LastIndexByte(rest, '/')
-		if k < 0 {
-			return 0, 0, false
-		}
-		n, err := strconv.Atoi(rest[k+1:])
-		if err != nil || n < 1 {
-			return 0, 0, false
-		}
-		i, ok := index[rest[:k]]
-		return i, n, ok
+	return func(id string) (int, bool) {
+		i, ok := index[id]
+		return i, ok
 	}
 }

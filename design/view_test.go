@@ -14,23 +14,27 @@ func TestUnitCode(t *testing.T) {
 	}{
 		{"101", 0, "allot:1d97e0af74ca:101"},
 		{"101", 2, "allot:1d97e0af74ca:101/2"},
-		{"M:7/b", 0, "allot:1d97e0af74ca:M:7/b"},
+		{"M:7/b", 0, "allot:1d97e0af74ca:M:7%2Fb"},
+		{"Käfig 3", 1, "allot:1d97e0af74ca:K%C3%A4fig%203/1"},
+		{"50%", 0, "allot:1d97e0af74ca:50%25"},
 	}
 	for _, c := range cases {
 		got := UnitCode(fp, c.id, c.sub)
 		if got != c.want {
 			t.Errorf("UnitCode(%q, %d) = %q, want %q", c.id, c.sub, got, c.want)
 		}
-		f, rest, err := ParseUnitCode(" " + strings.ToUpper(got[:6]) + got[6:] + " ")
-		if err != nil || f != fp[:12] || !strings.HasPrefix(rest, c.id) {
-			t.Errorf("ParseUnitCode(%q) = %q, %q, %v", got, f, rest, err)
+		f, id, sub, err := ParseUnitCode(" " + strings.ToUpper(got[:6]) + got[6:] + " ")
+		if err != nil || f != fp[:12] || id != c.id || sub != c.sub {
+			t.Errorf("ParseUnitCode(%q) = %q, %q, %d, %v", got, f, id, sub, err)
 		}
 	}
 }
 
 func TestParseUnitCodeErrors(t *testing.T) {
-	for _, s := range []string{"", "101", "allot:", "allot:1d97e0af74ca", "allot:1d97e0af74ca:", "allot:1d97e0af74c:101", "allot:1d97e0af74cg:101", "allot:1d97e0af74ca-101"} {
-		if _, _, err := ParseUnitCode(s); err == nil {
+	for _, s := range []string{"", "101", "allot:", "allot:1d97e0af74ca", "allot:1d97e0af74ca:", "allot:1d97e0af74c:101",
+		"allot:1d97e0af74cg:101", "allot:1d97e0af74ca-101", "allot:1d97e0af74ca:101/0", "allot:1d97e0af74ca:101/x",
+		"allot:1d97e0af74ca:101/2/3", "allot:1d97e0af74ca:10%2", "allot:1d97e0af74ca:%zz", "allot:1d97e0af74ca:/2"} {
+		if _, _, _, err := ParseUnitCode(s); err == nil {
 			t.Errorf("ParseUnitCode(%q): no error", s)
 		}
 	}
@@ -39,23 +43,14 @@ func TestParseUnitCodeErrors(t *testing.T) {
 func TestFinder(t *testing.T) {
 	v := View{Layout: Layout{Units: []Unit{{ID: "101"}, {ID: "A/1"}, {ID: "A"}}}}
 	find := v.Finder()
-	cases := []struct {
-		rest      string
-		unit, sub int
-		ok        bool
-	}{
-		{"101", 0, 0, true},
-		{"101/3", 0, 3, true},
-		{"A/1", 1, 0, true}, // an exact unit ID wins over a subsample of A
-		{"A/2", 2, 2, true},
-		{"102", 0, 0, false},
-		{"101/0", 0, 0, false},
-		{"101/x", 0, 0, false},
-	}
-	for _, c := range cases {
-		u, s, ok := find(c.rest)
-		if ok != c.ok || ok && (u != c.unit || s != c.sub) {
-			t.Errorf("find(%q) = %d, %d, %v; want %d, %d, %v", c.rest, u, s, ok, c.unit, c.sub, c.ok)
+	for _, c := range []struct {
+		id   string
+		unit int
+		ok   bool
+	}{{"101", 0, true}, {"A/1", 1, true}, {"A", 2, true}, {"102", 0, false}} {
+		u, ok := find(c.id)
+		if ok != c.ok || ok && u != c.unit {
+			t.Errorf("find(%q) = %d, %v; want %d, %v", c.id, u, ok, c.unit, c.ok)
 		}
 	}
 }
@@ -86,19 +81,26 @@ func TestSequence(t *testing.T) {
 	}
 }
 
-// FuzzParseUnitCode: never panics, and a parsed code re-assembles to
-// itself (up to case of the prefix and fingerprint, and white space).
-func FuzzParseUnitCode(f *testing.F) {
-	for _, s := range []string{"allot:1d97e0af74ca:101", "allot:1d97e0af74ca:101/2", "ALLOT:1D97E0AF74CA:x", "allot:", "x"} {
-		f.Add(s)
-	}
-	f.Fuzz(func(t *testing.T, s string) {
-		fp, rest, err := ParseUnitCode(s)
-		if err != nil {
+// FuzzUnitCode: any unit ID and subsample survive the trip through a code,
+// the code is printable ASCII, and parsing never panics.
+func FuzzUnitCode(f *testing.F) {
+	f.Add("101", 0)
+	f.Add("Käfig 3/x%", 2)
+	f.Add("allot:1d97e0af74ca:101", -1)
+	f.Fuzz(func(t *testing.T, id string, sub int) {
+		ParseUnitCode(id) // must not panic
+		if id == "" || sub < 0 {
 			return
 		}
-		if got := UnitCode(fp, rest, 0); !strings.EqualFold(got, strings.TrimSpace(s)) {
-			t.Errorf("%q parses to %q, %q, which re-assemble to %q", s, fp, rest, got)
+		code := UnitCode("1d97e0af74cab5c6", id, sub)
+		for i := 0; i < len(code); i++ {
+			if code[i] <= ' ' || code[i] > '~' {
+				t.Fatalf("code %q has byte %#x", code, code[i])
+			}
+		}
+		fp, gotID, gotSub, err := ParseUnitCode(code)
+		if err != nil || fp != "1d97e0af74ca" || gotID != id || gotSub != sub {
+			t.Errorf("%q, %d → %q → %q, %q, %d, %v", id, sub, code, fp, gotID, gotSub, err)
 		}
 	})
 }

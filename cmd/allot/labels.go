@@ -58,7 +58,8 @@ and the first 12 digits of the plan fingerprint, and a QR code of the text
   allot:<fingerprint12>:<unit ID>        (subsample labels: …:<unit ID>/<k>)
 
 so that a scan names the plan and the unit (allot check --scans reads
-them back). The codes use error-correction level H (about 30% of the code
+them back); characters of a unit ID outside printable ASCII, "%" and "/"
+are written %XX. The codes use error-correction level H (about 30% of the code
 may be lost to water or scratches) and a quiet zone of 4 modules.
 
 Sheets of labels: --page a4|letter with a named --preset, or the grid

@@ -95,7 +95,7 @@ func CheckScans(path string, scans []Scan, v design.View, fl *Filled, opt ReadOp
 			add(Error, s, "", fmt.Sprintf("%d field(s) where 3 belong (code, response, value); correct the row", s.Fields))
 			continue
 		}
-		fp, rest, err := design.ParseUnitCode(s.Code)
+		fp, uid, sub, err := design.ParseUnitCode(s.Code)
 		if err != nil {
 			add(Error, s, "", err.Error()+"; scan the label again or correct the text")
 			continue
@@ -104,9 +104,9 @@ func CheckScans(path string, scans []Scan, v design.View, fl *Filled, opt ReadOp
 			add(Error, s, "", fmt.Sprintf("code %s belongs to another plan (fingerprint %s…, this plan's is %s…): the label is from another trial; find where that unit came from", s.Code, fp, v.Short()))
 			continue
 		}
-		ui, sub, ok := find(rest)
+		ui, ok := find(uid)
 		if !ok {
-			add(Error, s, "", fmt.Sprintf("code %s names unit %q, which is not in the plan; scan the label again or check it", s.Code, rest))
+			add(Error, s, "", fmt.Sprintf("code %s names unit %q, which is not in the plan; scan the label again or check it", s.Code, uid))
 			continue
 		}
 		id := v.Layout.Units[ui].ID

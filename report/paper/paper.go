@@ -9,8 +9,10 @@
 //
 // Each label carries a QR code (ISO/IEC 18004) of the unit code text,
 // design.UnitCode: allot:<fingerprint12>:<unit ID>, with "/<subsample>"
-// appended on subsample labels. It is encoded in byte mode (UTF-8) at
-// error-correction level H, which restores up to about 30% of the
+// appended on subsample labels; the text is printable ASCII (the unit ID
+// percent-encoded where it is not), so keyboard-emulating scanners pass it
+// on unchanged and no reader has to guess a character set. It is encoded
+// in byte mode at error-correction level H, which restores up to about 30% of the
 // codewords: labels on pots and cage cards get wet, muddy and scratched,
 // and the larger symbol this costs (version 3, 29 × 29 modules, for a
 // typical code) still fits a 20 mm label. Every dark module is drawn as a

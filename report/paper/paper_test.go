@@ -43,7 +43,7 @@ func blind(t testing.TB, subsamples int) design.Layout {
 	var units []design.UnitSpec
 	for b := 1; b <= 4; b++ {
 		for k := 1; k <= 3; k++ {
-			units = append(units, design.UnitSpec{ID: fmt.Sprintf("M-2026-%d%02d", b, k), Block: b, BlockLabel: fmt.Sprintf("L%d", 10+b)})
+			units = append(units, design.UnitSpec{ID: fmt.Sprintf("Mäus-%d%02d", b, k), Block: b, BlockLabel: fmt.Sprintf("L%d", 10+b)})
 		}
 	}
 	p := design.Plan{Title: "Wound healing, blinded scoring (test)", Design: design.RCBD,
@@ -141,13 +141,16 @@ func expected(v design.View, subs, meas bool) (codes, ids []string) {
 	}
 	for _, i := range seq {
 		u := v.Layout.Units[i]
+		// The code spells the one non-ASCII letter of the test IDs as its
+		// UTF-8 bytes, percent-encoded.
+		esc := strings.ReplaceAll(u.ID, "ä", "%C3%A4")
 		for k := 1; k <= n; k++ {
 			if subs {
-				codes = append(codes, "allot:"+v.Fingerprint[:12]+":"+u.ID+"/"+strconv.Itoa(k))
+				codes = append(codes, "allot:"+v.Fingerprint[:12]+":"+esc+"/"+strconv.Itoa(k))
 				ids = append(ids, u.ID+"/"+strconv.Itoa(k))
 				continue
 			} else {
-				codes = append(codes, "allot:"+v.Fingerprint[:12]+":"+u.ID)
+				codes = append(codes, "allot:"+v.Fingerprint[:12]+":"+esc)
 			}
 			ids = append(ids, u.ID)
 		}
