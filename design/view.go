@@ -136,7 +136,9 @@ type CodeError struct {
 	Msg  string
 }
 
-func (e *CodeError) Error() string { return fmt.Sprintf("%q is not an allot unit code: %s", e.Text, e.Msg) }
+func (e *CodeError) Error() string {
+	return fmt.Sprintf("%q is not an allot unit code: %s", e.Text, e.Msg)
+}
 
 // ParseUnitCode reads a unit code (surrounding white space and the case of
 // the prefix and fingerprint do not matter): the fingerprint's first 12
