@@ -3,6 +3,7 @@ package main
 import (
 	"bytes"
 	"os"
+	"os/exec"
 	"path/filepath"
 	"reflect"
 	"strings"
@@ -28,11 +29,11 @@ func TestLabelsParse(t *testing.T) {
 func TestSheetParse(t *testing.T) {
 	var got *sheetOptions
 	cmd := newSheetCmd(&streams{Out: &bytes.Buffer{}, Err: &bytes.Buffer{}}, func(o *sheetOptions) error { got = o; return nil })
-	cmd.SetArgs([]string{"layout.json", "-o", "s.pdf", "--page", "letter", "--order", "measurement"})
+	cmd.SetArgs([]string{"layout.json", "-o", "s.pdf", "--page", "letter", "--order", "measurement", "--responses", "b,a"})
 	if err := cmd.Execute(); err != nil {
 		t.Fatal(err)
 	}
-	if got.file != "layout.json" || got.out != "s.pdf" || got.page != "letter" || got.order != "measurement" || got.force {
+	if got.file != "layout.json" || got.out != "s.pdf" || got.page != "letter" || got.order != "measurement" || got.force || strings.Join(got.responses, " ") != "b a" {
 		t.Errorf("%+v", got)
 	}
 }
@@ -110,6 +111,7 @@ func TestLabelsAndSheetRun(t *testing.T) {
 		{[]string{"labels", "trial.xlsx", "-o", "x.pdf", "--start", "21"}, "--start 21: must be from 0 to 20"},
 		{[]string{"labels", "trial.xlsx", "-o", "x.pdf", "--subsamples"}, "--subsamples: the plan records one measurement per unit"},
 		{[]string{"sheet", "trial.xlsx", "-o", "x.pdf", "--page", "a5"}, "--page a5: must be a4 or letter"},
+		{[]string{"sheet", "trial.xlsx", "-o", "x.pdf", "--responses", "mass"}, `--responses mass: response "mass" is not in the plan`},
 	}
 	for _, c := range bad {
 		args := append([]string{}, c.args...)
@@ -126,5 +128,47 @@ func TestLabelsAndSheetRun(t *testing.T) {
 	}
 	if _, err := os.Stat(filepath.Join(dir, "x.pdf")); err == nil {
 		t.Error("a refused command wrote x.pdf")
+	}
+}
+
+// TestLabelsBlindWorkbook prints labels and a sheet from a blind workbook
+// (no key needed) and extracts their text: codes, no treatment names.
+func TestLabelsBlindWorkbook(t *testing.T) {
+	if _, err := exec.LookPath("pdftotext"); err != nil {
+		t.Skip("pdftotext is not installed (Debian: poppler-utils); skipping the text check of the PDFs")
+	}
+	dir := t.TempDir()
+	wb := filepath.Join(dir, "mice.xlsx")
+	code, _, errs := runArgs(t, "layout", "--title", "Blind labels test", "--factor", "dose=vehicle,lowdose,highdose", "--design", "rcbd",
+		"--blocks", "3", "--block-name", "litter", "--seed", "11", "--blind", "--key", filepath.Join(dir, "key.json"), "--order",
+		"--response", "weight_g", "--subsamples", "2", "-o", wb)
+	if code != 0 {
+		t.Fatal(errs)
+	}
+	for _, args := range [][]string{
+		{"labels", wb, "-o", filepath.Join(dir, "labels.pdf"), "--subsamples"},
+		{"labels", wb, "-o", filepath.Join(dir, "roll.pdf"), "--roll", "50x25"},
+		{"sheet", wb, "-o", filepath.Join(dir, "sheet.pdf")},
+	} {
+		code, _, errs := runArgs(t, args...)
+		if code != 0 {
+			t.Fatalf("%v: exit %d\n%s", args, code, errs)
+		}
+		if args[0] == "labels" && !strings.Contains(errs, "the plan is blind: the labels show codes only") {
+			t.Errorf("%v: no blind notice in\n%s", args, errs)
+		}
+		out, err := exec.Command("pdftotext", args[3], "-").Output()
+		if err != nil {
+			t.Fatal(err)
+		}
+		text := strings.ToLower(string(out))
+		for _, name := range []string{"dose", "vehicle", "lowdose", "highdose"} {
+			if strings.Contains(text, name) {
+				t.Errorf("%v: the blind PDF shows %q", args, name)
+			}
+		}
+		if !strings.Contains(text, "code") {
+			t.Errorf("%v: no codes in\n%s", args, out)
+		}
 	}
 }

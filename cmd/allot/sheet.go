@@ -5,6 +5,7 @@ import (
 	"errors"
 	"fmt"
 	"io"
+	"strings"
 	"time"
 
 	"github.com/allotproject/allot/internal/atomicfile"
@@ -14,12 +15,13 @@ import (
 )
 
 type sheetOptions struct {
-	file  string
-	out   string
-	force bool
-	order string
-	page  string
-	now   func() time.Time
+	file      string
+	out       string
+	force     bool
+	order     string
+	page      string
+	responses []string
+	now       func() time.Time
 }
 
 func newSheetCmd(s *streams, runF func(*sheetOptions) error) *cobra.Command {
@@ -32,7 +34,8 @@ workbook or layout .json: one row per unit (one per subsample when the plan
 has subsamples) in measurement order (when the plan has one; --order unit
 lists by block and position), with the unit ID, block and position, the
 treatment (for a blind plan only its code), an empty box for each response
-and room for notes. Every page carries the plan title, its fingerprint and
+and room for notes (--responses NAME,... for some of them, say one sheet per
+measurement round). Every page carries the plan title, its fingerprint and
 "page i of n". --page a4 (default) or letter; the page turns sideways when
 the responses need the width.
 
@@ -67,6 +70,7 @@ The file is never replaced without --force.` + "\n" + exitHelp,
 	f.BoolVar(&o.force, "force", false, "replace an existing output file")
 	f.StringVar(&o.order, "order", "", "`measurement` (the plan's measurement order; the default when it has one) or unit (block and position)")
 	f.StringVar(&o.page, "page", "", "paper: `a4` (default) or letter")
+	f.StringSliceVar(&o.responses, "responses", nil, "boxes for these responses only, in this order (`NAME,NAME`; default all)")
 	return cmd
 }
 
@@ -83,13 +87,15 @@ func sheetRun(s *streams, o *sheetOptions) error {
 	if err != nil {
 		return err
 	}
-	opt := paper.RecordOptions{Page: page, ByMeasurement: byMeasurement(o.order, v), Created: o.now()}
+	opt := paper.RecordOptions{Page: page, ByMeasurement: byMeasurement(o.order, v), Responses: o.responses, Created: o.now()}
 	var pdf bytes.Buffer
 	err = paper.Record(&pdf, v, opt)
 	var ge *paper.GeometryError
 	switch {
 	case errors.As(err, &ge) && ge.Field == "order":
 		return inputErr(fmt.Errorf("--order %s: %s", o.order, ge.Msg))
+	case errors.As(err, &ge) && ge.Field == "responses":
+		return inputErr(fmt.Errorf("--responses %s: %s", strings.Join(o.responses, ","), ge.Msg))
 	case errors.As(err, &ge):
 		return inputErr(fmt.Errorf("%s: %s", o.file, ge.Msg))
 	case err != nil:

@@ -667,3 +667,61 @@ func TestQRSurvivesDamage(t *testing.T) {
 	}
 	t.Logf("%d of %d damaged codes decoded", len(got), len(crops))
 }
+
+// TestRecordingSheetTurns: a plan with more responses than fit upright
+// gets landscape pages, each still with its page number; one with far
+// too many is refused.
+func TestRecordingSheetTurns(t *testing.T) {
+	need(t, "pdftotext")
+	l := rcbd(t)
+	for i := 0; i < 6; i++ {
+		l.Plan.Responses = append(l.Plan.Responses, design.Response{Name: fmt.Sprintf("leaf_%d_mm", i+1)})
+	}
+	v := design.View{Layout: l, Shown: l.View().Shown, Fingerprint: l.View().Fingerprint}
+	var b bytes.Buffer
+	if err := paper.Record(&b, v, paper.RecordOptions{Page: paper.A4, Created: created}); err != nil {
+		t.Fatal(err)
+	}
+	out, err := exec.Command("pdftotext", "-bbox", writeTemp(t, "wide.pdf", b.Bytes()), "-").Output()
+	if err != nil {
+		t.Fatal(err)
+	}
+	var doc bboxDoc
+	dec := xml.NewDecoder(bytes.NewReader(out))
+	dec.Strict, dec.AutoClose, dec.Entity = false, xml.HTMLAutoClose, xml.HTMLEntity
+	if err := dec.Decode(&doc); err != nil {
+		t.Fatal(err)
+	}
+	for i, pg := range doc.Pages {
+		if pg.W*25.4/72 < 296 || pg.H*25.4/72 > 211 {
+			t.Errorf("page %d is %.1f × %.1f mm, want A4 landscape", i+1, pg.W*25.4/72, pg.H*25.4/72)
+		}
+	}
+	if len(doc.Pages) < 3 {
+		t.Errorf("%d landscape pages for 48 units, want at least 3", len(doc.Pages))
+	}
+	for i := 0; i < 12; i++ {
+		l.Plan.Responses = append(l.Plan.Responses, design.Response{Name: fmt.Sprintf("extra_%d", i+1)})
+	}
+	v.Layout = l
+	err = paper.Record(&b, v, paper.RecordOptions{Page: paper.A4, Created: created})
+	if ge, ok := err.(*paper.GeometryError); !ok || !strings.Contains(ge.Msg, "responses do not fit across") {
+		t.Errorf("20 responses: %v", err)
+	}
+	// Some of them at a time fit, upright.
+	b.Reset()
+	if err := paper.Record(&b, v, paper.RecordOptions{Page: paper.A4, Responses: []string{"extra_3", "height_cm"}, Created: created}); err != nil {
+		t.Fatal(err)
+	}
+	out, err = exec.Command("pdftotext", "-layout", writeTemp(t, "two.pdf", b.Bytes()), "-").Output()
+	if err != nil {
+		t.Fatal(err)
+	}
+	if head := string(out); !strings.Contains(head, "extra_3") || !strings.Contains(head, "height_cm") || strings.Contains(head, "leaves") || strings.Index(head, "extra_3") > strings.Index(head, "height_cm") {
+		t.Errorf("--responses extra_3,height_cm:\n%.600s", head)
+	}
+	err = paper.Record(&b, v, paper.RecordOptions{Page: paper.A4, Responses: []string{"hieght"}, Created: created})
+	if ge, ok := err.(*paper.GeometryError); !ok || ge.Field != "responses" {
+		t.Errorf("unknown response: %v", err)
+	}
+}

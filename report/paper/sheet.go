@@ -18,6 +18,9 @@ type RecordOptions struct {
 	// ByMeasurement lists units in the planned measurement order within
 	// each block; otherwise by block and position.
 	ByMeasurement bool
+	// Responses names the responses that get boxes, in the order given;
+	// nil means all the plan's (one sheet per measurement round, say).
+	Responses []string
 	// Created fixes the document's dates.
 	Created time.Time
 }
@@ -62,8 +65,12 @@ func Record(w io.Writer, v design.View, o RecordOptions) error {
 	if err != nil {
 		return &GeometryError{Field: "order", Msg: err.Error() + "; list the units in unit order"}
 	}
+	resp, err := pickResponses(p, o.Responses)
+	if err != nil {
+		return err
+	}
 	d := newDoc(o.Created, "Recording sheet: "+p.Title)
-	cols, landscape, err := sheetColumns(d, v, o.Page)
+	cols, landscape, err := sheetColumns(d, v, o.Page, resp)
 	if err != nil {
 		return err
 	}
@@ -141,7 +148,7 @@ func truncRunes(s string, n int) string {
 
 // sheetColumns lays out the columns for page, turning it to landscape when
 // the responses do not fit upright.
-func sheetColumns(d *fpdf.Fpdf, v design.View, page Page) ([]column, bool, error) {
+func sheetColumns(d *fpdf.Fpdf, v design.View, page Page, resp []design.Response) ([]column, bool, error) {
 	p := v.Layout.Plan
 	us := v.Layout.Units
 	width := func(style string, size float64, texts ...string) float64 {
@@ -203,7 +210,7 @@ func sheetColumns(d *fpdf.Fpdf, v design.View, page Page) ([]column, bool, error
 	for _, c := range cols {
 		fixed += c.w
 	}
-	nr := len(p.Responses)
+	nr := len(resp)
 	fits := func(pageW, rw float64) bool { return fixed+float64(nr)*rw+minNotesW <= pageW-2*sheetMargin }
 	landscape := false
 	rw := float64(responseW)
@@ -215,11 +222,11 @@ func sheetColumns(d *fpdf.Fpdf, v design.View, page Page) ([]column, bool, error
 		landscape = true
 		rw = (page.H - 2*sheetMargin - fixed - minNotesW) / float64(max(nr, 1))
 		if rw < minResponseW {
-			return nil, false, geomErr("page", "%d responses do not fit across a %s page even turned sideways (%s mm each, at least %s mm needed); print a sheet per group of responses from a copy of the plan with fewer responses",
+			return nil, false, geomErr("page", "%d responses do not fit across a %s page even turned sideways (%s mm each, at least %s mm needed); print a sheet for some of them at a time (--responses)",
 				nr, page.Name, mm(rw), mm(minResponseW))
 		}
 	}
-	for _, r := range p.Responses {
+	for _, r := range resp {
 		sub := ""
 		if r.Min != nil || r.Max != nil {
 			lo, hi := "", ""
@@ -328,4 +335,30 @@ func sheetTableRow(d *fpdf.Fpdf, cols []column, r sheetRow, y float64) {
 		d.SetLineWidth(0.7)
 		d.Line(sheetMargin, y, x, y)
 	}
+}
+
+// pickResponses returns the plan's responses named in names (all for nil).
+func pickResponses(p design.Plan, names []string) ([]design.Response, error) {
+	if names == nil {
+		return p.Responses, nil
+	}
+	var out []design.Response
+	var all []string
+	for _, r := range p.Responses {
+		all = append(all, r.Name)
+	}
+	seen := map[string]bool{}
+	for _, n := range names {
+		found := false
+		for _, r := range p.Responses {
+			if r.Name == n && !seen[n] {
+				out = append(out, r)
+				seen[n], found = true, true
+			}
+		}
+		if !found {
+			return nil, geomErr("responses", "response %q is not in the plan, or named twice (responses: %s)", n, strings.Join(all, ", "))
+		}
+	}
+	return out, nil
 }
