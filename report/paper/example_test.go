@@ -25,8 +25,8 @@ func ExampleLabelsOf() {
 		fmt.Printf("%s | %s | %s | %s\n", lb.UnitID, lb.Place, lb.Treatment, lb.Code)
 	}
 	// Output:
-	// 102 | rack 1, position 2, measure 1st | code N7J | allot:79a19a4b01f2:102
-	// 101 | rack 1, position 1, measure 2nd | code MKX | allot:79a19a4b01f2:101
-	// 202 | rack 2, position 2, measure 1st | code N7J | allot:79a19a4b01f2:202
-	// 201 | rack 2, position 1, measure 2nd | code MKX | allot:79a19a4b01f2:201
+	// 102 | rack 1 · position 2 · measure 1st | code N7J | allot:79a19a4b01f2:102
+	// 101 | rack 1 · position 1 · measure 2nd | code MKX | allot:79a19a4b01f2:101
+	// 202 | rack 2 · position 2 · measure 1st | code N7J | allot:79a19a4b01f2:202
+	// 201 | rack 2 · position 1 · measure 2nd | code MKX | allot:79a19a4b01f2:201
 }

@@ -5,6 +5,7 @@ import (
 	"io"
 	"math"
 	"strconv"
+	"strings"
 	"time"
 
 	"codeberg.org/go-pdf/fpdf"
@@ -165,7 +166,7 @@ type LabelOptions struct {
 // Label is the content of one label.
 type Label struct {
 	UnitID    string
-	Place     string // block and position, and the measurement rank
+	Place     string // block and position, and the measurement rank, joined by " · "
 	Treatment string // the treatment, or "code K3" for a blind plan
 	Title     string
 	Plan      string // "plan <fingerprint12>"
@@ -191,10 +192,13 @@ func LabelsOf(v design.View, subsamples, byMeasurement bool) ([]Label, error) {
 		u := v.Layout.Units[i]
 		place := "position " + strconv.Itoa(u.Position)
 		if p.Design == design.RCBD {
-			place = p.BlockName + " " + p.BlockLabel(u.Block) + ", " + place
+			place = p.BlockName + " " + p.BlockLabel(u.Block) + sep + place
+		}
+		if p.Grid != nil && u.Row > 0 {
+			place += fmt.Sprintf("%srow %d, col %d", sep, u.Row, u.Col)
 		}
 		if u.Order > 0 {
-			place += ", measure " + ordinal(u.Order)
+			place += sep + "measure " + ordinal(u.Order)
 		}
 		tr := v.Shown[i]
 		if p.Blind {
@@ -204,7 +208,7 @@ func LabelsOf(v design.View, subsamples, byMeasurement bool) ([]Label, error) {
 			l := Label{UnitID: u.ID, Place: place, Treatment: tr, Title: p.Title, Plan: "plan " + v.Short(), Code: design.UnitCode(v.Fingerprint, u.ID, 0)}
 			if subsamples {
 				l.UnitID = u.ID + "/" + strconv.Itoa(k)
-				l.Place = place + ", subsample " + strconv.Itoa(k) + " of " + strconv.Itoa(subs)
+				l.Place = place + sep + "subsample " + strconv.Itoa(k) + " of " + strconv.Itoa(subs)
 				l.Code = design.UnitCode(v.Fingerprint, u.ID, k)
 			}
 			out = append(out, l)
@@ -212,6 +216,10 @@ func LabelsOf(v design.View, subsamples, byMeasurement bool) ([]Label, error) {
 	}
 	return out, nil
 }
+
+// sep joins the phrases of a label's place line; a long line is broken at
+// one of them.
+const sep = " · "
 
 func ordinal(n int) string {
 	suf := "th"
@@ -380,27 +388,55 @@ func drawLabel(d *fpdf.Fpdf, b Box, l Label, idSize float64) error {
 		return err
 	}
 	sym.draw(d, ll.QR.X, ll.QR.Y, ll.QR.W)
-	// The unit ID large, then place, treatment, title and plan.
+	// The unit ID large, then place, treatment, title and plan. The unit
+	// ID's line is the same on every label; a place too long for its line
+	// is broken in two, and the lines below share what is left.
 	type line struct {
 		text   string
 		style  string
 		weight float64
 	}
-	lines := []line{{l.UnitID, "B", idWeight}, {l.Place, "", lineWeights[0]}, {l.Treatment, "B", lineWeights[1]}, {l.Title, "", lineWeights[2]}, {l.Plan, "", lineWeights[3]}}
 	base := baseSize(ll)
-	d.SetTextColor(0, 0, 0)
-	y := ll.Text.Y
-	for i, ln := range lines {
-		size := base * ln.weight
-		text, got := fitText(d, ln.style, ln.text, size, min(size, 4), ll.Text.W)
-		if i == 0 {
-			// The unit ID is never cut: its size was chosen to fit.
-			text, got = ln.text, idSize
+	idH := base * idWeight * leading * ptMM
+	rest := []line{{l.Place, "", lineWeights[0]}, {l.Treatment, "B", lineWeights[1]}, {l.Title, "", lineWeights[2]}, {l.Plan, "", lineWeights[3]}}
+	d.SetFont(family, "", base*lineWeights[0])
+	if d.GetStringWidth(l.Place) > ll.Text.W/0.8 {
+		// Wrap at the phrases, into at most three lines of 0.9 the size.
+		d.SetFont(family, "", base*0.9)
+		var wrapped []line
+		cur := ""
+		for _, ph := range strings.Split(l.Place, sep) {
+			switch {
+			case cur == "":
+				cur = ph
+			case d.GetStringWidth(cur+sep+ph) <= ll.Text.W || len(wrapped) == 2:
+				cur += sep + ph
+			default:
+				wrapped = append(wrapped, line{cur, "", 0.9})
+				cur = ph
+			}
 		}
+		wrapped = append(wrapped, line{cur, "", 0.9})
+		rest = append(wrapped, rest[1:]...)
+	}
+	total := 0.0
+	for _, ln := range rest {
+		total += ln.weight
+	}
+	small := min(base, (ll.Text.H-idH)/(total*leading*ptMM))
+	d.SetTextColor(0, 0, 0)
+	// Baseline: the line's box less half the extra leading and the
+	// descent (about 0.21 em).
+	baseline := func(top, h, size float64) float64 { return top + h - (leading-1)/2*size*ptMM - 0.21*size*ptMM }
+	d.SetFont(family, "B", idSize)
+	d.Text(ll.Text.X, baseline(ll.Text.Y, idH, base*idWeight)+0.21*(base*idWeight-idSize)*ptMM, l.UnitID)
+	y := ll.Text.Y + idH
+	for _, ln := range rest {
+		size := small * ln.weight
+		text, got := fitText(d, ln.style, ln.text, size, min(size, 4), ll.Text.W)
 		h := size * leading * ptMM
-		// Baseline: the line's box less the descent (about 0.21 em).
 		d.SetFont(family, ln.style, got)
-		d.Text(ll.Text.X, y+h-(leading-1)/2*size*ptMM-0.21*got*ptMM, text)
+		d.Text(ll.Text.X, baseline(y, h, size)+0.21*(size-got)*ptMM, text)
 		y += h
 	}
 	return nil

@@ -28,6 +28,7 @@ func rcbd(t testing.TB) design.Layout {
 	p := design.Plan{Title: "Four feeds for lettuce (test)", Design: design.RCBD,
 		Factors: []design.Factor{{Name: "feed", Levels: []string{"lowN", "midN", "highN", "slowrelease"}}},
 		Reps:    []int{1, 1, 1, 1}, Blocks: 12, BlockName: "bench", Seed: 42, Generator: randomize.Generator, Order: true,
+		Grid:      &design.Grid{Rows: 2, Cols: 2, Numbering: design.Serpentine},
 		Responses: []design.Response{{Name: "height_cm"}, {Name: "leaves"}}}
 	l, err := randomize.Assign(p)
 	if err != nil {
@@ -723,5 +724,57 @@ func TestRecordingSheetTurns(t *testing.T) {
 	err = paper.Record(&b, v, paper.RecordOptions{Page: paper.A4, Responses: []string{"hieght"}, Created: created})
 	if ge, ok := err.(*paper.GeometryError); !ok || ge.Field != "responses" {
 		t.Errorf("unknown response: %v", err)
+	}
+}
+
+// TestCutMarksOutsideLabels renders a sheet with and without cut marks:
+// every pixel the marks change lies outside all label boxes, and there
+// are marks on every side.
+func TestCutMarksOutsideLabels(t *testing.T) {
+	need(t, "pdftoppm")
+	v := rcbd(t).View()
+	const r = 100 // dpi
+	for _, name := range []string{"a4-3x7", "letter-3x10", "a4-4x10"} {
+		s := preset(t, name)
+		var imgs [2]*image.Gray
+		for i, cut := range []bool{false, true} {
+			pdf := writeTemp(t, "l.pdf", renderLabels(t, v, paper.LabelOptions{Sheet: &s, CutMarks: cut, Created: created}))
+			dir := t.TempDir()
+			if out, err := exec.Command("pdftoppm", "-r", strconv.Itoa(r), "-gray", "-f", "1", "-l", "1", pdf, filepath.Join(dir, "p")).CombinedOutput(); err != nil {
+				t.Fatalf("pdftoppm: %v\n%s", err, out)
+			}
+			pages, _ := filepath.Glob(filepath.Join(dir, "p-*.pgm"))
+			imgs[i] = readPGM(t, pages[0])
+		}
+		toMM := 25.4 / r
+		var sides [4]int // top, bottom, left, right
+		for y := 0; y < imgs[0].Rect.Dy(); y++ {
+			for x := 0; x < imgs[0].Rect.Dx(); x++ {
+				if imgs[0].GrayAt(x, y) == imgs[1].GrayAt(x, y) {
+					continue
+				}
+				// The pixel's square, in mm.
+				x0, y0, x1, y1 := float64(x)*toMM, float64(y)*toMM, float64(x+1)*toMM, float64(y+1)*toMM
+				for k := 0; k < s.PerSheet(); k++ {
+					b := s.Box(k)
+					if x1 > b.X+0.3 && x0 < b.X+b.W-0.3 && y1 > b.Y+0.3 && y0 < b.Y+b.H-0.3 {
+						t.Fatalf("%s: a cut mark at (%.1f, %.1f) mm lies inside label %d", name, x0, y0, k)
+					}
+				}
+				switch {
+				case y1 < s.Top:
+					sides[0]++
+				case y0 > s.Page.H-s.Top:
+					sides[1]++
+				case x1 < s.Left:
+					sides[2]++
+				default:
+					sides[3]++
+				}
+			}
+		}
+		if sides[0] == 0 || sides[1] == 0 || (s.Left > 2.5 && (sides[2] == 0 || sides[3] == 0)) {
+			t.Errorf("%s: cut-mark pixels top, bottom, left, right: %v", name, sides)
+		}
 	}
 }
