@@ -588,14 +588,33 @@ func TestGeometryErrors(t *testing.T) {
 }
 
 func BenchmarkLabels(b *testing.B) {
-	v := rcbd(b).View()
-	s, _ := paper.PresetNamed("a4-3x7")
-	b.ReportAllocs()
-	for b.Loop() {
-		var buf bytes.Buffer
-		if err := paper.Labels(&buf, v, paper.LabelOptions{Sheet: &s, Created: created}); err != nil {
+	for _, blocks := range []int{12, 120} {
+		p := rcbd(b).Plan
+		p.Blocks = blocks
+		l, err := randomize.Assign(p)
+		if err != nil {
 			b.Fatal(err)
 		}
+		v := l.View()
+		s, _ := paper.PresetNamed("a4-3x7")
+		b.Run(fmt.Sprintf("units=%d", len(l.Units)), func(b *testing.B) {
+			b.ReportAllocs()
+			for b.Loop() {
+				var buf bytes.Buffer
+				if err := paper.Labels(&buf, v, paper.LabelOptions{Sheet: &s, Created: created}); err != nil {
+					b.Fatal(err)
+				}
+			}
+		})
+		b.Run(fmt.Sprintf("sheet/units=%d", len(l.Units)), func(b *testing.B) {
+			b.ReportAllocs()
+			for b.Loop() {
+				var buf bytes.Buffer
+				if err := paper.Record(&buf, v, paper.RecordOptions{Page: paper.A4, ByMeasurement: true, Created: created}); err != nil {
+					b.Fatal(err)
+				}
+			}
+		})
 	}
 }
 
