@@ -9,16 +9,19 @@
 //
 // Each label carries a QR code (ISO/IEC 18004) of the unit code text,
 // design.UnitCode: allot:<fingerprint12>:<unit ID>, with "/<subsample>"
-// appended on subsample labels; the text is printable ASCII (the unit ID
+// appended on subsample labels. The text is printable ASCII (the unit ID
 // percent-encoded where it is not), so keyboard-emulating scanners pass it
 // on unchanged and no reader has to guess a character set. It is encoded
-// in byte mode at error-correction level H, which restores up to about 30% of the
-// codewords: labels on pots and cage cards get wet, muddy and scratched,
-// and the larger symbol this costs (version 3, 29 × 29 modules, for a
-// typical code) still fits a 20 mm label. Every dark module is drawn as a
-// filled vector rectangle (runs of modules in a row as one rectangle, so
-// that no hairline seams appear between them), not as a bitmap, and the
-// symbol keeps the quiet zone of 4 modules on every side that ISO/IEC 18004
+// in byte mode at error-correction level H, which restores up to about 30%
+// of the codewords: labels on pots and cage cards get wet, muddy and
+// scratched. The larger symbol this costs still fits small labels: version
+// 3 (29 × 29 modules, 24 bytes at level H) holds the code of a default
+// unit ID such as 101, versions 4 and 5 (33 and 37 modules) IDs of up to
+// about 20 characters; on the smallest preset (38.1 × 21.2 mm) a version-3
+// module is 0.46 mm. Every dark module is drawn as a filled vector
+// rectangle (a run of modules in a row as one rectangle, so that no
+// hairline seams appear between them), not as a bitmap, and the symbol
+// keeps the quiet zone of 4 modules on every side that ISO/IEC 18004
 // requires. A label too small for modules of MinModule mm is refused.
 //
 // The symbols are built with github.com/boombuler/barcode/qr; this package
