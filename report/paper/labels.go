@@ -249,7 +249,7 @@ func Labels(w io.Writer, v design.View, o LabelOptions) error {
 			return err
 		}
 		if o.Start < 0 || o.Start >= o.Sheet.PerSheet() {
-			return geomErr("start", "--start %d: must be from 0 to %d, the labels on a sheet less one", o.Start, o.Sheet.PerSheet()-1)
+			return geomErr("start", "must be from 0 to %d, the labels on a sheet less one", o.Sheet.PerSheet()-1)
 		}
 		page = o.Sheet.Page
 		for k := 0; k < o.Sheet.PerSheet(); k++ {
@@ -260,7 +260,7 @@ func Labels(w io.Writer, v design.View, o LabelOptions) error {
 			return geomErr("roll", "roll labels must have a positive width and height, got %sx%s mm", mm(o.Roll.W), mm(o.Roll.H))
 		}
 		if o.Start != 0 {
-			return geomErr("start", "--start skips labels of a partly used sheet; a roll has none to skip")
+			return geomErr("start", "skips the used labels of a partly used sheet; a roll has none to skip")
 		}
 		if o.CutMarks {
 			return geomErr("roll", "cut marks are for sheets; roll labels are cut already")
