@@ -70,7 +70,7 @@ page). --start N skips the first N labels of a partly used sheet;
 --roll WxH prints single labels of that size, one per page, for a label
 printer. The default is --preset a4-3x7 (letter-3x10 with --page letter).
 
-Presets:
+Presets (each grid centred on the page):
 ` + presets.String() + "\nThe file is never replaced without --force.\n" + exitHelp,
 		Example: `  allot labels trial.xlsx -o labels.pdf
   allot labels layout.json --page letter --preset letter-3x10 --start 4 -o labels.pdf
