@@ -452,9 +452,10 @@ func TestBlindLabelsNameNoTreatment(t *testing.T) {
 }
 
 // TestFontsEmbedded lists the fonts of both documents (pdffonts): every
-// one is embedded.
+// one is embedded; and their images (pdfimages): there are none, the QR
+// codes are vector shapes.
 func TestFontsEmbedded(t *testing.T) {
-	need(t, "pdffonts")
+	need(t, "pdffonts", "pdfimages")
 	v := rcbd(t).View()
 	s := preset(t, "a4-3x7")
 	var rec bytes.Buffer
@@ -469,6 +470,14 @@ func TestFontsEmbedded(t *testing.T) {
 		lines := strings.Split(strings.TrimSpace(string(out)), "\n")
 		if len(lines) < 3 {
 			t.Fatalf("%s: no fonts listed:\n%s", name, out)
+		}
+		imgs, err := exec.Command("pdfimages", "-list", writeTemp(t, name+"-i.pdf", pdf)).Output()
+		if err != nil {
+			t.Fatal(err)
+		}
+		// Two header lines, then one line per image.
+		if n := len(strings.Split(strings.TrimSpace(string(imgs)), "\n")); n != 2 {
+			t.Errorf("%s: %d image(s) in the PDF, want none:\n%s", name, n-2, imgs)
 		}
 		for _, ln := range lines[2:] {
 			f := strings.Fields(ln)
