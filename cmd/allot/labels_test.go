@@ -76,9 +76,10 @@ func TestLabelsAndSheetRun(t *testing.T) {
 	layoutFiles(t, dir)
 	for _, in := range []string{"trial.xlsx", "trial.json"} {
 		out := filepath.Join(dir, strings.ReplaceAll(in, ".", "-")+"-labels.pdf")
-		code, _, errs := runArgs(t, "labels", filepath.Join(dir, in), "-o", out, "--cut-marks", "--start", "2")
-		if code != 0 || !strings.Contains(errs, "wrote 6 unit labels on 1 A4 sheet(s) of 3 × 7, in unit order") {
-			t.Errorf("labels %s: exit %d\n%s", in, code, errs)
+		code, stdout, errs := runArgs(t, "labels", filepath.Join(dir, in), "-o", out, "--cut-marks", "--start", "2")
+		want := "allot labels: wrote 6 unit labels on 1 A4 sheet(s) of 3 × 7, in unit order, to " + out + " (plan ce89fe1897fc; QR codes at error-correction level H)\n"
+		if code != 0 || errs != want || stdout != "" {
+			t.Errorf("labels %s: exit %d\nstdout %q\nstderr %q\nwant   %q", in, code, stdout, errs, want)
 		}
 		if b, err := os.ReadFile(out); err != nil || !bytes.HasPrefix(b, []byte("%PDF-")) {
 			t.Errorf("labels %s: no PDF written (%v)", in, err)
@@ -89,8 +90,8 @@ func TestLabelsAndSheetRun(t *testing.T) {
 		}
 		sheet := filepath.Join(dir, strings.ReplaceAll(in, ".", "-")+"-sheet.pdf")
 		code, _, errs = runArgs(t, "sheet", filepath.Join(dir, in), "-o", sheet, "--page", "letter")
-		if code != 0 || !strings.Contains(errs, "wrote the recording sheet of 6 units (Letter, unit order)") {
-			t.Errorf("sheet %s: exit %d\n%s", in, code, errs)
+		if want := "allot sheet: wrote the recording sheet of 6 units (Letter, unit order) to " + sheet + " (plan ce89fe1897fc)\n"; code != 0 || errs != want {
+			t.Errorf("sheet %s: exit %d\nstderr %q\nwant   %q", in, code, errs, want)
 		}
 	}
 	bad := []struct {
