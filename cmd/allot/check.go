@@ -21,6 +21,7 @@ type checkOptions struct {
 	key          string
 	decimalComma bool
 	json         bool
+	scans        string
 }
 
 // addReadFlags defines the flags that say how a filled file is read; check
@@ -45,6 +46,11 @@ values outside the declared range and blank responses. The file is only read.
 A CSV export needs the layout it came from: --plan layout.json. A blind
 workbook is checked without its key; give --key to unblind it.
 
+--scans FILE.csv also reads scanned label codes (allot labels) with values
+(columns: code, response, value) and matches them by the code's plan
+fingerprint and unit ID, reporting by line codes of another plan, unknown
+units and values that differ from the workbook's.
+
 Errors exit 1; warnings alone exit 0.` + "\n" + exitHelp,
 		Example: `  allot check trial-filled.xlsx
   allot check data.csv --plan layout.json --decimal-comma`,
@@ -67,6 +73,7 @@ Errors exit 1; warnings alone exit 0.` + "\n" + exitHelp,
 	}
 	o.addReadFlags(cmd)
 	cmd.Flags().BoolVar(&o.json, "json", false, "print the result as JSON")
+	o.addScansFlag(cmd)
 	return cmd
 }
 
@@ -136,6 +143,9 @@ func checkRun(s *streams, o *checkOptions) error {
 	fl, err := readFilled(o)
 	if err != nil {
 		return err
+	}
+	if o.scans != "" {
+		return checkScansRun(s, o, fl)
 	}
 	if o.json {
 		err = report.CheckJSON(s.Out, o.file, fl)

@@ -234,6 +234,9 @@ func Run(s Scenario, o Options) (*Result, error) {
 	}
 	res.Files = append(res.Files, wbPath)
 	fmt.Fprintf(out, "Wrote %s (sheets %s, %s, %s).\n", wbPath, workbook.SheetStudy, workbook.SheetEntry, workbook.SheetMap)
+	if err := writePaper(out, o.Out, lay, o.Now(), res); err != nil {
+		return nil, err
+	}
 	ys, err := sim.Responses(lay, sim.Model{Means: s.TrueMeans, SD: s.TrueSD, BlockSD: s.BlockSD, Decimals: 1}, s.Seed)
 	if err != nil {
 		return nil, err

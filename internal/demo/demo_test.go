@@ -72,7 +72,7 @@ func TestDemoEndToEnd(t *testing.T) {
 			t.Errorf("output lacks %q", want)
 		}
 	}
-	for _, f := range []string{FileWorkbook, FileFilled, FileJustification, FileLayout, FileReport, FileAnalysis, FileHTML, FileMap, FileCurve, DirFigures + "/shoot_dry_mg-means.png"} {
+	for _, f := range []string{FileWorkbook, FileFilled, FileJustification, FileLayout, FileReport, FileAnalysis, FileHTML, FileMap, FileCurve, FileLabels, FileSheet, DirFigures + "/shoot_dry_mg-means.png"} {
 		if st, err := os.Stat(filepath.Join(dir, f)); err != nil || st.Size() == 0 {
 			t.Errorf("%s missing or empty: %v", f, err)
 		}
