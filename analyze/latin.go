@@ -38,16 +38,10 @@ type gsBasis struct {
 	q [][]float64
 }
 
-func (g *gsBasis) add(c []float64) bool {
-	v := append([]float64(nil), c...)
-	var n0 float64
-	for _, x := range v {
-		n0 += x * x
-	}
-	n0 = math.Sqrt(n0)
-	if n0 == 0 {
-		return false
-	}
+// project removes from v its components along the basis, twice over
+// (Gram–Schmidt with reorthogonalisation, "twice is enough": Giraud,
+// Langou and Rozložník 2005, Comput. Math. Appl. 50, 1069–1075).
+func (g *gsBasis) project(v []float64) {
 	for pass := 0; pass < 2; pass++ {
 		for _, q := range g.q {
 			var d float64
@@ -59,6 +53,19 @@ func (g *gsBasis) add(c []float64) bool {
 			}
 		}
 	}
+}
+
+func (g *gsBasis) add(c []float64) bool {
+	v := append([]float64(nil), c...)
+	var n0 float64
+	for _, x := range v {
+		n0 += x * x
+	}
+	n0 = math.Sqrt(n0)
+	if n0 == 0 {
+		return false
+	}
+	g.project(v)
 	var n float64
 	for _, x := range v {
 		n += x * x
@@ -82,17 +89,7 @@ func rssOf(y []float64, cols [][]float64) (float64, int) {
 		g.add(c)
 	}
 	r := append([]float64(nil), y...)
-	for pass := 0; pass < 2; pass++ {
-		for _, q := range g.q {
-			var d float64
-			for i := range r {
-				d += r[i] * q[i]
-			}
-			for i := range r {
-				r[i] -= d * q[i]
-			}
-		}
-	}
+	g.project(r)
 	var s float64
 	for _, v := range r {
 		s += v * v

@@ -136,26 +136,14 @@ func (m *remlModel) loglik(s2e, s2m float64) (float64, []float64, *mat.Dense, er
 // for the variance components and fixed effects
 // (testdata/reference/gen_splitplot.py).
 func SplitPlotREML(d SplitPlot) (*REMLResult, error) {
-	n := len(d.Values)
-	yc, shift, err := centred(d.Values)
-	if err != nil {
-		return nil, fmt.Errorf("response %q: %w", d.Response, err)
-	}
-	sh, _ := shift.Float64()
-	aL, aI, err := codes(d.Whole)
+	sc, err := d.coded()
 	if err != nil {
 		return nil, err
 	}
-	bL, bI, err := codes(d.Sub)
-	if err != nil {
-		return nil, err
-	}
-	mL, mI, err := codes(d.MainPlot)
-	if err != nil {
-		return nil, err
-	}
-	m := &remlModel{y: yc, groups: make([][]int, len(mL))}
-	for i, g := range mI {
+	n, sh := len(d.Values), sc.shift
+	aL, aI, bL, bI := sc.aL, sc.aI, sc.bL, sc.bI
+	m := &remlModel{y: sc.y, groups: make([][]int, len(sc.mL))}
+	for i, g := range sc.mI {
 		m.groups[g] = append(m.groups[g], i)
 	}
 	var cols [][]float64

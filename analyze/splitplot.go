@@ -69,6 +69,38 @@ type SplitPlotResult struct {
 // codes returns the level index of each observation and the level names.
 func codes(c Column) ([]string, []int, error) { return c.levels() }
 
+// splitCoded is a split plot's response, exactly centred, and the level
+// names and indices of its whole-plot, sub-plot and main-plot columns.
+type splitCoded struct {
+	y          []float64
+	shift      float64
+	aL, bL, mL []string
+	aI, bI, mI []int
+}
+
+func (d SplitPlot) coded() (*splitCoded, error) {
+	n := len(d.Values)
+	if len(d.Whole.Values) != n || len(d.Sub.Values) != n || len(d.MainPlot.Values) != n || d.Block != nil && len(d.Block.Values) != n {
+		return nil, errors.New("split plot: every column needs one value per observation")
+	}
+	y, shift, err := centred(d.Values)
+	if err != nil {
+		return nil, fmt.Errorf("response %q: %w", d.Response, err)
+	}
+	c := &splitCoded{y: y}
+	c.shift, _ = shift.Float64()
+	for _, f := range []struct {
+		col Column
+		l   *[]string
+		i   *[]int
+	}{{d.Whole, &c.aL, &c.aI}, {d.Sub, &c.bL, &c.bI}, {d.MainPlot, &c.mL, &c.mI}} {
+		if *f.l, *f.i, err = codes(f.col); err != nil {
+			return nil, err
+		}
+	}
+	return c, nil
+}
+
 // SplitPlotANOVA analyses a balanced split plot (every main plot holds
 // every sub-plot level once; each whole-plot level on the same number of
 // main plots) in two strata (Cochran and Cox 1957, Experimental Designs,
@@ -94,26 +126,12 @@ func codes(c Column) ([]string, []int, error) { return c.levels() }
 // main plots + B + A × B). Checked against statsmodels OLS fits of the same
 // nested models (testdata/reference/gen_splitplot.py).
 func SplitPlotANOVA(d SplitPlot) (*SplitPlotResult, error) {
-	n := len(d.Values)
-	if len(d.Whole.Values) != n || len(d.Sub.Values) != n || len(d.MainPlot.Values) != n || d.Block != nil && len(d.Block.Values) != n {
-		return nil, errors.New("split plot: every column needs one value per observation")
-	}
-	y, _, err := centred(d.Values)
-	if err != nil {
-		return nil, fmt.Errorf("response %q: %w", d.Response, err)
-	}
-	aL, aI, err := codes(d.Whole)
+	c, err := d.coded()
 	if err != nil {
 		return nil, err
 	}
-	bL, bI, err := codes(d.Sub)
-	if err != nil {
-		return nil, err
-	}
-	mL, mI, err := codes(d.MainPlot)
-	if err != nil {
-		return nil, err
-	}
+	n, y := len(d.Values), c.y
+	aL, aI, bL, bI, mL, mI := c.aL, c.aI, c.bL, c.bI, c.mL, c.mI
 	a, b, m := len(aL), len(bL), len(mL)
 	if a < 2 || b < 2 {
 		return nil, fmt.Errorf("a split plot needs at least 2 levels of %s and of %s", d.Whole.Name, d.Sub.Name)
