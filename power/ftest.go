@@ -19,10 +19,12 @@ const MaxPerGroup = 1_000_000
 // ErrTooLarge reports that no n up to MaxPerGroup reaches the target power.
 var ErrTooLarge = errors.New("power: the target power is not reached within the search limit")
 
-// Factor is a treatment factor with its number of levels.
+// Factor is a treatment factor with its number of levels and, optionally,
+// their names.
 type Factor struct {
-	Name   string
-	Levels int
+	Name   string   `json:"name"`
+	Levels int      `json:"levels"`
+	Names  []string `json:"level_names,omitempty"`
 }
 
 // Design is the balanced layout whose F test is planned: the full factorial
@@ -153,11 +155,18 @@ type Result struct {
 	Power      float64 // P(reject) at effect f
 }
 
-// Evaluate returns the F test at n for effect f and level alpha:
-// df1 = TermDF, df2 = N − cells (completely randomised) or
-// (cells − 1)(n − 1) (complete blocks), λ = f²·N, power =
-// P(F(df1, df2, λ) > F_{1−alpha}(df1, df2)).
+// Evaluate returns the F test at n for Cohen's f and level alpha; it is
+// EvaluateEffect with Effect{F: f}.
 func (d Design) Evaluate(n int, f, alpha float64) Result {
+	return d.EvaluateEffect(n, Effect{F: f}, alpha)
+}
+
+// EvaluateEffect returns the F test at n for effect e and level alpha:
+// df1 = TermDF, df2 = N − cells (completely randomised) or
+// (cells − 1)(n − 1) (complete blocks), λ = d.Noncentrality(e, sizes at n),
+// power = P(F(df1, df2, λ) > F_{1−alpha}(df1, df2)). An infinite λ (an
+// effect so large that f²·N overflows) has power 1.
+func (d Design) EvaluateEffect(n int, e Effect, alpha float64) Result {
 	sizes := d.GroupSizes(n)
 	total := 0
 	for _, s := range sizes {
@@ -170,31 +179,45 @@ func (d Design) Evaluate(n int, f, alpha float64) Result {
 	} else {
 		r.DF2 = float64(total - cells)
 	}
-	r.Lambda = f * f * float64(total)
+	r.Lambda = d.Noncentrality(e, sizes)
 	if r.DF2 < 1 {
 		r.FCrit, r.Power = math.NaN(), math.NaN()
 		return r
 	}
-	r.FCrit = distuv.F{D1: r.DF1, D2: r.DF2}.Quantile(1 - alpha)
+	r.FCrit = fCrit(r.DF1, r.DF2, alpha)
+	if math.IsInf(r.Lambda, 1) {
+		r.Power = 1
+		return r
+	}
 	r.Power = prob.NoncentralF{D1: r.DF1, D2: r.DF2, Lambda: r.Lambda}.Survival(r.FCrit)
 	return r
 }
 
-// Solve returns the smallest n ≥ MinN whose power at effect f reaches target.
-// The power rises with n, so the search doubles n until the target is
-// passed and then bisects; it costs about 2·log2(n) evaluations. It returns
-// ErrTooLarge (wrapped, with the power reached) when n would exceed
-// MaxPerGroup.
+func fCrit(df1, df2, alpha float64) float64 {
+	return distuv.F{D1: df1, D2: df2}.Quantile(1 - alpha)
+}
+
+// Solve returns the smallest n ≥ MinN whose power at Cohen's f reaches
+// target; it is SolveEffect with Effect{F: f}.
 func (d Design) Solve(f, alpha, target float64) (Result, error) {
+	return d.SolveEffect(Effect{F: f}, alpha, target)
+}
+
+// SolveEffect returns the smallest n ≥ MinN whose power at effect e reaches
+// target. The power rises with n, so the search doubles n until the target
+// is passed and then bisects; it costs about 2·log2(n) evaluations. It
+// returns ErrTooLarge (wrapped, with the power reached) when n would exceed
+// MaxPerGroup.
+func (d Design) SolveEffect(e Effect, alpha, target float64) (Result, error) {
 	var last Result
 	n, err := searchN(d.MinN(), func(n int) float64 {
-		last = d.Evaluate(n, f, alpha)
+		last = d.EvaluateEffect(n, e, alpha)
 		return last.Power
 	}, target)
 	if err != nil {
 		return last, err
 	}
-	return d.Evaluate(n, f, alpha), nil
+	return d.EvaluateEffect(n, e, alpha), nil
 }
 
 // Detectable returns the smallest Cohen's f that the design detects with power
