@@ -52,7 +52,7 @@ func (d NoncentralF) CDF(x float64) float64 {
 	}
 	y, yc := d.split(x)
 	mu := d.Lambda / 2
-	return clamp01(betaMixture(mu, 1, -mu, d.D1/2, d.D2/2, y, yc, false))
+	return clamp01(betaMixture(mu, 1, 0, d.D1/2, d.D2/2, y, yc, false))
 }
 
 // Survival returns P(F > x). It is 1 for x ≤ 0.
@@ -68,7 +68,7 @@ func (d NoncentralF) Survival(x float64) float64 {
 	}
 	y, yc := d.split(x)
 	mu := d.Lambda / 2
-	return clamp01(betaMixture(mu, 1, -mu, d.D1/2, d.D2/2, y, yc, true))
+	return clamp01(betaMixture(mu, 1, 0, d.D1/2, d.D2/2, y, yc, true))
 }
 
 func clamp01(p float64) float64 {

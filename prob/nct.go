@@ -49,10 +49,10 @@ func (d NoncentralT) upperNonneg(t float64) float64 {
 	}
 	x, xc := t*t/(t*t+d.Nu), d.Nu/(t*t+d.Nu)
 	mu := d.Delta * d.Delta / 2
-	sp := betaMixture(mu, 1, -mu, 0.5, d.Nu/2, x, xc, true)
+	sp := betaMixture(mu, 1, 0, 0.5, d.Nu/2, x, xc, true)
 	var sq float64
 	if d.Delta != 0 {
-		sq = betaMixture(mu, 1.5, math.Log(math.Abs(d.Delta)/math.Sqrt2)-mu, 1, d.Nu/2, x, xc, true)
+		sq = betaMixture(mu, 1.5, math.Log(math.Abs(d.Delta)/math.Sqrt2), 1, d.Nu/2, x, xc, true)
 		if d.Delta < 0 {
 			sq = -sq
 		}
@@ -85,10 +85,10 @@ func (d NoncentralT) lowerNonneg(t float64) float64 {
 	}
 	x, xc := t*t/(t*t+d.Nu), d.Nu/(t*t+d.Nu)
 	mu := d.Delta * d.Delta / 2
-	sp := betaMixture(mu, 1, -mu, 0.5, d.Nu/2, x, xc, false)
+	sp := betaMixture(mu, 1, 0, 0.5, d.Nu/2, x, xc, false)
 	var sq float64
 	if d.Delta != 0 {
-		sq = betaMixture(mu, 1.5, math.Log(math.Abs(d.Delta)/math.Sqrt2)-mu, 1, d.Nu/2, x, xc, false)
+		sq = betaMixture(mu, 1.5, math.Log(math.Abs(d.Delta)/math.Sqrt2), 1, d.Nu/2, x, xc, false)
 		if d.Delta < 0 {
 			sq = -sq
 		}
