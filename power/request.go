@@ -114,19 +114,21 @@ type Answer struct {
 	SD         float64 `json:"sd,omitempty"`
 	SDText     string  `json:"sd_basis,omitempty"`
 	// N is units per group, or blocks for block designs (NUnit says which).
-	N            int     `json:"n_per_group"`
-	NUnit        string  `json:"n_unit"`
-	GroupSizes   []int   `json:"group_sizes"`
-	Total        int     `json:"total_n"`
-	Dropout      float64 `json:"dropout"`
-	NDropout     int     `json:"n_with_dropout"`
-	TotalDropout int     `json:"total_with_dropout"`
-	DF1          float64 `json:"df1"`
-	DF2          float64 `json:"df2"`
-	Lambda       float64 `json:"noncentrality"`
-	Crit         float64 `json:"critical_value"`
-	CritName     string  `json:"critical_name"`
-	Power        float64 `json:"achieved_power"`
+	N          int     `json:"n_per_group"`
+	NUnit      string  `json:"n_unit"`
+	GroupSizes []int   `json:"group_sizes"`
+	Total      int     `json:"total_n"`
+	Dropout    float64 `json:"dropout"`
+	NDropout   int     `json:"n_with_dropout"`
+	// GroupSizesDropout holds the units per treatment cell at NDropout.
+	GroupSizesDropout []int   `json:"group_sizes_with_dropout"`
+	TotalDropout      int     `json:"total_with_dropout"`
+	DF1               float64 `json:"df1"`
+	DF2               float64 `json:"df2"`
+	Lambda            float64 `json:"noncentrality"`
+	Crit              float64 `json:"critical_value"`
+	CritName          string  `json:"critical_name"`
+	Power             float64 `json:"achieved_power"`
 	// Detectable is the smallest effect (f, or d for t tests and
 	// comparisons) at the target power; DiffDetectable the same in response
 	// units when an SD was given.
@@ -630,7 +632,8 @@ func Compute(r Request) (Answer, error) {
 		return a, err
 	}
 	a.NDropout = int(math.Ceil(float64(a.N)/(1-r.Dropout) - 1e-9))
-	for _, s := range sizesFor(d, r, a.NDropout) {
+	a.GroupSizesDropout = sizesFor(d, r, a.NDropout)
+	for _, s := range a.GroupSizesDropout {
 		a.TotalDropout += s
 	}
 	a.Warnings = r.warnings()
@@ -892,18 +895,22 @@ func joinFloatsSep(v []float64, sep string) string {
 	return strings.Join(s, sep)
 }
 
-// Series is a power curve: power against n for one effect size.
+// Series is a power curve: power against n for one effect.
 type Series struct {
-	Label  string    `json:"label"`
-	Effect float64   `json:"effect"`
-	N      []int     `json:"n"`
-	Power  []float64 `json:"power"`
+	Label string `json:"label"`
+	// SDFactor is the SD multiplier of this curve (1 for the planned one).
+	SDFactor float64   `json:"sd_factor"`
+	Effect   float64   `json:"effect"`
+	N        []int     `json:"n"`
+	Power    []float64 `json:"power"`
 }
 
-// CurvePoints returns power against n for the answer's effect and two
-// neighbours (×0.75 and ×1.33), for n from the smallest usable to about
-// 2.5 times the answer's n.
-func CurvePoints(r Request, a Answer) ([]Series, error) {
+// CurvePoints returns power against n (units per group, or blocks) for the
+// answer's effect, for n from the smallest usable to about 2.5 times the
+// answer's n, followed by one curve for each SD factor asked for (the same
+// effect in response units with the SD multiplied by the factor, that is
+// λ divided by its square), labelled with what it is ("SD 20% higher").
+func CurvePoints(r Request, a Answer, sdFactors ...float64) ([]Series, error) {
 	if err := r.normalise(); err != nil {
 		return nil, err
 	}
@@ -911,32 +918,70 @@ func CurvePoints(r Request, a Answer) ([]Series, error) {
 	if err != nil {
 		return nil, err
 	}
-	eff, name := a.F, "f"
-	if r.Test != TestF {
-		eff, name = a.D, "d"
+	if err := r.resolveControl(d); err != nil {
+		return nil, err
+	}
+	sd, _, _, err := r.sd()
+	if err != nil {
+		return nil, err
+	}
+	eff, err := r.effect(d, sd)
+	if err != nil {
+		return nil, err
 	}
 	if r.Detect {
-		eff = a.Detectable
+		eff.e, eff.d = Effect{F: a.Detectable}, a.Detectable
 	}
 	nmax := max(10, int(math.Ceil(2.5*float64(a.N))))
 	step := max(1, nmax/200)
-	powerAt := func(n int, e float64) float64 {
+	powerAt := func(n int, k float64) float64 {
 		switch r.Test {
 		case TestT:
-			return TwoGroups{Ratio: ratioT(r), Sides: r.Sides}.Evaluate(n, e, r.Alpha).Power
+			return TwoGroups{Ratio: ratioT(r), Sides: r.Sides}.Evaluate(n, eff.d/k, r.Alpha).Power
 		case TestControl, TestAllPairs, TestDunnett, TestPairsBonferroni:
 			return Comparisons{Design: d, AllPair: r.Test == TestAllPairs || r.Test == TestPairsBonferroni, Control: r.Control - 1, Sides: r.Sides,
-				Dunnett: r.Test == TestDunnett, Tukey: r.Test == TestAllPairs}.Evaluate(n, e, r.Alpha).Power
+				Dunnett: r.Test == TestDunnett, Tukey: r.Test == TestAllPairs}.Evaluate(n, eff.d/k, r.Alpha).Power
 		}
-		return d.Evaluate(n, e, r.Alpha).Power
+		e := eff.e
+		if e.kind() == "f" {
+			e.F /= k
+		} else {
+			e.SD *= k
+		}
+		return d.EvaluateEffect(n, e, r.Alpha).Power
+	}
+	label := func(k float64) string {
+		if k == 1 {
+			switch eff.kind {
+			case "means":
+				return fmt.Sprintf("means %s, SD %s (planned)", joinFloats(r.Means), trimSig(sd, 4))
+			case "diff":
+				return fmt.Sprintf("difference %s, SD %s (planned)", short(r.Diff), trimSig(sd, 4))
+			case "detect":
+				if a.DiffDetectable > 0 {
+					return fmt.Sprintf("detectable difference %s, SD %s", trimSig(a.DiffDetectable, 4), trimSig(sd, 4))
+				}
+			}
+			if r.Test == TestF {
+				return fmt.Sprintf("Cohen's f = %s (planned)", trimSig(a.F, 3))
+			}
+			return fmt.Sprintf("d = %s (planned)", trimSig(a.D, 3))
+		}
+		pct := math.Round(100 * math.Abs(k-1))
+		if k > 1 {
+			return fmt.Sprintf("SD %g%% higher", pct)
+		}
+		return fmt.Sprintf("SD %g%% lower", pct)
 	}
 	var out []Series
-	for _, m := range []float64{0.75, 1, 4.0 / 3} {
-		e := eff * m
-		s := Series{Label: fmt.Sprintf("%s = %s", name, trimSig(e, 3)), Effect: e}
+	for _, k := range append([]float64{1}, sdFactors...) {
+		s := Series{Label: label(k), SDFactor: k, Effect: a.F / k}
+		if r.Test != TestF {
+			s.Effect = a.D / k
+		}
 		for n := d.MinN(); n <= nmax; n += step {
 			s.N = append(s.N, n)
-			s.Power = append(s.Power, powerAt(n, e))
+			s.Power = append(s.Power, powerAt(n, k))
 		}
 		out = append(out, s)
 	}

@@ -32,6 +32,9 @@ type layoutOptions struct {
 	json     bool
 	force    bool
 	now      func() time.Time
+	from     string
+	fromPlan *report.SizePlan
+	fromCmd  *cobra.Command
 }
 
 func newLayoutCmd(s *streams, runF func(*layoutOptions) error) *cobra.Command {
@@ -107,6 +110,7 @@ file (keys are these flag names, with _ for -); flags override it.` + "\n" + exi
 	f.StringVar(&o.mapFile, "map", "", "draw the bench map (each block as its grid) to `FILE.svg` or .png, for printing on A4")
 	f.BoolVar(&o.json, "json", false, "print the resolved plan and assignment as JSON")
 	f.BoolVar(&o.force, "force", false, "replace existing output files")
+	f.StringVar(&o.from, "from", "", "take treatments, replication, blocks and response from `FILE.json` written by allot size -o")
 	cmd.AddCommand(newVerifyCmd(s, nil))
 	return cmd
 }
@@ -162,6 +166,14 @@ func (o *layoutOptions) resolveSpec(c *cobra.Command) error {
 			sp.Subsamples = flags.Subsamples
 		}
 		o.spec = sp
+	}
+	if o.from != "" {
+		p, err := o.applyFrom(c)
+		if err != nil {
+			return err
+		}
+		o.fromPlan = p
+		o.fromCmd = c
 	}
 	if o.seed != "" {
 		v, err := strconv.ParseUint(strings.TrimSpace(o.seed), 10, 64)
@@ -241,6 +253,9 @@ func layoutRun(s *streams, o *layoutOptions) error {
 	lay, err := randomize.Assign(plan)
 	if err != nil {
 		return planError(err)
+	}
+	if o.fromPlan != nil {
+		fromNote(s.Err, o.from, o.fromPlan, len(lay.Units), o.fromCmd)
 	}
 	if o.out != "" {
 		if err := writeLayout(o.out, lay, o); err != nil {

@@ -32,11 +32,17 @@ type Spec struct {
 	Alpha       float64
 	SSType      int
 	// PostHoc is "", "tukey" or "dunnett" (against treatment Control).
+	// The comparisons are counted in every data set whatever the F test
+	// says, as allot analyze runs requested comparisons regardless of it.
 	PostHoc string
 	Control int
-	Sims    int
-	Seed    uint64
-	Workers int
+	// Sides (1 or 2; 0 means 2) and Direction ("lower" or "higher", for one
+	// side) of Dunnett's comparisons; Tukey's are two-sided.
+	Sides     int
+	Direction string
+	Sims      int
+	Seed      uint64
+	Workers   int
 	// Progress, when set, is called now and then with the number of data
 	// sets done; it must be safe for concurrent use.
 	Progress func(done int)
@@ -210,9 +216,12 @@ func (s Spec) validate() error {
 		return fmt.Errorf("comparisons %q: simulate tukey or dunnett", s.PostHoc)
 	}
 	for _, v := range append(append([]float64{}, s.SDs...), s.BlockSD, s.SubsampleSD) {
-		if !(v >= 0) {
-			return fmt.Errorf("SDs must be non-negative")
+		if !(v >= 0) || math.IsInf(v, 0) {
+			return fmt.Errorf("SDs must be finite and non-negative")
 		}
+	}
+	if s.PostHoc == "tukey" && s.Sides == 1 {
+		return fmt.Errorf("Tukey's comparisons are two-sided")
 	}
 	return nil
 }
@@ -274,6 +283,12 @@ type worker struct {
 	masks   []int // per term: its factors as a bit mask
 	margSum []float64
 	center  float64
+	// params is the number of model coefficients (1 + the terms' df): a
+	// data set with no more surviving units than that, or with a treatment
+	// or block lost entirely, cannot be analysed.
+	params int
+	nTreat []int
+	nBlock []int
 }
 
 func newWorker(s Spec, e *analyze.Engine, terms []analyze.Term, pairs [][2]int, fast bool) *worker {
@@ -283,6 +298,12 @@ func newWorker(s Spec, e *analyze.Engine, terms []analyze.Term, pairs [][2]int, 
 	for _, m := range s.Means {
 		w.center += m / float64(len(s.Means))
 	}
+	w.params = 1
+	for _, t := range terms {
+		w.params += t.DF
+	}
+	w.nTreat = make([]int, len(s.Means))
+	w.nBlock = make([]int, s.Layout.Plan.Blocks+1)
 	if fast {
 		p := s.Layout.Plan
 		tr := p.Treatments()
@@ -361,7 +382,11 @@ func (w *worker) postCrit(df int) float64 {
 				lam = append(lam, math.Sqrt(float64(n)/float64(n+sizes[w.s.Control])))
 			}
 		}
-		c = prob.Dunnett{Lambda: lam, Nu: float64(df), Sides: 2}.Quantile(1 - w.s.Alpha)
+		sides := w.s.Sides
+		if sides != 1 {
+			sides = 2
+		}
+		c = prob.Dunnett{Lambda: lam, Nu: float64(df), Sides: sides}.Quantile(1 - w.s.Alpha)
 	}
 	w.qcrit[df] = c
 	return c
@@ -407,6 +432,9 @@ func (w *worker) one(i int, c *counts) {
 		keep := w.keep
 		if s.Dropout == 0 {
 			keep = nil
+		} else if !w.analysable() {
+			c.failed++
+			return
 		}
 		f, err = w.eng.Fit(w.y, keep)
 	}
@@ -423,6 +451,37 @@ func (w *worker) one(i int, c *counts) {
 	if len(w.pairs) > 0 {
 		w.comparisons(mse, f.ResDF, c)
 	}
+}
+
+// analysable reports whether the surviving units can be analysed: more
+// of them than model coefficients, and every treatment and every block
+// still present. The engine's QR factorisation needs at least as many rows
+// as columns, so this is checked before fitting.
+func (w *worker) analysable() bool {
+	clear(w.nTreat)
+	clear(w.nBlock)
+	kept := 0
+	for u, unit := range w.s.Layout.Units {
+		if w.keep[u] {
+			kept++
+			w.nTreat[unit.Treatment]++
+			w.nBlock[unit.Block]++
+		}
+	}
+	if kept <= w.params {
+		return false
+	}
+	for _, n := range w.nTreat {
+		if n == 0 {
+			return false
+		}
+	}
+	for b := 1; b < len(w.nBlock); b++ {
+		if w.nBlock[b] == 0 {
+			return false
+		}
+	}
+	return true
 }
 
 // comparisons counts the significant planned comparisons of data set y.
@@ -448,6 +507,17 @@ func (w *worker) comparisons(mse float64, df int, c *counts) {
 		if w.s.PostHoc == "tukey" {
 			stat = diff / math.Sqrt(mse/2*(1/float64(n[a])+1/float64(n[b])))
 		} else {
+			if w.s.Sides == 1 {
+				// treatment minus control, signed by the expected direction
+				t, ctl := b, a
+				if b == w.s.Control {
+					t, ctl = a, b
+				}
+				diff = sum[t]/float64(n[t]) - sum[ctl]/float64(n[ctl])
+				if w.s.Direction == "lower" {
+					diff = -diff
+				}
+			}
 			stat = diff / math.Sqrt(mse*(1/float64(n[a])+1/float64(n[b])))
 		}
 		if stat > crit {
