@@ -606,6 +606,9 @@ func Compute(r Request) (Answer, error) {
 	}
 	a := Answer{Alpha: r.Alpha, Target: r.Power, SD: sd, SDText: sdText, EffectText: eff.text, Notes: notes, Dropout: r.Dropout,
 		EffectKind: eff.kind, Means: r.Means, Diff: r.Diff, GroupNames: groupNames(d), Factors: d.Factors, Blocked: d.Blocked}
+	if r.ControlName != "" {
+		a.Control = r.ControlName
+	}
 	a.Mode = "sample size"
 	switch {
 	case r.Detect:
@@ -632,6 +635,9 @@ func Compute(r Request) (Answer, error) {
 		return a, err
 	}
 	a.NDropout = int(math.Ceil(float64(a.N)/(1-r.Dropout) - 1e-9))
+	if math.IsInf(a.Lambda, 0) || math.IsNaN(a.Lambda) {
+		return a, &FieldError{Field: effectFlag(eff.kind), Value: effectValue(r, eff.kind), Msg: "the effect is so large against the SD that its noncentrality overflows; check the values and their units (any design detects such an effect)"}
+	}
 	a.GroupSizesDropout = sizesFor(d, r, a.NDropout)
 	for _, s := range a.GroupSizesDropout {
 		a.TotalDropout += s

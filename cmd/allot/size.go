@@ -266,6 +266,9 @@ func (o *sizeOptions) resolve(c *cobra.Command) error {
 	default:
 		return usagef("--compare %s: must be control, dunnett, pairs (Tukey) or pairs-bonferroni", o.compare)
 	}
+	if r.Direction != "" && !c.Flags().Changed("sides") {
+		r.Sides = 0 // --direction implies one side
+	}
 	if o.compare == "" && r.Direction != "" {
 		r.Test = power.TestT
 	}
