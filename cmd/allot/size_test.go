@@ -66,6 +66,25 @@ func TestSizeParse(t *testing.T) {
 				t.Errorf("%+v", o.req)
 			}
 		}},
+		{"justification", []string{"--levels", "veh,low", "--control", "veh", "--diff", "10", "--sd", "8", "--response", "weight", "--unit", "mg",
+			"--sd-source", "pilot", "--subjects", "animals", "--block-name", "litter", "--effect-reason", "matters", "--direction", "lower", "-o", "s.json"}, func(t *testing.T, o *sizeOptions) {
+			st := o.study
+			if len(o.req.Levels) != 2 || o.req.ControlName != "veh" || st.Response != "weight" || st.Unit != "mg" || st.SDSource != "pilot" ||
+				st.Subjects != "animals" || st.BlockName != "litter" || st.EffectReason != "matters" || o.req.Direction != "lower" ||
+				o.req.Sides != 0 || o.req.Test != power.TestT || o.out != "s.json" {
+				t.Errorf("%+v %+v", o.req, st)
+			}
+		}},
+		{"explicit zero", []string{"--groups", "3", "--f", "0.3", "--alpha", "0.01"}, func(t *testing.T, o *sizeOptions) {
+			if !o.req.Explicit["alpha"] || o.req.Explicit["power"] {
+				t.Errorf("explicit %v", o.req.Explicit)
+			}
+		}},
+		{"tukey and resource", []string{"--groups", "4", "--compare", "pairs", "--resource"}, func(t *testing.T, o *sizeOptions) {
+			if o.req.Test != power.TestAllPairs || !o.resource {
+				t.Errorf("%+v", o.req)
+			}
+		}},
 	}
 	for _, tt := range tests {
 		t.Run(tt.name, func(t *testing.T) {
