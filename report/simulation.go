@@ -46,7 +46,7 @@ func SimulationText(w io.Writer, s Simulation) error {
 		rows = append(rows, [2]string{"losses", fmt.Sprintf("%s units lost per data set on average", num(r.MeanLost, 3))})
 	}
 	if r.Failed > 0 {
-		rows = append(rows, [2]string{"not analysable", fmt.Sprintf("%d data sets (a treatment or block lost entirely); counted as not rejecting", r.Failed)})
+		rows = append(rows, [2]string{"not analysable", fmt.Sprintf("%d data sets (a treatment lost, or a block or the model left with too few units); counted as not rejecting", r.Failed)})
 	}
 	if s.Exact > 0 {
 		rows = append(rows, [2]string{"exact power", fixed(s.Exact, 4) + " (noncentral F, no losses, for comparison)"})

@@ -14,6 +14,7 @@ import (
 	"github.com/allotproject/allot/randomize"
 
 	"golang.org/x/exp/rand"
+	"gonum.org/v1/gonum/mat"
 	"gonum.org/v1/gonum/stat/distuv"
 )
 
@@ -454,8 +455,8 @@ func (w *worker) one(i int, c *counts) {
 }
 
 // analysable reports whether the surviving units can be analysed: more
-// of them than model coefficients, and every treatment and every block
-// still present. The engine's QR factorisation needs at least as many rows
+// of them than model coefficients, every treatment still present, and
+// every block with at least two units. The engine's QR factorisation needs at least as many rows
 // as columns, so this is checked before fitting.
 func (w *worker) analysable() bool {
 	clear(w.nTreat)
@@ -476,24 +477,50 @@ func (w *worker) analysable() bool {
 			return false
 		}
 	}
-	for b := 1; b < len(w.nBlock); b++ {
-		if w.nBlock[b] == 0 {
+	// As allot analyze requires, every block holds at least two units to
+	// compare treatments within it.
+	for b := 1; b < len(w.nBlock) && len(w.nBlock) > 2; b++ {
+		if w.nBlock[b] < 2 {
 			return false
 		}
 	}
 	return true
 }
 
-// comparisons counts the significant planned comparisons of data set y.
+// comparisons counts the significant planned comparisons of data set y,
+// on least-squares means with model-based standard errors as allot
+// analyze computes them: for a completely randomised layout these are the
+// raw means with SE² = MSE(1/nₐ + 1/n_b); for complete blocks with units
+// lost they come from the additive block + treatment fit (lsDiffs), where
+// the raw means would carry block effects.
 func (w *worker) comparisons(mse float64, df int, c *counts) {
 	k := len(w.s.Means)
 	sum := make([]float64, k)
 	n := make([]int, k)
+	lost := false
 	for u, unit := range w.s.Layout.Units {
 		if w.keep[u] {
 			sum[unit.Treatment] += w.y[u]
 			n[unit.Treatment]++
+		} else {
+			lost = true
 		}
+	}
+	est := make([]float64, k)
+	for i := range est {
+		if n[i] > 0 {
+			est[i] = sum[i] / float64(n[i])
+		}
+	}
+	// se2 returns the squared SE of est[a] − est[b] over MSE.
+	se2 := func(a, b int) float64 { return 1/float64(n[a]) + 1/float64(n[b]) }
+	if lost && w.s.Layout.Plan.Design == design.RCBD {
+		beta, cov, ok := w.lsDiffs()
+		if !ok {
+			return
+		}
+		est = beta
+		se2 = func(a, b int) float64 { return cov.At(a, a) + cov.At(b, b) - 2*cov.At(a, b) }
 	}
 	crit := w.postCrit(df)
 	any := false
@@ -502,10 +529,10 @@ func (w *worker) comparisons(mse float64, df int, c *counts) {
 		if n[a] == 0 || n[b] == 0 {
 			continue
 		}
-		diff := math.Abs(sum[a]/float64(n[a]) - sum[b]/float64(n[b]))
+		diff := math.Abs(est[a] - est[b])
 		var stat float64
 		if w.s.PostHoc == "tukey" {
-			stat = diff / math.Sqrt(mse/2*(1/float64(n[a])+1/float64(n[b])))
+			stat = diff / math.Sqrt(mse/2*se2(a, b))
 		} else {
 			if w.s.Sides == 1 {
 				// treatment minus control, signed by the expected direction
@@ -513,12 +540,12 @@ func (w *worker) comparisons(mse float64, df int, c *counts) {
 				if b == w.s.Control {
 					t, ctl = a, b
 				}
-				diff = sum[t]/float64(n[t]) - sum[ctl]/float64(n[ctl])
+				diff = est[t] - est[ctl]
 				if w.s.Direction == "lower" {
 					diff = -diff
 				}
 			}
-			stat = diff / math.Sqrt(mse*(1/float64(n[a])+1/float64(n[b])))
+			stat = diff / math.Sqrt(mse*se2(a, b))
 		}
 		if stat > crit {
 			c.pairs[i]++
@@ -528,6 +555,56 @@ func (w *worker) comparisons(mse float64, df int, c *counts) {
 	if any {
 		c.anyPair++
 	}
+}
+
+// lsDiffs fits the additive model y = τ_treatment + β_block + e (blocks
+// 2..B coded against block 1) to the surviving units by least squares and
+// returns the treatment coefficients τ, whose differences are the
+// differences of the least-squares means (the block terms cancel), and
+// the treatment block of (X'X)⁻¹, which times MSE gives their covariance.
+func (w *worker) lsDiffs() ([]float64, *mat.Dense, bool) {
+	k := len(w.s.Means)
+	nb := w.s.Layout.Plan.Blocks
+	p := k + nb - 1
+	xtx := mat.NewSymDense(p, nil)
+	xty := mat.NewVecDense(p, nil)
+	cols := make([]int, 0, 2)
+	for u, unit := range w.s.Layout.Units {
+		if !w.keep[u] {
+			continue
+		}
+		cols = append(cols[:0], unit.Treatment)
+		if unit.Block > 1 {
+			cols = append(cols, k+unit.Block-2)
+		}
+		for _, i := range cols {
+			xty.SetVec(i, xty.AtVec(i)+w.y[u])
+			for _, j := range cols {
+				if j >= i {
+					xtx.SetSym(i, j, xtx.At(i, j)+1)
+				}
+			}
+		}
+	}
+	var ch mat.Cholesky
+	if !ch.Factorize(xtx) {
+		return nil, nil, false
+	}
+	var inv mat.SymDense
+	if err := ch.InverseTo(&inv); err != nil {
+		return nil, nil, false
+	}
+	var beta mat.VecDense
+	beta.MulVec(&inv, xty)
+	est := make([]float64, k)
+	cov := mat.NewDense(k, k, nil)
+	for i := 0; i < k; i++ {
+		est[i] = beta.AtVec(i)
+		for j := 0; j < k; j++ {
+			cov.Set(i, j, inv.At(i, j))
+		}
+	}
+	return est, cov, true
 }
 
 // sufficient computes the ANOVA of a balanced, complete data set from

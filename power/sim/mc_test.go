@@ -5,6 +5,7 @@ import (
 
 	"github.com/allotproject/allot/analyze"
 	"math"
+	"strconv"
 	"strings"
 	"testing"
 
@@ -248,5 +249,65 @@ func TestDunnettDirection(t *testing.T) {
 	}
 	if !strings.Contains(lower.PostHocRule, "whatever the F test says") || !strings.Contains(lower.PostHocRule, "lower") {
 		t.Errorf("rule %q", lower.PostHocRule)
+	}
+}
+
+// With units lost from complete blocks, the simulated comparisons use the
+// least-squares means and model-based SEs that allot analyze reports
+// (analyze.Fit, Table.LSMeans and DiffSE), not the raw means.
+func TestLSDiffsMatchAnalysis(t *testing.T) {
+	l := layout(t, design.RCBD, 4, ones(4, 1), feed4)
+	s := Spec{Layout: l, Means: []float64{10, 11, 12, 13}, SDs: []float64{1}, BlockSD: 2, Dropout: 0.2, Alpha: 0.05, Sims: 1, Seed: 1, SSType: 3, PostHoc: "tukey"}
+	eng, _ := analyzeEngine(designData(l))
+	w := newWorker(s, eng, eng.Terms, nil, false)
+	checked := 0
+	for i := 0; checked < 5 && i < 200; i++ {
+		c := counts{terms: make([]int, len(eng.Terms))}
+		w.one(i, &c)
+		if c.failed > 0 || !w.analysable() {
+			continue
+		}
+		lost := false
+		d := designData(l)
+		var keepIdx []int
+		for u, k := range w.keep {
+			if k {
+				keepIdx = append(keepIdx, u)
+			} else {
+				lost = true
+			}
+		}
+		if !lost {
+			continue
+		}
+		sub := analyze.Data{Response: "y", Factors: []analyze.Column{{Name: "feed", Levels: d.Factors[0].Levels}}, Block: &analyze.Column{Name: "block"}}
+		for _, u := range keepIdx {
+			sub.Values = append(sub.Values, strconv.FormatFloat(w.y[u], 'g', -1, 64))
+			sub.Factors[0].Values = append(sub.Factors[0].Values, d.Factors[0].Values[u])
+			sub.Block.Values = append(sub.Block.Values, d.Block.Values[u])
+		}
+		tab, err := analyze.Fit(sub, analyze.Options{SSType: 3})
+		if err != nil {
+			t.Fatal(err)
+		}
+		est, cov, ok := w.lsDiffs()
+		if !ok {
+			t.Fatal("lsDiffs failed")
+		}
+		ls := tab.LSMeans(0)
+		mse := tab.Residual.MS
+		for a := 0; a < 4; a++ {
+			for b := a + 1; b < 4; b++ {
+				got, want := est[a]-est[b], ls[a].Mean-ls[b].Mean
+				gotSE := math.Sqrt(mse * (cov.At(a, a) + cov.At(b, b) - 2*cov.At(a, b)))
+				if math.Abs(got-want) > 1e-9 || math.Abs(gotSE-tab.DiffSE(0, a, b)) > 1e-9 {
+					t.Errorf("data set %d, %d−%d: diff %g SE %g; analyze %g SE %g", i, a, b, got, gotSE, want, tab.DiffSE(0, a, b))
+				}
+			}
+		}
+		checked++
+	}
+	if checked == 0 {
+		t.Fatal("no data set with losses checked")
 	}
 }
