@@ -40,3 +40,23 @@ func BenchmarkSolveTTest(b *testing.B) {
 		}
 	}
 }
+
+// BenchmarkSolveEffect solves from expected means with non-integer
+// allocation ratios (the noncentrality is recomputed from the group sizes
+// at every n) and from a least-favourable difference.
+func BenchmarkSolveEffect(b *testing.B) {
+	d := Design{Factors: []Factor{{Name: "g", Levels: 4}}, Ratios: []float64{1.5, 1, 1, 1}}
+	for _, c := range []struct {
+		name string
+		e    Effect
+	}{{"means", Effect{Means: []float64{10, 11, 12, 13}, SD: 3}}, {"diff", Effect{Diff: 2, SD: 3}}} {
+		b.Run(c.name, func(b *testing.B) {
+			b.ReportAllocs()
+			for i := 0; i < b.N; i++ {
+				if _, err := d.SolveEffect(c.e, 0.05, 0.9); err != nil {
+					b.Fatal(err)
+				}
+			}
+		})
+	}
+}

@@ -269,3 +269,27 @@ func TestWarnings(t *testing.T) {
 		t.Errorf("ordinary settings warned: %q", a.Warnings)
 	}
 }
+
+// Property: the galloping search from any guess finds the same smallest n
+// as the doubling search, for step functions with the threshold anywhere.
+func TestGallopMatchesSearch(t *testing.T) {
+	rng := rand.New(rand.NewPCG(5, 6))
+	for trial := 0; trial < 2000; trial++ {
+		thr := 3 + rng.IntN(5000)
+		pw := func(n int) float64 {
+			if n >= thr {
+				return 0.9
+			}
+			return 0.1
+		}
+		want, err := searchN(2, pw, 0.8)
+		if err != nil {
+			t.Fatal(err)
+		}
+		guess := 3 + rng.IntN(10000)
+		got, err := gallopN(2, guess, pw, 0.8)
+		if err != nil || got != want || want != thr {
+			t.Fatalf("threshold %d guess %d: gallop %d (%v), search %d", thr, guess, got, err, want)
+		}
+	}
+}

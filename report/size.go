@@ -177,6 +177,9 @@ func SizeText(w io.Writer, s Size) error {
 		rows = append(rows, [2]string{"detectable effect", effectName(s) + " = " + num(s.Detectable, 4)})
 		if s.DiffDetectable > 0 {
 			what := " (response units, between the two means)"
+			if s.Adjustment != "" {
+				what = " (response units, for each planned comparison)"
+			}
 			if s.CritName != "critical t" {
 				what = " (response units, between the most different means; least favourable spread)"
 			}
@@ -333,9 +336,8 @@ func Justification(s Size) string {
 	sides := ""
 	switch s.Sides {
 	case 1:
-		sides = ", one-sided"
-		if s.Direction != "" {
-			sides += " (the treatment expected " + s.Direction + ")"
+		if !strings.Contains(s.TestName, "one-sided") {
+			sides = ", one-sided"
 		}
 	case 2:
 		sides = ", two-sided"
