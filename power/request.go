@@ -421,8 +421,14 @@ func cellNames(fs []Factor) []string {
 	combos := []string{""}
 	for i, f := range fs {
 		var next []string
+		names := levelNames(f)
+		if len(fs) > 1 && len(f.Names) != f.Levels {
+			for j := range names {
+				names[j] = f.Name + names[j] // A1, A2 for unnamed levels
+			}
+		}
 		for _, c := range combos {
-			for _, l := range levelNames(f) {
+			for _, l := range names {
 				if i == 0 {
 					next = append(next, l)
 				} else {

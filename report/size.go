@@ -279,19 +279,13 @@ func (s Size) effectPhrase() string {
 			if i < len(s.GroupNames) {
 				name = s.GroupNames[i]
 			}
-			parts = append(parts, name+" "+s.withUnit(short(m)))
+			parts = append(parts, name+": "+s.withUnit(short(m)))
 		}
 		what := "the expected means"
 		if s.Response != "" {
 			what += " of " + s.Response
 		}
-		p := what + " (" + strings.Join(parts, ", ") + ")"
-		if len(s.Factors) > 1 {
-			p += fmt.Sprintf(", whose %s component gives Cohen's f = %s", strings.TrimPrefix(strings.TrimSuffix(s.TestName, " interaction"), "F test of the "), num(s.F, 3))
-		} else if s.CritName != "critical t" {
-			p += fmt.Sprintf(", Cohen's f = %s", num(s.F, 3))
-		}
-		return p
+		return what + " (" + strings.Join(parts, ", ") + ")"
 	case "d":
 		return fmt.Sprintf("a standardised difference of d = %s (the difference between the means over the SD)", num(s.D, 3))
 	case "eta2", "f":
@@ -357,7 +351,14 @@ func Justification(s Size) string {
 		}
 		b.WriteString(". ")
 	default:
-		fmt.Fprintf(&b, "To detect %s%s with a power of %s needs %d %s (%s; the power achieved is %s). ", s.effectPhrase(), s.sdPhrase(), fixed(s.Target, 2), s.N, per, total, fixed(s.Power, 3))
+		fmt.Fprintf(&b, "To detect %s%s at a power of %s, the test needs %d %s (%s; the power achieved is %s). ", s.effectPhrase(), s.sdPhrase(), fixed(s.Target, 2), s.N, per, total, fixed(s.Power, 3))
+	}
+	switch {
+	case s.EffectKind == "means" && len(s.Factors) > 1:
+		term := strings.TrimPrefix(strings.TrimPrefix(strings.TrimSuffix(s.TestName, " interaction"), "F test of the "), "F test of ")
+		fmt.Fprintf(&b, "Only the %s component of these cell means enters the test (Cohen's f = %s). ", term, num(s.F, 3))
+	case s.EffectKind == "means" && s.CritName != "critical t":
+		fmt.Fprintf(&b, "These means correspond to Cohen's f = %s. ", num(s.F, 3))
 	}
 	if s.EffectReason != "" {
 		fmt.Fprintf(&b, "Why this effect matters: %s. ", strings.TrimRight(s.EffectReason, ". "))
