@@ -60,3 +60,20 @@ func BenchmarkSolveEffect(b *testing.B) {
 		})
 	}
 }
+
+// BenchmarkSolveHugeEffect: effects far beyond any plan (f = 10^6; means
+// 10 and 20 with SD 2·10^-5) answer n = 2 at once (milliseconds at most).
+func BenchmarkSolveHugeEffect(b *testing.B) {
+	for _, c := range []struct {
+		name string
+		r    Request
+	}{{"f=1e6", Request{Groups: 3, F: 1e6}}, {"means-sd-2e-5", Request{Means: []float64{10, 20}, SD: 0.00002}}} {
+		b.Run(c.name, func(b *testing.B) {
+			for i := 0; i < b.N; i++ {
+				if _, err := Compute(c.r); err != nil {
+					b.Fatal(err)
+				}
+			}
+		})
+	}
+}

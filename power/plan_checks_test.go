@@ -2,6 +2,7 @@ package power
 
 import (
 	"encoding/json"
+	"errors"
 	"math"
 	"math/rand/v2"
 	"os"
@@ -291,5 +292,20 @@ func TestGallopMatchesSearch(t *testing.T) {
 		if err != nil || got != want || want != thr {
 			t.Fatalf("threshold %d guess %d: gallop %d (%v), search %d", thr, guess, got, err, want)
 		}
+	}
+}
+
+// A huge effect is answered with the smallest design at power 1, not
+// called too small; a NaN one is refused by name.
+func TestHugeAndNaNEffects(t *testing.T) {
+	for _, r := range []Request{{Groups: 3, F: 1e6}, {Means: []float64{10, 20}, SD: 0.00002}, {Test: TestT, D: 1e5}} {
+		a, err := Compute(r)
+		if err != nil || a.N != 2 || a.Power != 1 {
+			t.Errorf("%+v: n %d power %g (%v)", r, a.N, a.Power, err)
+		}
+	}
+	var fe *FieldError
+	if _, err := Compute(Request{Groups: 3, F: math.NaN()}); !errors.As(err, &fe) || fe.Field != "f" || strings.Contains(err.Error(), "too small") {
+		t.Errorf("NaN f: %v", err)
 	}
 }
