@@ -857,7 +857,19 @@ func (a *Answer) standardised(r Request, dd float64, eval func(n int, d float64)
 	case r.N > 0:
 		o, a.D = eval(r.N, dd), dd
 	default:
-		n, err := searchN(2, func(n int) float64 { return eval(n, dd).pwr }, r.Power)
+		pw := func(n int) float64 { return eval(n, dd).pwr }
+		m := 1.0
+		if r.Test != TestT {
+			m = float64(len(a.GroupNames) - 1)
+			if r.Test == TestAllPairs || r.Test == TestPairsBonferroni {
+				m = float64(len(a.GroupNames)*(len(a.GroupNames)-1)) / 2
+			}
+		}
+		n := 2
+		var err error
+		if o2 := eval(2, dd); o2.pwr < r.Power {
+			n, err = gallopN(2, tGuess(o2.delta, r.Alpha/m, r.Sides, r.Power), pw, r.Power)
+		}
 		a.D = dd
 		if err != nil {
 			tooSmall.Msg += ": " + err.Error()
