@@ -128,7 +128,7 @@ number of --workers; Ctrl-C stops early and prints what is done.` + "\n" + exitH
 		},
 	}
 	f := cmd.Flags()
-	f.IntVar(&o.req.Groups, "groups", 0, "number of groups `K` of a one-way layout (2 to 1000)")
+	f.IntVar(&o.req.Groups, "groups", 0, fmt.Sprintf("number of groups `K` of a one-way layout (2 to %d)", power.MaxCells))
 	f.StringArrayVar(&o.factors, "factor", nil, "factor `NAME=LEVELS` (a count or a comma list); repeat for a factorial")
 	f.StringVar(&o.term, "term", "", "effect to plan for in a factorial: `NAME` or NAME1,NAME2 for an interaction")
 	f.StringVar(&o.design, "design", "crd", "`crd` (completely randomised) or rcbd (randomised complete blocks)")
