@@ -28,6 +28,19 @@ type Comparisons struct {
 	// (prob.Dunnett, exact for the planned group sizes) instead of
 	// Bonferroni's t_{1−α/m}; it is less conservative.
 	Dunnett bool
+	// Tukey (with AllPair) uses Tukey's critical value for all pairs,
+	// |t| > q_{1−α}(k, df)/√2 with q the studentized range quantile
+	// (prob.StudentizedRange), the test allot analyze runs by default; with
+	// unequal groups the same critical value applies to each pair's own
+	// standard error (Tukey–Kramer; Kramer 1956, "Extension of multiple range
+	// tests to group means with unequal numbers of replications", Biometrics
+	// 12, 307–310). Power is computed for one pair: the probability that the
+	// pair's noncentral t, δ = (D/σ)/sqrt(1/nₐ + 1/n_b), exceeds q/√2 in
+	// absolute value. This is the usual per-pair planning of Tukey's method
+	// (Hsu 1996, Multiple Comparisons: Theory and Methods, Chapman & Hall,
+	// chapter 5, which plans the same critical value through the width of
+	// the simultaneous intervals; from memory).
+	Tukey bool
 }
 
 // CResult is the comparison plan at one n.
@@ -61,8 +74,11 @@ func (c Comparisons) Evaluate(n int, d, alpha float64) CResult {
 		r.Total += s
 	}
 	r.AlphaEach = alpha / float64(r.M)
-	fr := c.Design.Evaluate(n, 0, alpha) // for df2 only
-	r.DF = fr.DF2
+	if c.Design.Blocked {
+		r.DF = float64((len(sizes) - 1) * (n - 1))
+	} else {
+		r.DF = float64(r.Total - len(sizes))
+	}
 	if r.DF < 1 {
 		r.TCrit, r.Power = math.NaN(), math.NaN()
 		return r
@@ -93,6 +109,13 @@ func (c Comparisons) Evaluate(n int, d, alpha float64) CResult {
 		if c.Sides == 2 {
 			r.Power += nt.CDF(-r.TCrit)
 		}
+		return r
+	}
+	if c.Tukey && c.AllPair {
+		r.AlphaEach = math.NaN()
+		r.TCrit = prob.StudentizedRange{K: float64(len(sizes)), Nu: r.DF}.Quantile(1-alpha) / math.Sqrt2
+		nt := prob.NoncentralT{Nu: r.DF, Delta: r.Delta}
+		r.Power = nt.Survival(r.TCrit) + nt.CDF(-r.TCrit)
 		return r
 	}
 	if c.Sides == 1 {
@@ -131,6 +154,9 @@ func (c Comparisons) validate() error {
 	}
 	if c.Control < 0 || c.Control >= c.Design.Cells() {
 		return fmt.Errorf("control group %d out of range", c.Control+1)
+	}
+	if c.Tukey && (!c.AllPair || c.Sides != 2) {
+		return fmt.Errorf("Tukey's comparisons are of all pairs, two-sided")
 	}
 	return nil
 }

@@ -23,7 +23,10 @@ func FFromEta2(eta2 float64) (float64, error) {
 //	f = sqrt(Σ w_i (μ_i − μ̄)²) / σ,  μ̄ = Σ w_i μ_i,  Σ w_i = 1
 //
 // (Cohen 1988, eq. 8.2.1, with the weighted mean for unequal allocation, so
-// that λ = f²·N equals Σ n_i (μ_i − μ̄)²/σ²).
+// that λ = f²·N equals Σ n_i (μ_i − μ̄)²/σ²). For unequal groups w must be
+// the group sizes actually used (⌈n·rᵢ⌉), not the allocation ratios, which
+// differ from them when n·rᵢ is not whole; Design.Noncentrality does this
+// at every n.
 func FFromMeans(means, w []float64, sd float64) (float64, error) {
 	if len(means) < 2 {
 		return 0, fmt.Errorf("need at least 2 means, got %d", len(means))

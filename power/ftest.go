@@ -19,10 +19,12 @@ const MaxPerGroup = 1_000_000
 // ErrTooLarge reports that no n up to MaxPerGroup reaches the target power.
 var ErrTooLarge = errors.New("power: the target power is not reached within the search limit")
 
-// Factor is a treatment factor with its number of levels.
+// Factor is a treatment factor with its number of levels and, optionally,
+// their names.
 type Factor struct {
-	Name   string
-	Levels int
+	Name   string   `json:"name"`
+	Levels int      `json:"levels"`
+	Names  []string `json:"level_names,omitempty"`
 }
 
 // Design is the balanced layout whose F test is planned: the full factorial
@@ -153,11 +155,18 @@ type Result struct {
 	Power      float64 // P(reject) at effect f
 }
 
-// Evaluate returns the F test at n for effect f and level alpha:
-// df1 = TermDF, df2 = N − cells (completely randomised) or
-// (cells − 1)(n − 1) (complete blocks), λ = f²·N, power =
-// P(F(df1, df2, λ) > F_{1−alpha}(df1, df2)).
+// Evaluate returns the F test at n for Cohen's f and level alpha; it is
+// EvaluateEffect with Effect{F: f}.
 func (d Design) Evaluate(n int, f, alpha float64) Result {
+	return d.EvaluateEffect(n, Effect{F: f}, alpha)
+}
+
+// EvaluateEffect returns the F test at n for effect e and level alpha:
+// df1 = TermDF, df2 = N − cells (completely randomised) or
+// (cells − 1)(n − 1) (complete blocks), λ = d.Noncentrality(e, sizes at n),
+// power = P(F(df1, df2, λ) > F_{1−alpha}(df1, df2)). An infinite λ (an
+// effect so large that f²·N overflows) has power 1.
+func (d Design) EvaluateEffect(n int, e Effect, alpha float64) Result {
 	sizes := d.GroupSizes(n)
 	total := 0
 	for _, s := range sizes {
@@ -170,31 +179,66 @@ func (d Design) Evaluate(n int, f, alpha float64) Result {
 	} else {
 		r.DF2 = float64(total - cells)
 	}
-	r.Lambda = f * f * float64(total)
+	r.Lambda = d.Noncentrality(e, sizes)
 	if r.DF2 < 1 {
 		r.FCrit, r.Power = math.NaN(), math.NaN()
 		return r
 	}
-	r.FCrit = distuv.F{D1: r.DF1, D2: r.DF2}.Quantile(1 - alpha)
+	r.FCrit = fCrit(r.DF1, r.DF2, alpha)
+	if math.IsInf(r.Lambda, 1) {
+		r.Power = 1
+		return r
+	}
 	r.Power = prob.NoncentralF{D1: r.DF1, D2: r.DF2, Lambda: r.Lambda}.Survival(r.FCrit)
 	return r
 }
 
-// Solve returns the smallest n ≥ MinN whose power at effect f reaches target.
-// The power rises with n, so the search doubles n until the target is
-// passed and then bisects; it costs about 2·log2(n) evaluations. It returns
-// ErrTooLarge (wrapped, with the power reached) when n would exceed
-// MaxPerGroup.
+func fCrit(df1, df2, alpha float64) float64 {
+	return distuv.F{D1: df1, D2: df2}.Quantile(1 - alpha)
+}
+
+// Solve returns the smallest n ≥ MinN whose power at Cohen's f reaches
+// target; it is SolveEffect with Effect{F: f}.
 func (d Design) Solve(f, alpha, target float64) (Result, error) {
+	return d.SolveEffect(Effect{F: f}, alpha, target)
+}
+
+// SolveEffect returns the smallest n ≥ MinN whose power at effect e reaches
+// target. The power rises with n, so the search doubles n until the target
+// is passed and then bisects; it costs about 2·log2(n) evaluations. It
+// returns ErrTooLarge (wrapped, with the power reached) when n would exceed
+// MaxPerGroup.
+//
+// The search starts from a guess: λ grows about in proportion to n, so
+// the λ that a χ² test (infinite error df) would need, from the normal
+// approximation of the noncentral χ² (mean ν+λ, variance 2(ν+2λ)) at
+// the Wilson–Hilferty χ² quantile (Johnson, Kotz and Balakrishnan 1994,
+// Continuous Univariate Distributions vol. 1, 2nd ed., eq. 18.24; from
+// memory), scaled from λ at n = MinN, gives n to within a few units. The
+// search then gallops from the guess to bracket the answer and bisects;
+// the guess only saves evaluations, the answer is the exact smallest n.
+func (d Design) SolveEffect(e Effect, alpha, target float64) (Result, error) {
 	var last Result
-	n, err := searchN(d.MinN(), func(n int) float64 {
-		last = d.Evaluate(n, f, alpha)
+	pw := func(n int) float64 {
+		last = d.EvaluateEffect(n, e, alpha)
 		return last.Power
-	}, target)
+	}
+	lo := d.MinN()
+	if pw(lo) >= target {
+		return last, nil
+	}
+	guess := 0
+	if lam0 := last.Lambda; lam0 > 0 {
+		need := chiSquareLambda(last.DF1, alpha, target)
+		if g := float64(lo) * need / lam0; g > float64(lo) && g < MaxPerGroup {
+			guess = int(math.Ceil(g))
+		}
+	}
+	n, err := gallopN(lo, guess, pw, target)
 	if err != nil {
 		return last, err
 	}
-	return d.Evaluate(n, f, alpha), nil
+	return d.EvaluateEffect(n, e, alpha), nil
 }
 
 // Detectable returns the smallest Cohen's f that the design detects with power
@@ -224,4 +268,75 @@ func detectable(power func(float64) float64, target float64) float64 {
 		}
 	}
 	return hi
+}
+
+// chiSquareLambda returns the noncentrality at which a χ² test with nu df
+// at level alpha has the target power, by the normal approximation of the
+// noncentral χ² at the Wilson–Hilferty quantile: λ solves
+// ν + λ − c = z·sqrt(2(ν + 2λ)), z the standard normal quantile of target.
+func chiSquareLambda(nu, alpha, target float64) float64 {
+	za := math.Sqrt2 * math.Erfinv(1-2*alpha)
+	zp := math.Sqrt2 * math.Erfinv(2*target-1)
+	h := 2 / (9 * nu)
+	c := nu * math.Pow(1-h+za*math.Sqrt(h), 3)
+	// (ν + λ − c)² = 2 zp² (ν + 2λ), for the root with ν + λ > c.
+	u := c - nu // λ − u = zp·sqrt(2(ν+2λ))
+	b := -(2*u + 4*zp*zp)
+	cc := u*u - 2*zp*zp*nu
+	disc := b*b - 4*cc
+	if disc < 0 {
+		return u
+	}
+	return (-b + math.Sqrt(disc)) / 2
+}
+
+// gallopN returns the smallest n > lo with power(n) ≥ target (power(lo) is
+// known to fall short), for a power that rises with n: from guess it
+// steps by 1, 2, 4, ... until the answer is bracketed, then bisects.
+// Without a guess it doubles from lo.
+func gallopN(lo int, guess int, power func(int) float64, target float64) (int, error) {
+	if guess <= lo {
+		return searchN(lo, power, target)
+	}
+	hi := 0
+	if power(guess) >= target {
+		hi = guess
+		for step := 1; ; step *= 2 {
+			n := hi - step
+			if n <= lo {
+				break
+			}
+			if power(n) < target {
+				lo = n
+				break
+			}
+			hi = n
+		}
+	} else {
+		lo = guess
+		for step := 1; ; step *= 2 {
+			n := lo + step
+			if n >= MaxPerGroup {
+				n = MaxPerGroup
+			}
+			p := power(n)
+			if p >= target {
+				hi = n
+				break
+			}
+			if n == MaxPerGroup {
+				return 0, fmt.Errorf("%w: power at %d per group is only %.4f", ErrTooLarge, n, p)
+			}
+			lo = n
+		}
+	}
+	for hi-lo > 1 {
+		mid := lo + (hi-lo)/2
+		if power(mid) >= target {
+			hi = mid
+		} else {
+			lo = mid
+		}
+	}
+	return hi, nil
 }

@@ -3,6 +3,7 @@ package power
 import (
 	"errors"
 	"math"
+	"strings"
 	"testing"
 )
 
@@ -20,8 +21,8 @@ func TestComputeErrors(t *testing.T) {
 		{"one group", Request{Groups: 1, F: 0.3}, "groups"},
 		{"means length", Request{Groups: 3, Means: []float64{1, 2}, SD: 1}, "means"},
 		{"dropout 1", Request{Groups: 3, F: 0.3, Dropout: 1}, "dropout"},
-		{"unknown term", Request{Factors: []Factor{{"a", 2}, {"b", 3}}, Term: []string{"c"}, F: 0.3}, "term"},
-		{"factorial without term", Request{Factors: []Factor{{"a", 2}, {"b", 3}}, F: 0.3}, "term"},
+		{"unknown term", Request{Factors: []Factor{{Name: "a", Levels: 2}, {Name: "b", Levels: 3}}, Term: []string{"c"}, F: 0.3}, "term"},
+		{"factorial without term", Request{Factors: []Factor{{Name: "a", Levels: 2}, {Name: "b", Levels: 3}}, F: 0.3}, "term"},
 		{"no effect", Request{Groups: 3}, "f"},
 		{"two effects", Request{Groups: 3, F: 0.3, Eta2: 0.1}, "eta2"},
 		{"means without sd", Request{Means: []float64{1, 2, 3}}, "means"},
@@ -87,22 +88,26 @@ func TestComputeAnswers(t *testing.T) {
 		}
 	})
 	t.Run("curve passes through the answer", func(t *testing.T) {
-		r := Request{Groups: 4, F: 0.3, Power: 0.9}
+		r := Request{Groups: 4, Means: []float64{10, 12, 12, 14}, SD: 3, Power: 0.9}
 		a, err := Compute(r)
 		if err != nil {
 			t.Fatal(err)
 		}
-		s, err := CurvePoints(r, a)
+		s, err := CurvePoints(r, a, 0.8, 1.2)
 		if err != nil {
 			t.Fatal(err)
 		}
-		for i, n := range s[1].N {
-			if n == a.N && math.Abs(s[1].Power[i]-a.Power) > 1e-15 {
-				t.Errorf("curve at n=%d: %g, answer %g", n, s[1].Power[i], a.Power)
+		for i, n := range s[0].N {
+			if n == a.N && math.Abs(s[0].Power[i]-a.Power) > 1e-15 {
+				t.Errorf("curve at n=%d: %g, answer %g", n, s[0].Power[i], a.Power)
 			}
 		}
-		if len(s) != 3 || s[0].Power[len(s[0].Power)-1] > s[2].Power[len(s[2].Power)-1] {
-			t.Error("neighbouring curves out of order")
+		last := len(s[0].Power) - 1
+		if len(s) != 3 || s[1].Power[last] < s[0].Power[last] || s[2].Power[last] > s[0].Power[last] {
+			t.Error("SD curves out of order")
+		}
+		if s[1].Label != "SD 20% lower" || s[2].Label != "SD 20% higher" || !strings.Contains(s[0].Label, "means 10, 12, 12, 14") {
+			t.Errorf("labels %q %q %q", s[0].Label, s[1].Label, s[2].Label)
 		}
 	})
 }

@@ -69,10 +69,14 @@ func (g TwoGroups) Evaluate(n int, d, alpha float64) TResult {
 // Solve returns the smallest n (group 1) whose power reaches target.
 func (g TwoGroups) Solve(d, alpha, target float64) (TResult, error) {
 	var last TResult
-	n, err := searchN(2, func(n int) float64 {
+	pw := func(n int) float64 {
 		last = g.Evaluate(n, d, alpha)
 		return last.Power
-	}, target)
+	}
+	if pw(2) >= target {
+		return last, nil
+	}
+	n, err := gallopN(2, tGuess(last.Delta, alpha, g.Sides, target), pw, target)
 	if err != nil {
 		return last, err
 	}
@@ -116,4 +120,20 @@ func searchN(lo int, power func(int) float64, target float64) (int, error) {
 		}
 	}
 	return hi, nil
+}
+
+// tGuess returns the normal-approximation n for a t-based test whose
+// noncentrality at n = 2 is delta2: δ grows as sqrt(n), and a z test at
+// per-comparison level alpha (split over sides) needs δ = z_{1−α/sides} +
+// z_target. The search from it finds the exact n; 0 means no guess.
+func tGuess(delta2, alpha float64, sides int, target float64) int {
+	if !(delta2 > 0) {
+		return 0
+	}
+	z := math.Sqrt2*math.Erfinv(1-2*alpha/float64(sides)) + math.Sqrt2*math.Erfinv(2*target-1)
+	g := 2 * (z / delta2) * (z / delta2)
+	if !(g > 2 && g < MaxPerGroup) {
+		return 0
+	}
+	return int(math.Ceil(g))
 }

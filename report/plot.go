@@ -4,7 +4,9 @@ import (
 	"fmt"
 	"image/color"
 	"io"
+	"math"
 	"path/filepath"
+	"strconv"
 	"strings"
 
 	"github.com/allotproject/allot/internal/atomicfile"
@@ -35,15 +37,29 @@ var grey = color.RGBA{0x55, 0x55, 0x55, 0xff}
 // by extension), with the target power and the answer's n marked. An
 // existing file is replaced only with force.
 func PowerCurve(path string, series []power.Series, a power.Answer, force bool) error {
+	return PowerCurveFor(path, series, Size{Answer: a}, force)
+}
+
+// PowerCurveFor is PowerCurve in the study's words: the x axis counts
+// units (animals, plants) per group or blocks (litters, benches) with
+// whole-number ticks, the planned curve is solid, each extra curve is
+// dashed and labelled with what it is, and the target power and the chosen
+// n are marked.
+func PowerCurveFor(path string, series []power.Series, sz Size, force bool) error {
+	a := sz.Answer
 	ext := strings.TrimPrefix(strings.ToLower(filepath.Ext(path)), ".")
 	if ext != "svg" && ext != "png" {
 		return fmt.Errorf("--curve %s: the file name must end in .svg or .png", path)
 	}
 	p := plot.New()
 	p.Title.Text = fmt.Sprintf("Power of the %s (alpha %s)", a.TestName, short(a.Alpha))
-	p.X.Label.Text = a.NUnit
+	p.X.Label.Text = sz.nUnit()
+	if sz.Response != "" {
+		p.Title.Text += " — " + sz.Response
+	}
 	p.Y.Label.Text = "power (probability of a significant result)"
 	p.Y.Min, p.Y.Max = 0, 1
+	p.X.Tick.Marker = integerTicks{}
 	p.Add(plotter.NewGrid())
 	for i, s := range series {
 		xy := make(plotter.XYs, len(s.N))
@@ -56,16 +72,12 @@ func PowerCurve(path string, series []power.Series, a power.Answer, force bool) 
 		}
 		l.Color = palette[i%len(palette)]
 		l.Width = vg.Points(2)
-		if i != 1 {
+		if i > 0 {
 			l.Dashes = []vg.Length{vg.Points(6), vg.Points(3)}
 			l.Width = vg.Points(1.5)
 		}
 		p.Add(l)
-		label := s.Label
-		if i == 1 {
-			label += " (planned)"
-		}
-		p.Legend.Add(label, l)
+		p.Legend.Add(s.Label, l)
 	}
 	target := plotter.NewFunction(func(float64) float64 { return a.Target })
 	target.Color, target.Dashes = grey, []vg.Length{vg.Points(2), vg.Points(2)}
@@ -78,10 +90,13 @@ func PowerCurve(path string, series []power.Series, a power.Answer, force bool) 
 		}
 		mark.Color, mark.Dashes = grey, []vg.Length{vg.Points(1), vg.Points(3)}
 		p.Add(mark)
-		p.Legend.Add(fmt.Sprintf("n = %d", a.N), mark)
+		p.Legend.Add(fmt.Sprintf("chosen n = %d", a.N), mark)
 	}
+	// Bottom right, where rising power curves leave the plot empty; one
+	// entry per line, spaced by the legend's own padding.
 	p.Legend.Top, p.Legend.Left = false, false
 	p.Legend.XOffs, p.Legend.YOffs = -vg.Points(6), vg.Points(30)
+	p.Legend.Padding = vg.Points(2)
 	p.Legend.ThumbnailWidth = vg.Points(24)
 	wt, err := p.WriterTo(7*vg.Inch, 4.5*vg.Inch, ext)
 	if err != nil {
@@ -91,4 +106,24 @@ func PowerCurve(path string, series []power.Series, a power.Answer, force bool) 
 		_, err := wt.WriteTo(w)
 		return err
 	})
+}
+
+// integerTicks labels whole numbers only, about eight of them, at steps of
+// 1, 2 or 5 times a power of ten.
+type integerTicks struct{}
+
+func (integerTicks) Ticks(min, max float64) []plot.Tick {
+	span := max - min
+	step := 1.0
+	for _, m := range []float64{1, 2, 5, 10, 20, 50, 100, 200, 500, 1000, 2000, 5000, 10000, 20000, 50000, 1e5, 2e5, 5e5, 1e6} {
+		step = m
+		if span/m <= 8 {
+			break
+		}
+	}
+	var out []plot.Tick
+	for v := math.Ceil(min/step) * step; v <= max; v += step {
+		out = append(out, plot.Tick{Value: v, Label: strconv.Itoa(int(v))})
+	}
+	return out
 }

@@ -289,3 +289,31 @@ func TestLargeResidualFiguresThinned(t *testing.T) {
 		t.Errorf("residual figure %d bytes, title %q", len(svg), figs[0].Title)
 	}
 }
+
+func TestCautionsFitSubjects(t *testing.T) {
+	tests := []struct {
+		subjects string
+		want     []string
+		not      string
+	}{
+		{"animals", []string{"animal-ethics committee", "3Rs", "Humane endpoints"}, "Benches"},
+		{"plants", []string{"Benches, positions and seasons", "qualified statistician"}, "3Rs"},
+		{"units", []string{"ethics committee", "qualified statistician"}, "Humane endpoints"},
+	}
+	for _, tt := range tests {
+		all := strings.Join(Cautions(tt.subjects), " ")
+		for _, w := range tt.want {
+			if !strings.Contains(all, w) {
+				t.Errorf("%s: cautions lack %q", tt.subjects, w)
+			}
+		}
+		if strings.Contains(all, tt.not) {
+			t.Errorf("%s: cautions contain %q", tt.subjects, tt.not)
+		}
+	}
+	for in, want := range map[string]string{"litter": "litters", "bench": "benches", "day": "days", "colony": "colonies", "block": "blocks"} {
+		if got := pluralWord(in); got != want {
+			t.Errorf("plural %s: %s, want %s", in, got, want)
+		}
+	}
+}

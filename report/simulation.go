@@ -8,22 +8,27 @@ import (
 	"github.com/allotproject/allot/power/sim"
 )
 
+// SimulationFormat names the JSON document of a simulation.
+const SimulationFormat = "allot.simulation/v1"
+
 // Simulation is a Monte-Carlo power result ready to render.
 type Simulation struct {
-	Design   string      `json:"design"`
-	Model    string      `json:"model"`
-	Analysis string      `json:"analysis"`
-	Term     string      `json:"term"`
-	N        int         `json:"n_per_group"`
-	NUnit    string      `json:"n_unit"`
-	Units    int         `json:"total_n"`
-	Target   float64     `json:"target_power,omitempty"`
-	Result   sim.Result  `json:"result"`
-	Tried    []sim.Trial `json:"tried,omitempty"`
-	Exact    float64     `json:"exact_power_without_losses,omitempty"`
-	Seed     uint64      `json:"seed"`
-	Command  string      `json:"command"`
-	Version  string      `json:"allot_version"`
+	Design   string `json:"design"`
+	Model    string `json:"model"`
+	Analysis string `json:"analysis"`
+	// PostHocRule says how the planned comparisons were counted.
+	PostHocRule string      `json:"posthoc_rule,omitempty"`
+	Term        string      `json:"term"`
+	N           int         `json:"n_per_group"`
+	NUnit       string      `json:"n_unit"`
+	Units       int         `json:"total_n"`
+	Target      float64     `json:"target_power,omitempty"`
+	Result      sim.Result  `json:"result"`
+	Tried       []sim.Trial `json:"tried,omitempty"`
+	Exact       float64     `json:"exact_power_without_losses,omitempty"`
+	Seed        uint64      `json:"seed"`
+	Command     string      `json:"command"`
+	Version     string      `json:"allot_version"`
 }
 
 // SimulationText writes the simulation summary.
@@ -41,7 +46,7 @@ func SimulationText(w io.Writer, s Simulation) error {
 		rows = append(rows, [2]string{"losses", fmt.Sprintf("%s units lost per data set on average", num(r.MeanLost, 3))})
 	}
 	if r.Failed > 0 {
-		rows = append(rows, [2]string{"not analysable", fmt.Sprintf("%d data sets (a treatment or block lost entirely); counted as not rejecting", r.Failed)})
+		rows = append(rows, [2]string{"not analysable", fmt.Sprintf("%d data sets (a treatment lost, or a block or the model left with too few units); counted as not rejecting", r.Failed)})
 	}
 	if s.Exact > 0 {
 		rows = append(rows, [2]string{"exact power", fixed(s.Exact, 4) + " (noncentral F, no losses, for comparison)"})
@@ -79,6 +84,9 @@ func SimulationText(w io.Writer, s Simulation) error {
 		}
 		b.WriteString("\n" + wrap(fmt.Sprintf("Search (same random draws for every n): %s. The smallest n reaching %s is %d; with Monte-Carlo error near the boundary, n ± 1 may also qualify.", strings.Join(t, ", "), fixed(s.Target, 2), s.N), 78, "  "))
 	}
+	if s.PostHocRule != "" {
+		b.WriteString("\n" + wrap(s.PostHocRule, 78, "  "))
+	}
 	if r.Cancelled {
 		b.WriteString("\n" + wrap(fmt.Sprintf("Cancelled after %d data sets: these estimates use only those.", r.Sims), 78, "  "))
 	}
@@ -88,4 +96,9 @@ func SimulationText(w io.Writer, s Simulation) error {
 }
 
 // SimulationJSON writes the simulation as JSON.
-func SimulationJSON(w io.Writer, s Simulation) error { return writeJSON(w, s) }
+func SimulationJSON(w io.Writer, s Simulation) error {
+	return writeJSON(w, struct {
+		Format string `json:"format"`
+		Simulation
+	}{SimulationFormat, s})
+}

@@ -34,7 +34,10 @@ type layoutOptions struct {
 	now      func() time.Time
 	// secret, when set, replaces the blinding secret drawn from
 	// crypto/rand (tests only).
-	secret []byte
+	secret   []byte
+	from     string
+	fromPlan *report.SizePlan
+	fromCmd  *cobra.Command
 }
 
 func newLayoutCmd(s *streams, runF func(*layoutOptions) error) *cobra.Command {
@@ -149,6 +152,7 @@ file (keys are these flag names, with _ for -); flags override it.` + "\n" + exi
 	f.StringVar(&o.mapFile, "map", "", "draw the bench map (each block as its grid) to `FILE.svg` or .png, for printing on A4")
 	f.BoolVar(&o.json, "json", false, "print the resolved plan and assignment as JSON")
 	f.BoolVar(&o.force, "force", false, "replace existing output files")
+	f.StringVar(&o.from, "from", "", "take treatments, replication, blocks and response from `FILE.json` written by allot size -o")
 	cmd.AddCommand(newVerifyCmd(s, nil))
 	return cmd
 }
@@ -213,6 +217,14 @@ func (o *layoutOptions) resolveSpec(c *cobra.Command) error {
 			sp.Subsamples = flags.Subsamples
 		}
 		o.spec = sp
+	}
+	if o.from != "" {
+		p, err := o.applyFrom(c)
+		if err != nil {
+			return err
+		}
+		o.fromPlan = p
+		o.fromCmd = c
 	}
 	if o.seed != "" {
 		v, err := strconv.ParseUint(strings.TrimSpace(o.seed), 10, 64)
@@ -349,6 +361,9 @@ func layoutRun(s *streams, o *layoutOptions) error {
 	}
 	if err != nil {
 		return planError(err)
+	}
+	if o.fromPlan != nil {
+		fromNote(s.Err, o.from, o.fromPlan, len(lay.Units), o.fromCmd)
 	}
 	// The key goes first: a blind workbook is never written without it.
 	// Everything else sees the sealed layout only.

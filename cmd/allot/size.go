@@ -3,12 +3,15 @@ package main
 import (
 	"errors"
 	"fmt"
+	"io"
+	"os"
 	"strconv"
 	"strings"
 
+	"github.com/allotproject/allot/design"
+	"github.com/allotproject/allot/internal/atomicfile"
 	"github.com/allotproject/allot/internal/version"
 	"github.com/allotproject/allot/power"
-	"github.com/allotproject/allot/power/sim"
 	"github.com/allotproject/allot/report"
 
 	"github.com/spf13/cobra"
@@ -16,20 +19,26 @@ import (
 )
 
 type sizeOptions struct {
-	req     power.Request
-	factors []string
-	term    string
-	design  string
-	blocks  int
-	means   string
-	ratios  string
-	compare string
-	json    bool
-	justify bool
-	curve   string
-	force   bool
-	command string
-	sim     simOptions
+	req      power.Request
+	study    report.Study
+	factors  []string
+	term     string
+	design   string
+	blocks   int
+	means    string
+	ratios   string
+	levels   string
+	compare  string
+	json     bool
+	justify  bool
+	resource bool
+	curve    string
+	curveSD  string
+	out      string
+	layout   string
+	force    bool
+	command  string
+	sim      simOptions
 }
 
 func newSizeCmd(s *streams, runF func(*sizeOptions) error) *cobra.Command {
@@ -55,10 +64,33 @@ that matters; planned for the least favourable configuration), or --d (two
 groups, standardised difference; selects the t test). --pilot-n M replaces
 --sd by its upper confidence limit from a pilot of M units.
 
---compare control|dunnett|pairs plans t comparisons of each group with the
-first (the control; Bonferroni or Dunnett critical value) or of all pairs
-(Bonferroni), for --diff with --sd (or --d).
+--means lists one mean per group; for a factorial, one per treatment cell
+in the order of the full factorial with the first --factor varying slowest
+(A=2, B=2: A1B1, A1B2, A2B1, A2B2). The planned term uses only its own
+component of the cell means (its marginal means for a main effect, the
+interaction contrast for an interaction).
+
+--compare control|dunnett|pairs|pairs-bonferroni plans t comparisons of each
+group with the control (--control LEVEL, default the first; Bonferroni or
+Dunnett critical value) or of all pairs (Tukey's studentized range, as
+allot analyze tests them; or Bonferroni), for --diff with --sd (or --d).
+--sides 1 with --direction lower|higher plans a one-sided test in that
+direction (the treatment below or above the control).
 --dropout R adds the attrition allowance n/(1−R), rounded up.
+
+--resource answers with Mead's resource equation instead of power: the range
+of n whose error df lies within 10–20, for when no effect size or SD can be
+given.
+
+--justify prints a paragraph for an ethics or grant application (with --json
+it is part of the JSON). Name the study in it with --response NAME --unit U
+(what is measured, in what unit), --sd-source TEXT (where the SD comes from),
+--subjects animals|plants|units (the word for a unit, and which cautions
+apply), --block-name litter|bench|..., --levels a,b,c (group names) or
+--factor NAME=a,b,c, --control LEVEL, --effect-reason TEXT, and --layout
+FILE.json (a layout from allot layout -o, for the allocation and blinding
+plan). -o FILE.json writes the answer with a plan fragment that
+allot layout --from FILE.json lays out.
 
 --simulate estimates power by simulating --sims data sets from --means with
 --sd (or per-group --sds), --block-sd, random losses (--dropout, each unit
@@ -96,7 +128,7 @@ number of --workers; Ctrl-C stops early and prints what is done.` + "\n" + exitH
 		},
 	}
 	f := cmd.Flags()
-	f.IntVar(&o.req.Groups, "groups", 0, "number of groups `K` of a one-way layout")
+	f.IntVar(&o.req.Groups, "groups", 0, fmt.Sprintf("number of groups `K` of a one-way layout (2 to %d)", power.MaxCells))
 	f.StringArrayVar(&o.factors, "factor", nil, "factor `NAME=LEVELS` (a count or a comma list); repeat for a factorial")
 	f.StringVar(&o.term, "term", "", "effect to plan for in a factorial: `NAME` or NAME1,NAME2 for an interaction")
 	f.StringVar(&o.design, "design", "crd", "`crd` (completely randomised) or rcbd (randomised complete blocks)")
@@ -109,19 +141,32 @@ number of --workers; Ctrl-C stops early and prints what is done.` + "\n" + exitH
 	f.BoolVar(&o.req.Detect, "detect", false, "with --n: report the smallest detectable effect at the target power")
 	f.Float64Var(&o.req.F, "f", 0, "effect size as Cohen's `f`")
 	f.Float64Var(&o.req.Eta2, "eta2", 0, "effect size as the proportion of variance explained, `E`")
-	f.StringVar(&o.means, "means", "", "expected group means `M1,M2,...` in the response's units (needs --sd)")
+	f.StringVar(&o.means, "means", "", "expected group means `M1,M2,...` in the response's units (needs --sd); for a factorial one per cell, the first --factor varying slowest")
 	f.Float64Var(&o.req.SD, "sd", 0, "SD `S` of the response between units (within blocks for rcbd)")
 	f.Float64Var(&o.req.Diff, "diff", 0, "smallest difference `D` between two means that matters (needs --sd)")
 	f.Float64Var(&o.req.D, "d", 0, "standardised difference `D` between two groups (t test)")
 	f.IntVar(&o.req.PilotN, "pilot-n", 0, "the --sd came from a pilot of `M` units: plan with its upper confidence limit")
 	f.Float64Var(&o.req.PilotConf, "pilot-conf", 0.8, "confidence `C` of the pilot SD's upper limit")
 	f.Float64Var(&o.req.BlockShare, "block-share", 0, "rcbd: share `R` of the total variance (--sd) explained by blocks")
-	f.StringVar(&o.compare, "compare", "", "plan comparisons: `control` (each group with group 1, Bonferroni), dunnett (the same, Dunnett) or pairs")
+	f.StringVar(&o.compare, "compare", "", "plan comparisons: `control` (each group with the control, Bonferroni), dunnett (the same, Dunnett), pairs (all pairs, Tukey) or pairs-bonferroni")
 	f.Float64Var(&o.req.Dropout, "dropout", 0, "expected attrition fraction `R`: also report n/(1−R)")
 	f.BoolVar(&o.json, "json", false, "print one JSON object instead of the summary")
 	f.BoolVar(&o.justify, "justify", false, "also print a paragraph for an ethics or grant application")
+	f.BoolVar(&o.resource, "resource", false, "give the range of n by the resource equation (error df 10–20) instead of power")
 	f.StringVar(&o.curve, "curve", "", "write a power curve to `FILE` (.svg or .png)")
-	f.BoolVar(&o.force, "force", false, "overwrite an existing --curve file")
+	f.StringVar(&o.curveSD, "curve-sd", "", "extra curves with the SD multiplied by `F1,F2,...` (for example 0.8,1.2)")
+	f.StringVarP(&o.out, "out", "o", "", "write the answer and its plan fragment to `FILE.json` (for allot layout --from)")
+	f.StringVar(&o.layout, "layout", "", "attach the layout `FILE.json` (from allot layout -o) to the justification")
+	f.BoolVar(&o.force, "force", false, "overwrite existing --curve and -o files")
+	f.StringVar(&o.levels, "levels", "", "names of the groups of a one-way layout, `A,B,C`")
+	f.StringVar(&o.req.ControlName, "control", "", "the control `LEVEL` for comparisons and the justification (default the first)")
+	f.StringVar(&o.req.Direction, "direction", "", "one-sided tests: the treatment expected `lower` or higher than the control")
+	f.StringVar(&o.study.Response, "response", "", "what is measured, `NAME` (for the justification and layout)")
+	f.StringVar(&o.study.Unit, "unit", "", "the response's unit `U`, for example mg")
+	f.StringVar(&o.study.SDSource, "sd-source", "", "where the SD comes from, `TEXT` (for example \"pilot, 8 animals\")")
+	f.StringVar(&o.study.Subjects, "subjects", "units", "what a unit is: `animals`, plants or units (the word used, and which cautions apply)")
+	f.StringVar(&o.study.BlockName, "block-name", "", "what a block is called, `NAME` such as litter, bench, day")
+	f.StringVar(&o.study.EffectReason, "effect-reason", "", "why this effect matters, `TEXT`")
 	o.addSimFlags(f)
 	return cmd
 }
@@ -129,6 +174,23 @@ number of --workers; Ctrl-C stops early and prints what is done.` + "\n" + exitH
 // resolve turns the flag strings into the request.
 func (o *sizeOptions) resolve(c *cobra.Command) error {
 	r := &o.req
+	r.Explicit = map[string]bool{}
+	for _, name := range []string{"alpha", "power", "sides", "n", "pilot-conf"} {
+		r.Explicit[name] = c.Flags().Changed(name)
+	}
+	if c.Flags().Changed("groups") && o.req.Groups > power.MaxCells {
+		return usagef("--groups %d: at most %d groups are supported", o.req.Groups, power.MaxCells)
+	}
+	switch o.study.Subjects {
+	case "animals", "plants", "units":
+	default:
+		return usagef("--subjects %s: must be animals, plants or units", o.study.Subjects)
+	}
+	if o.levels != "" {
+		for _, l := range strings.Split(o.levels, ",") {
+			r.Levels = append(r.Levels, strings.TrimSpace(l))
+		}
+	}
 	switch o.design {
 	case "crd":
 	case "rcbd":
@@ -152,7 +214,10 @@ func (o *sizeOptions) resolve(c *cobra.Command) error {
 			return usagef("--factor %s: write NAME=LEVELS, for example dose=3 or diet=chow,fat", spec)
 		}
 		k, err := strconv.Atoi(levels)
-		names := sim.Levels(max(k, 0))
+		var names []string
+		if err == nil && k > power.MaxCells {
+			return usagef("--factor %s: at most %d levels are supported", spec, power.MaxCells)
+		}
 		if err != nil {
 			list := strings.Split(levels, ",")
 			seen := map[string]bool{}
@@ -167,11 +232,10 @@ func (o *sizeOptions) resolve(c *cobra.Command) error {
 			}
 			k = len(list)
 		}
-		o.sim.levels = append(o.sim.levels, names)
 		if k < 2 {
 			return usagef("--factor %s: factor %q needs at least 2 levels", spec, name)
 		}
-		r.Factors = append(r.Factors, power.Factor{Name: name, Levels: k})
+		r.Factors = append(r.Factors, power.Factor{Name: name, Levels: k, Names: names})
 	}
 	if o.term != "" {
 		for _, t := range strings.Split(o.term, ",") {
@@ -195,16 +259,41 @@ func (o *sizeOptions) resolve(c *cobra.Command) error {
 		r.Test = power.TestControl
 	case "pairs":
 		r.Test = power.TestAllPairs
+	case "pairs-bonferroni":
+		r.Test = power.TestPairsBonferroni
 	case "dunnett":
 		r.Test = power.TestDunnett
 	default:
-		return usagef("--compare %s: must be control, dunnett or pairs", o.compare)
+		return usagef("--compare %s: must be control, dunnett, pairs (Tukey) or pairs-bonferroni", o.compare)
+	}
+	if r.Direction != "" && !c.Flags().Changed("sides") {
+		r.Sides = 0 // --direction implies one side
+	}
+	if o.compare == "" && r.Direction != "" {
+		r.Test = power.TestT
 	}
 	if o.curve != "" && !strings.HasSuffix(o.curve, ".svg") && !strings.HasSuffix(o.curve, ".png") {
 		return usagef("--curve %s: the file name must end in .svg or .png", o.curve)
 	}
-	if o.json && o.justify {
-		return usagef("--justify: the justification is part of the summary; drop --json or --justify")
+	if o.out != "" && !strings.HasSuffix(strings.ToLower(o.out), ".json") {
+		return usagef("-o %s: the file name must end in .json", o.out)
+	}
+	if o.curveSD != "" {
+		if o.curve == "" {
+			return usagef("--curve-sd %s: needs --curve FILE", o.curveSD)
+		}
+		v, err := floatList("curve-sd", o.curveSD)
+		if err != nil {
+			return err
+		}
+		for _, x := range v {
+			if !(x > 0) || x > 100 {
+				return usagef("--curve-sd %s: each factor must be above 0 (for example 0.8 or 1.2)", o.curveSD)
+			}
+		}
+	}
+	if o.resource && (o.sim.on || o.justify || o.curve != "" || o.out != "") {
+		return usagef("--resource: the resource equation gives a range of n; it does not combine with --simulate, --justify, --curve or -o")
 	}
 	return nil
 }
@@ -258,6 +347,20 @@ func sizeRun(s *streams, o *sizeOptions) error {
 	if o.sim.on {
 		return simulateRun(s, o)
 	}
+	if o.study.BlockName == "" && o.req.Blocked {
+		o.study.BlockName = "block"
+	}
+	if o.resource {
+		ra, err := power.Resource(o.req)
+		if err != nil {
+			return &usageError{err: err}
+		}
+		rep := report.Resource{ResourceAnswer: ra, Study: o.study, Command: o.command, Version: version.String()}
+		if o.json {
+			return report.ResourceJSON(s.Out, rep)
+		}
+		return report.ResourceText(s.Out, rep)
+	}
 	ans, err := power.Compute(o.req)
 	var fe *power.FieldError
 	if errors.As(err, &fe) {
@@ -266,19 +369,37 @@ func sizeRun(s *streams, o *sizeOptions) error {
 	if err != nil {
 		return err
 	}
-	rep := report.Size{Answer: ans, Command: o.command, Version: version.String()}
+	rep := report.Size{Answer: ans, Study: o.study, Command: o.command, Version: version.String()}
+	if o.layout != "" {
+		b, err := os.ReadFile(o.layout)
+		if err != nil {
+			return inputErr(fmt.Errorf("--layout %s: %w", o.layout, err))
+		}
+		l, err := design.ParseLayout(b)
+		if err != nil {
+			return inputErr(fmt.Errorf("--layout %s: %w; give the .json that allot layout -o wrote", o.layout, err))
+		}
+		rep.Allocation = report.AllocationOf(l)
+	}
 	if o.curve != "" {
-		pts, err := power.CurvePoints(o.req, ans)
+		sdf, _ := floatList("curve-sd", o.curveSD)
+		pts, err := power.CurvePoints(o.req, ans, sdf...)
 		if err != nil {
 			return err
 		}
-		if err := report.PowerCurve(o.curve, pts, ans, o.force); err != nil {
+		if err := report.PowerCurveFor(o.curve, pts, rep, o.force); err != nil {
 			return inputErr(err)
 		}
 		fmt.Fprintf(s.Err, "allot size: wrote %s\n", o.curve)
 	}
+	if o.out != "" {
+		if err := atomicfile.Write(o.out, o.force, func(w io.Writer) error { return report.SizeJSON(w, rep, true) }); err != nil {
+			return inputErr(fmt.Errorf("-o %w", err))
+		}
+		fmt.Fprintf(s.Err, "allot size: wrote %s (lay it out with allot layout --from %s)\n", o.out, o.out)
+	}
 	if o.json {
-		return report.SizeJSON(s.Out, rep)
+		return report.SizeJSON(s.Out, rep, o.justify)
 	}
 	if err := report.SizeText(s.Out, rep); err != nil {
 		return err

@@ -4,6 +4,7 @@ import (
 	"bytes"
 	"encoding/json"
 	"flag"
+	"fmt"
 	"os"
 	"path/filepath"
 	"strings"
@@ -65,6 +66,25 @@ func TestSizeParse(t *testing.T) {
 				t.Errorf("%+v", o.req)
 			}
 		}},
+		{"justification", []string{"--levels", "veh,low", "--control", "veh", "--diff", "10", "--sd", "8", "--response", "weight", "--unit", "mg",
+			"--sd-source", "pilot", "--subjects", "animals", "--block-name", "litter", "--effect-reason", "matters", "--direction", "lower", "-o", "s.json"}, func(t *testing.T, o *sizeOptions) {
+			st := o.study
+			if len(o.req.Levels) != 2 || o.req.ControlName != "veh" || st.Response != "weight" || st.Unit != "mg" || st.SDSource != "pilot" ||
+				st.Subjects != "animals" || st.BlockName != "litter" || st.EffectReason != "matters" || o.req.Direction != "lower" ||
+				o.req.Sides != 0 || o.req.Test != power.TestT || o.out != "s.json" {
+				t.Errorf("%+v %+v", o.req, st)
+			}
+		}},
+		{"explicit zero", []string{"--groups", "3", "--f", "0.3", "--alpha", "0.01"}, func(t *testing.T, o *sizeOptions) {
+			if !o.req.Explicit["alpha"] || o.req.Explicit["power"] {
+				t.Errorf("explicit %v", o.req.Explicit)
+			}
+		}},
+		{"tukey and resource", []string{"--groups", "4", "--compare", "pairs", "--resource"}, func(t *testing.T, o *sizeOptions) {
+			if o.req.Test != power.TestAllPairs || !o.resource {
+				t.Errorf("%+v", o.req)
+			}
+		}},
 	}
 	for _, tt := range tests {
 		t.Run(tt.name, func(t *testing.T) {
@@ -90,6 +110,16 @@ func TestSizeRun(t *testing.T) {
 		{"size_ttest_detect", []string{"size", "--groups", "2", "--sides", "1", "--n", "10", "--detect", "--sd", "4"}},
 		{"size_factorial_json", []string{"size", "--factor", "dose=3", "--factor", "diet=chow,fat", "--term", "dose,diet", "--f", "0.3", "--json"}},
 		{"size_compare", []string{"size", "--groups", "4", "--compare", "control", "--diff", "3", "--sd", "2", "--ratios", "2,1,1,1"}},
+		// The issue's ethics-form example: a difference of 10 mg, SD 8 mg from a pilot of 8 animals, litters as blocks.
+		{"size_justify_animals", []string{"size", "--design", "rcbd", "--block-name", "litter", "--subjects", "animals", "--levels", "vehicle,dosed",
+			"--control", "vehicle", "--diff", "10", "--sd", "8", "--sd-source", "pilot, 8 animals", "--unit", "mg", "--response", "liver weight",
+			"--effect-reason", "a 10 mg rise marks liver enlargement", "--dropout", "0.1", "--justify"}},
+		{"size_justify_plants_json", []string{"size", "--factor", "feed=F0,F1,F2", "--subjects", "plants", "--means", "20,24,26", "--sd", "3",
+			"--unit", "cm", "--response", "height", "--json", "--justify"}},
+		{"size_factorial_term", []string{"size", "--factor", "A=2", "--factor", "B=2", "--term", "A,B", "--means", "10,10,10,14", "--sd", "2", "--n", "10"}},
+		{"size_resource", []string{"size", "--groups", "4", "--design", "rcbd", "--block-name", "bench", "--subjects", "plants", "--resource"}},
+		{"size_tukey", []string{"size", "--groups", "4", "--compare", "pairs", "--diff", "2", "--sd", "1.5"}},
+		{"size_direction", []string{"size", "--groups", "3", "--compare", "dunnett", "--direction", "lower", "--diff", "2", "--sd", "1.5", "--alpha", "0.25"}},
 	}
 	for _, tt := range tests {
 		t.Run(tt.name, func(t *testing.T) {
@@ -134,6 +164,24 @@ func TestSizeBadInput(t *testing.T) {
 		{[]string{"--factor", "dose=1", "--f", "0.3"}, `factor "dose" needs at least 2 levels`},
 		{[]string{"--design", "latin", "--groups", "3", "--f", "0.3"}, "--design latin: must be crd"},
 		{[]string{"--groups", "3", "--f", "0.3", "--curve", "x.pdf"}, "--curve x.pdf: the file name must end in .svg or .png"},
+		// Explicit zeros are refused, not replaced by the default.
+		{[]string{"--groups", "3", "--f", "0.3", "--alpha", "0"}, "--alpha 0: must be between 0 and 1"},
+		{[]string{"--groups", "3", "--f", "0.3", "--power", "0"}, "--power 0: must be above alpha"},
+		{[]string{"--groups", "3", "--f", "0.3", "--n", "0"}, "--n 0: must be at least 2"},
+		{[]string{"--groups", "3", "--f", "0.3", "--sides", "0"}, "--sides 0: must be 1 or 2"},
+		{[]string{"--groups", "3", "--f", "0.3", "--sd", "1", "--pilot-n", "5", "--pilot-conf", "0"}, "--pilot-conf 0: must be between 0 and 1"},
+		{[]string{"--groups", "1000000000", "--f", "0.3"}, "--groups 1000000000: at most 1000 groups"},
+		{[]string{"--groups", "3", "--f", "NaN"}, "--f NaN: must be a finite number"},
+		{[]string{"--groups", "3", "--f", "1e300"}, "noncentrality overflows"},
+		{[]string{"--means", "1,NaN", "--sd", "1"}, "every mean must be a finite number"},
+		{[]string{"--simulate", "--design", "rcbd", "--means", "1,2", "--sd", "1", "--block-sd", "Inf", "--seed", "1"}, "--block-sd +Inf: must be a finite number"},
+		{[]string{"--groups", "3", "--f", "0.3", "--subjects", "mice"}, "--subjects mice: must be animals, plants or units"},
+		{[]string{"--groups", "3", "--compare", "pairs", "--diff", "1", "--sd", "1", "--sides", "1"}, "comparisons of all pairs are two-sided"},
+		{[]string{"--groups", "3", "--f", "0.3", "--direction", "up"}, "--direction up: must be lower or higher"},
+		{[]string{"--levels", "a,b", "--groups", "3", "--f", "0.3"}, "--levels a,b: 2 names for 3 groups"},
+		{[]string{"--levels", "a,b,c", "--compare", "control", "--control", "d", "--diff", "1", "--sd", "1"}, `--control d: is not one of the levels a, b, c`},
+		{[]string{"--factor", "A=2", "--factor", "B=2", "--term", "A,B", "--means", "10,10,14"}, "3 means for 4 treatment cells"},
+		{[]string{"--groups", "3", "--resource", "--justify"}, "--resource: the resource equation gives a range"},
 	}
 	for _, tt := range tests {
 		t.Run(strings.Join(tt.args, " "), func(t *testing.T) {
@@ -195,5 +243,64 @@ func TestSizeSimulate(t *testing.T) {
 		if code != exitUsage || !strings.Contains(errs, tt.want) {
 			t.Errorf("%v: exit %d %q; want %q", tt.args, code, errs, tt.want)
 		}
+	}
+}
+
+// -o writes the answer with its plan fragment; layout --from lays it out
+// with the justified N and says so.
+func TestSizeToLayout(t *testing.T) {
+	dir := t.TempDir()
+	sizeFile := filepath.Join(dir, "size.json")
+	code, _, errs := runArgs(t, "size", "--levels", "vehicle,low,high", "--control", "vehicle", "--diff", "10", "--sd", "8", "--dropout", "0.1",
+		"--design", "rcbd", "--block-name", "litter", "--response", "weight", "--unit", "g", "--subjects", "animals", "-o", sizeFile)
+	if code != 0 {
+		t.Fatalf("size: exit %d %s", code, errs)
+	}
+	code, _, errs = runArgs(t, "size", "--groups", "3", "--f", "0.4", "-o", sizeFile)
+	if code != exitUsage || !strings.Contains(errs, "--force") {
+		t.Errorf("second -o without --force: exit %d %s", code, errs)
+	}
+	var doc map[string]any
+	b, _ := os.ReadFile(sizeFile)
+	if err := json.Unmarshal(b, &doc); err != nil || doc["format"] != "allot.size/v1" || doc["plan"] == nil || doc["justification"] == nil {
+		t.Fatalf("size.json: %v %v", err, doc["format"])
+	}
+	total := int(doc["total_with_dropout"].(float64))
+	out := filepath.Join(dir, "layout.json")
+	code, _, errs = runArgs(t, "layout", "--from", sizeFile, "--seed", "3", "-o", out)
+	if code != 0 {
+		t.Fatalf("layout --from: exit %d %s", code, errs)
+	}
+	if !strings.Contains(errs, fmt.Sprintf("%d units, as", total)) {
+		t.Errorf("layout note: %s", errs)
+	}
+	lb, _ := os.ReadFile(out)
+	var lay struct {
+		Plan struct {
+			Design    string                  `json:"design"`
+			Blocks    int                     `json:"blocks"`
+			BlockName string                  `json:"block_name"`
+			Control   string                  `json:"control"`
+			Responses []struct{ Name string } `json:"responses"`
+		} `json:"plan"`
+		Units []any `json:"units"`
+	}
+	if err := json.Unmarshal(lb, &lay); err != nil {
+		t.Fatal(err)
+	}
+	if len(lay.Units) != total || lay.Plan.Design != "rcbd" || lay.Plan.BlockName != "litter" || lay.Plan.Control != "vehicle" ||
+		len(lay.Plan.Responses) != 1 || lay.Plan.Responses[0].Name != "weight_g" {
+		t.Errorf("layout from size.json: %d units (want %d), %+v", len(lay.Units), total, lay.Plan)
+	}
+	// A flag that changes the plan is reported.
+	code, _, errs = runArgs(t, "layout", "--from", sizeFile, "--seed", "3", "--blocks", "4")
+	if code != 0 || !strings.Contains(errs, "--blocks on the command line changed the plan") {
+		t.Errorf("changed plan: exit %d %s", code, errs)
+	}
+	// The layout attached to a justification gives the allocation plan.
+	code, just, errs := runArgs(t, "size", "--levels", "vehicle,low,high", "--control", "vehicle", "--diff", "10", "--sd", "8", "--dropout", "0.1",
+		"--design", "rcbd", "--block-name", "litter", "--subjects", "animals", "--layout", out, "--justify")
+	if code != 0 || !strings.Contains(just, "allocated to treatments at random") || !strings.Contains(just, "seed 3") {
+		t.Errorf("justification with layout: exit %d %s\n%s", code, errs, just)
 	}
 }

@@ -14,6 +14,7 @@ import (
 	"github.com/allotproject/allot/randomize"
 
 	"golang.org/x/exp/rand"
+	"gonum.org/v1/gonum/mat"
 	"gonum.org/v1/gonum/stat/distuv"
 )
 
@@ -32,11 +33,17 @@ type Spec struct {
 	Alpha       float64
 	SSType      int
 	// PostHoc is "", "tukey" or "dunnett" (against treatment Control).
+	// The comparisons are counted in every data set whatever the F test
+	// says, as allot analyze runs requested comparisons regardless of it.
 	PostHoc string
 	Control int
-	Sims    int
-	Seed    uint64
-	Workers int
+	// Sides (1 or 2; 0 means 2) and Direction ("lower" or "higher", for one
+	// side) of Dunnett's comparisons; Tukey's are two-sided.
+	Sides     int
+	Direction string
+	Sims      int
+	Seed      uint64
+	Workers   int
 	// Progress, when set, is called now and then with the number of data
 	// sets done; it must be safe for concurrent use.
 	Progress func(done int)
@@ -210,9 +217,12 @@ func (s Spec) validate() error {
 		return fmt.Errorf("comparisons %q: simulate tukey or dunnett", s.PostHoc)
 	}
 	for _, v := range append(append([]float64{}, s.SDs...), s.BlockSD, s.SubsampleSD) {
-		if !(v >= 0) {
-			return fmt.Errorf("SDs must be non-negative")
+		if !(v >= 0) || math.IsInf(v, 0) {
+			return fmt.Errorf("SDs must be finite and non-negative")
 		}
+	}
+	if s.PostHoc == "tukey" && s.Sides == 1 {
+		return fmt.Errorf("Tukey's comparisons are two-sided")
 	}
 	return nil
 }
@@ -274,6 +284,12 @@ type worker struct {
 	masks   []int // per term: its factors as a bit mask
 	margSum []float64
 	center  float64
+	// params is the number of model coefficients (1 + the terms' df): a
+	// data set with no more surviving units than that, or with a treatment
+	// or block lost entirely, cannot be analysed.
+	params int
+	nTreat []int
+	nBlock []int
 }
 
 func newWorker(s Spec, e *analyze.Engine, terms []analyze.Term, pairs [][2]int, fast bool) *worker {
@@ -283,6 +299,12 @@ func newWorker(s Spec, e *analyze.Engine, terms []analyze.Term, pairs [][2]int, 
 	for _, m := range s.Means {
 		w.center += m / float64(len(s.Means))
 	}
+	w.params = 1
+	for _, t := range terms {
+		w.params += t.DF
+	}
+	w.nTreat = make([]int, len(s.Means))
+	w.nBlock = make([]int, s.Layout.Plan.Blocks+1)
 	if fast {
 		p := s.Layout.Plan
 		tr := p.Treatments()
@@ -361,7 +383,11 @@ func (w *worker) postCrit(df int) float64 {
 				lam = append(lam, math.Sqrt(float64(n)/float64(n+sizes[w.s.Control])))
 			}
 		}
-		c = prob.Dunnett{Lambda: lam, Nu: float64(df), Sides: 2}.Quantile(1 - w.s.Alpha)
+		sides := w.s.Sides
+		if sides != 1 {
+			sides = 2
+		}
+		c = prob.Dunnett{Lambda: lam, Nu: float64(df), Sides: sides}.Quantile(1 - w.s.Alpha)
 	}
 	w.qcrit[df] = c
 	return c
@@ -407,6 +433,9 @@ func (w *worker) one(i int, c *counts) {
 		keep := w.keep
 		if s.Dropout == 0 {
 			keep = nil
+		} else if !w.analysable() {
+			c.failed++
+			return
 		}
 		f, err = w.eng.Fit(w.y, keep)
 	}
@@ -425,16 +454,73 @@ func (w *worker) one(i int, c *counts) {
 	}
 }
 
-// comparisons counts the significant planned comparisons of data set y.
+// analysable reports whether the surviving units can be analysed: more
+// of them than model coefficients, every treatment still present, and
+// every block with at least two units. The engine's QR factorisation needs at least as many rows
+// as columns, so this is checked before fitting.
+func (w *worker) analysable() bool {
+	clear(w.nTreat)
+	clear(w.nBlock)
+	kept := 0
+	for u, unit := range w.s.Layout.Units {
+		if w.keep[u] {
+			kept++
+			w.nTreat[unit.Treatment]++
+			w.nBlock[unit.Block]++
+		}
+	}
+	if kept <= w.params {
+		return false
+	}
+	for _, n := range w.nTreat {
+		if n == 0 {
+			return false
+		}
+	}
+	// As allot analyze requires, every block holds at least two units to
+	// compare treatments within it.
+	for b := 1; b < len(w.nBlock) && len(w.nBlock) > 2; b++ {
+		if w.nBlock[b] < 2 {
+			return false
+		}
+	}
+	return true
+}
+
+// comparisons counts the significant planned comparisons of data set y,
+// on least-squares means with model-based standard errors as allot
+// analyze computes them: for a completely randomised layout these are the
+// raw means with SE² = MSE(1/nₐ + 1/n_b); for complete blocks with units
+// lost they come from the additive block + treatment fit (lsDiffs), where
+// the raw means would carry block effects.
 func (w *worker) comparisons(mse float64, df int, c *counts) {
 	k := len(w.s.Means)
 	sum := make([]float64, k)
 	n := make([]int, k)
+	lost := false
 	for u, unit := range w.s.Layout.Units {
 		if w.keep[u] {
 			sum[unit.Treatment] += w.y[u]
 			n[unit.Treatment]++
+		} else {
+			lost = true
 		}
+	}
+	est := make([]float64, k)
+	for i := range est {
+		if n[i] > 0 {
+			est[i] = sum[i] / float64(n[i])
+		}
+	}
+	// se2 returns the squared SE of est[a] − est[b] over MSE.
+	se2 := func(a, b int) float64 { return 1/float64(n[a]) + 1/float64(n[b]) }
+	if lost && w.s.Layout.Plan.Design == design.RCBD {
+		beta, cov, ok := w.lsDiffs()
+		if !ok {
+			return
+		}
+		est = beta
+		se2 = func(a, b int) float64 { return cov.At(a, a) + cov.At(b, b) - 2*cov.At(a, b) }
 	}
 	crit := w.postCrit(df)
 	any := false
@@ -443,12 +529,23 @@ func (w *worker) comparisons(mse float64, df int, c *counts) {
 		if n[a] == 0 || n[b] == 0 {
 			continue
 		}
-		diff := math.Abs(sum[a]/float64(n[a]) - sum[b]/float64(n[b]))
+		diff := math.Abs(est[a] - est[b])
 		var stat float64
 		if w.s.PostHoc == "tukey" {
-			stat = diff / math.Sqrt(mse/2*(1/float64(n[a])+1/float64(n[b])))
+			stat = diff / math.Sqrt(mse/2*se2(a, b))
 		} else {
-			stat = diff / math.Sqrt(mse*(1/float64(n[a])+1/float64(n[b])))
+			if w.s.Sides == 1 {
+				// treatment minus control, signed by the expected direction
+				t, ctl := b, a
+				if b == w.s.Control {
+					t, ctl = a, b
+				}
+				diff = est[t] - est[ctl]
+				if w.s.Direction == "lower" {
+					diff = -diff
+				}
+			}
+			stat = diff / math.Sqrt(mse*se2(a, b))
 		}
 		if stat > crit {
 			c.pairs[i]++
@@ -458,6 +555,56 @@ func (w *worker) comparisons(mse float64, df int, c *counts) {
 	if any {
 		c.anyPair++
 	}
+}
+
+// lsDiffs fits the additive model y = τ_treatment + β_block + e (blocks
+// 2..B coded against block 1) to the surviving units by least squares and
+// returns the treatment coefficients τ, whose differences are the
+// differences of the least-squares means (the block terms cancel), and
+// the treatment block of (X'X)⁻¹, which times MSE gives their covariance.
+func (w *worker) lsDiffs() ([]float64, *mat.Dense, bool) {
+	k := len(w.s.Means)
+	nb := w.s.Layout.Plan.Blocks
+	p := k + nb - 1
+	xtx := mat.NewSymDense(p, nil)
+	xty := mat.NewVecDense(p, nil)
+	cols := make([]int, 0, 2)
+	for u, unit := range w.s.Layout.Units {
+		if !w.keep[u] {
+			continue
+		}
+		cols = append(cols[:0], unit.Treatment)
+		if unit.Block > 1 {
+			cols = append(cols, k+unit.Block-2)
+		}
+		for _, i := range cols {
+			xty.SetVec(i, xty.AtVec(i)+w.y[u])
+			for _, j := range cols {
+				if j >= i {
+					xtx.SetSym(i, j, xtx.At(i, j)+1)
+				}
+			}
+		}
+	}
+	var ch mat.Cholesky
+	if !ch.Factorize(xtx) {
+		return nil, nil, false
+	}
+	var inv mat.SymDense
+	if err := ch.InverseTo(&inv); err != nil {
+		return nil, nil, false
+	}
+	var beta mat.VecDense
+	beta.MulVec(&inv, xty)
+	est := make([]float64, k)
+	cov := mat.NewDense(k, k, nil)
+	for i := 0; i < k; i++ {
+		est[i] = beta.AtVec(i)
+		for j := 0; j < k; j++ {
+			cov.Set(i, j, inv.At(i, j))
+		}
+	}
+	return est, cov, true
 }
 
 // sufficient computes the ANOVA of a balanced, complete data set from

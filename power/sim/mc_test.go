@@ -5,6 +5,8 @@ import (
 
 	"github.com/allotproject/allot/analyze"
 	"math"
+	"strconv"
+	"strings"
 	"testing"
 
 	"github.com/allotproject/allot/design"
@@ -186,3 +188,126 @@ func BenchmarkFactorial3x2Blocks4Dropout(b *testing.B) {
 
 // analyzeEngine builds the engine of a design (Type III).
 func analyzeEngine(d analyze.Data) (*analyze.Engine, error) { return analyze.NewEngine(d, 3) }
+
+// Too few survivors for the model (2 units per group, each lost with
+// probability 0.5) count as not analysable instead of reaching the QR
+// factorisation with fewer rows than columns.
+func TestFewSurvivorsNotAnalysable(t *testing.T) {
+	a, err := Ask(context.Background(), Question{Request: power.Request{Means: []float64{1, 2}, SD: 1, N: 2, Dropout: 0.5}, Sims: 500, Seed: 1})
+	if err != nil {
+		t.Fatal(err)
+	}
+	r := a.Result
+	if r.Failed == 0 || r.Failed >= r.Sims || r.Terms[0].Hits > r.Sims-r.Failed {
+		t.Errorf("failed %d of %d, hits %d", r.Failed, r.Sims, r.Terms[0].Hits)
+	}
+	// In blocks too: 2 blocks of 3 treatments lose units independently.
+	a, err = Ask(context.Background(), Question{Request: power.Request{Means: []float64{1, 2, 3}, SD: 1, N: 2, Blocked: true, Dropout: 0.6}, BlockSD: 1, Sims: 300, Seed: 2})
+	if err != nil || a.Result.Failed == 0 {
+		t.Errorf("blocks: %v, failed %d", err, a.Result.Failed)
+	}
+}
+
+// The exact comparison printed beside a simulated factorial term is that
+// term's own noncentral-F power: for A×B of the cell means 10, 10, 10, 14
+// with SD 2 and 10 per cell, λ = 10 and power 0.8680 (scipy ncf, df 1, 36;
+// testdata/reference/plan_checks.json).
+func TestAskExactUsesTermComponent(t *testing.T) {
+	q := Question{Request: power.Request{Factors: []power.Factor{{Name: "A", Levels: 2}, {Name: "B", Levels: 2}}, Term: []string{"A", "B"},
+		Means: []float64{10, 10, 10, 14}, SD: 2, N: 10}, Sims: 4000, Seed: 4}
+	a, err := Ask(context.Background(), q)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if math.Abs(a.Exact-0.8679842825948999) > 1e-9 || a.Term != "A × B" {
+		t.Fatalf("exact %.10f for %q, want 0.8679842826", a.Exact, a.Term)
+	}
+	for _, e := range a.Result.Terms {
+		if e.Name == "A × B" && math.Abs(e.P-a.Exact) > 4*e.SE {
+			t.Errorf("simulated %.4f ± %.4f, exact %.4f", e.P, e.SE, a.Exact)
+		}
+	}
+}
+
+// One-sided Dunnett in the expected direction has more power than
+// two-sided, and the opposite direction almost none; comparisons are
+// counted whatever the F test says.
+func TestDunnettDirection(t *testing.T) {
+	base := power.Request{Means: []float64{10, 9, 8}, SD: 1.5, N: 6}
+	run := func(sides int, dir string) Answer {
+		r := base
+		r.Sides, r.Direction = sides, dir
+		a, err := Ask(context.Background(), Question{Request: r, PostHoc: "dunnett", Sims: 3000, Seed: 8})
+		if err != nil {
+			t.Fatal(err)
+		}
+		return a
+	}
+	two, lower, higher := run(2, ""), run(1, "lower"), run(1, "higher")
+	if !(lower.Result.AnyPair.P > two.Result.AnyPair.P && higher.Result.AnyPair.P < 0.05) {
+		t.Errorf("any comparison: two-sided %.3f, lower %.3f, higher %.3f", two.Result.AnyPair.P, lower.Result.AnyPair.P, higher.Result.AnyPair.P)
+	}
+	if !strings.Contains(lower.PostHocRule, "whatever the F test says") || !strings.Contains(lower.PostHocRule, "lower") {
+		t.Errorf("rule %q", lower.PostHocRule)
+	}
+}
+
+// With units lost from complete blocks, the simulated comparisons use the
+// least-squares means and model-based SEs that allot analyze reports
+// (analyze.Fit, Table.LSMeans and DiffSE), not the raw means.
+func TestLSDiffsMatchAnalysis(t *testing.T) {
+	l := layout(t, design.RCBD, 4, ones(4, 1), feed4)
+	s := Spec{Layout: l, Means: []float64{10, 11, 12, 13}, SDs: []float64{1}, BlockSD: 2, Dropout: 0.2, Alpha: 0.05, Sims: 1, Seed: 1, SSType: 3, PostHoc: "tukey"}
+	eng, _ := analyzeEngine(designData(l))
+	w := newWorker(s, eng, eng.Terms, nil, false)
+	checked := 0
+	for i := 0; checked < 5 && i < 200; i++ {
+		c := counts{terms: make([]int, len(eng.Terms))}
+		w.one(i, &c)
+		if c.failed > 0 || !w.analysable() {
+			continue
+		}
+		lost := false
+		d := designData(l)
+		var keepIdx []int
+		for u, k := range w.keep {
+			if k {
+				keepIdx = append(keepIdx, u)
+			} else {
+				lost = true
+			}
+		}
+		if !lost {
+			continue
+		}
+		sub := analyze.Data{Response: "y", Factors: []analyze.Column{{Name: "feed", Levels: d.Factors[0].Levels}}, Block: &analyze.Column{Name: "block"}}
+		for _, u := range keepIdx {
+			sub.Values = append(sub.Values, strconv.FormatFloat(w.y[u], 'g', -1, 64))
+			sub.Factors[0].Values = append(sub.Factors[0].Values, d.Factors[0].Values[u])
+			sub.Block.Values = append(sub.Block.Values, d.Block.Values[u])
+		}
+		tab, err := analyze.Fit(sub, analyze.Options{SSType: 3})
+		if err != nil {
+			t.Fatal(err)
+		}
+		est, cov, ok := w.lsDiffs()
+		if !ok {
+			t.Fatal("lsDiffs failed")
+		}
+		ls := tab.LSMeans(0)
+		mse := tab.Residual.MS
+		for a := 0; a < 4; a++ {
+			for b := a + 1; b < 4; b++ {
+				got, want := est[a]-est[b], ls[a].Mean-ls[b].Mean
+				gotSE := math.Sqrt(mse * (cov.At(a, a) + cov.At(b, b) - 2*cov.At(a, b)))
+				if math.Abs(got-want) > 1e-9 || math.Abs(gotSE-tab.DiffSE(0, a, b)) > 1e-9 {
+					t.Errorf("data set %d, %d−%d: diff %g SE %g; analyze %g SE %g", i, a, b, got, gotSE, want, tab.DiffSE(0, a, b))
+				}
+			}
+		}
+		checked++
+	}
+	if checked == 0 {
+		t.Fatal("no data set with losses checked")
+	}
+}
