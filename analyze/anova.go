@@ -6,6 +6,8 @@ import (
 	"math"
 	"strings"
 
+	"github.com/allotproject/allot/prob"
+
 	"gonum.org/v1/gonum/stat/distuv"
 )
 
@@ -76,6 +78,10 @@ type Table struct {
 	// follow-up summaries, so that the response is parsed once.
 	m     *model
 	cells *cellStats
+	// ranges and crits cache the studentized range of the post-hoc
+	// families by (k, df) and their critical values by (k, df, alpha).
+	ranges map[rangeKey]*prob.PreparedRange
+	crits  map[rangeKey]float64
 }
 
 // model is the design of a fit: the centred response, each observation's

@@ -2,6 +2,7 @@ package analyze
 
 import (
 	"math"
+	"slices"
 	"sort"
 
 	"gonum.org/v1/gonum/stat/distuv"
@@ -128,11 +129,12 @@ func BrownForsythe(groups [][]float64) (f float64, df1, df2 int, p float64, ok b
 		if len(g) == 0 {
 			continue
 		}
+		// The median by selection, O(n) (selectKth).
 		s := append([]float64(nil), g...)
-		sort.Float64s(s)
-		med := s[len(s)/2]
+		h := len(s) / 2
+		med := selectKth(s, h)
 		if len(s)%2 == 0 {
-			med = (s[len(s)/2-1] + s[len(s)/2]) / 2
+			med = (slices.Max(s[:h]) + med) / 2
 		}
 		d := make([]float64, len(g))
 		for i, v := range g {
