@@ -6,6 +6,11 @@ import (
 	"math"
 	"os"
 	"strconv"
+	"time"
+
+	"github.com/allotproject/allot/design"
+	"github.com/allotproject/allot/design/workbook"
+	"github.com/allotproject/allot/randomize"
 
 	"golang.org/x/exp/rand"
 )
@@ -20,6 +25,19 @@ type Table struct {
 	Blocks int
 	Seed   uint64
 }
+
+// Inputs returns the tables of the side-by-side benchmark, by file name.
+func Inputs() map[string]Table {
+	return map[string]Table{
+		"oneway1e6":    {Rows: 1_000_000, Levels: []int{5}, Seed: 1},
+		"factorial1e5": {Rows: 100_000, Levels: []int{3, 4, 2}, Blocks: 5, Seed: 2},
+		"tukey1000":    {Rows: 1000, Levels: []int{10}, Seed: 3},
+		"blocks25000":  {Rows: 100_000, Levels: []int{4}, Blocks: 25_000, Seed: 4},
+	}
+}
+
+// FactorNames names the generated factor columns.
+func (t Table) FactorNames() []string { return t.factorNames() }
 
 // Names of the generated columns.
 func (t Table) factorNames() []string {
@@ -84,4 +102,39 @@ func (t Table) WriteCSV(path string) error {
 		return err
 	}
 	return f.Close()
+}
+
+// BigPlan is an RCBD of 10 treatments in units/10 blocks with one response
+// (0 to 1000).
+func BigPlan(units int) design.Plan {
+	lo, hi := 0.0, 1000.0
+	return design.Plan{Title: "bench", Design: design.RCBD,
+		Factors: []design.Factor{{Name: "t", Levels: []string{"a", "b", "c", "d", "e", "f", "g", "h", "i", "j"}}},
+		Reps:    []int{1, 1, 1, 1, 1, 1, 1, 1, 1, 1}, Blocks: units / 10, BlockName: "bench",
+		Responses: []design.Response{{Name: "y", Min: &lo, Max: &hi}}, Seed: 1}
+}
+
+// Meta is the workbook metadata of the benchmarks.
+func Meta() workbook.Meta {
+	return workbook.Meta{Version: "bench", Created: time.Date(2026, 12, 1, 0, 0, 0, 0, time.UTC)}
+}
+
+// WriteFilledWorkbook writes the workbook of BigPlan(units) to path with
+// every response filled (500 ± 10, one decimal).
+func WriteFilledWorkbook(path string, units int) error {
+	l, err := randomize.Assign(BigPlan(units))
+	if err != nil {
+		return err
+	}
+	blank := path + ".blank.xlsx"
+	if err := workbook.Write(blank, l, Meta(), true); err != nil {
+		return err
+	}
+	defer os.Remove(blank)
+	r := rand.New(rand.NewSource(5))
+	vals := make([]float64, len(l.Units))
+	for i := range vals {
+		vals[i] = math.Round((500+10*r.NormFloat64())*10) / 10
+	}
+	return workbook.Fill(blank, path, [][]float64{vals}, "", true)
 }
