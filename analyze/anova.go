@@ -353,6 +353,7 @@ func fit(d Data, opt Options, absorb int) (*Table, error) {
 		return nil, err
 	}
 	cs := m.collapse()
+	m.ints = nil // the exact values live on in the cell sums
 	full := m.fitCells(cs, absorb)
 	ranges := full.ranges
 	p := 1

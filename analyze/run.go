@@ -396,7 +396,8 @@ func checkAssumptions(d Data, t *Table) Assumptions {
 		a.SDRatio = hi / lo
 	}
 	var df1, df2 int
-	a.Levene, df1, df2, a.LeveneP, a.LeveneOK = BrownForsythe(groups)
+	// The groups are slices of flat, a copy this function owns.
+	a.Levene, df1, df2, a.LeveneP, a.LeveneOK = brownForsythe(groups)
 	a.LeveneDF = [2]int{df1, df2}
 	a.Verdicts = verdicts(a, t.Alpha)
 	return a
