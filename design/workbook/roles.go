@@ -77,12 +77,17 @@ func ReadRoles(r io.Reader, path string, roles Roles, decimalComma bool) (obs Ob
 	for k := range intern {
 		intern[k] = map[string]string{}
 	}
+	last := make([]string, len(fi)+1) // runs of one level need no look-up
 	name := func(k int, l []byte) string {
-		if s, ok := intern[k][string(l)]; ok {
-			return s
+		if string(l) == last[k] {
+			return last[k]
 		}
-		s := string(l)
-		intern[k][s] = s
+		s, ok := intern[k][string(l)]
+		if !ok {
+			s = string(l)
+			intern[k][s] = s
+		}
+		last[k] = s
 		return s
 	}
 	values := textArena{out: &obs.Values}
@@ -189,12 +194,12 @@ func (o *Observations) reserve(n, factors int, blocks, units bool) {
 }
 
 // textArena appends strings to *out, storing their bytes in shared chunks
-// of about 1 MiB (one allocation a chunk instead of one a string).
+// of about 1 MiB (one allocation a chunk instead of one a string); they
+// reach *out when their chunk is flushed.
 type textArena struct {
-	buf   []byte
-	ends  []int
-	out   *[]string
-	first int // index in *out of the first string of the current chunk
+	buf  []byte
+	ends []int
+	out  *[]string
 }
 
 func (a *textArena) addBytes(b []byte) {
@@ -204,21 +209,21 @@ func (a *textArena) addBytes(b []byte) {
 
 func (a *textArena) push() {
 	a.ends = append(a.ends, len(a.buf))
-	*a.out = append(*a.out, "")
 	if len(a.buf) >= 1<<20 {
 		a.flush()
 	}
 }
 
-// flush fills in the strings of the current chunk.
+// flush appends the strings of the current chunk to *out.
 func (a *textArena) flush() {
 	chunk := string(a.buf)
 	start := 0
-	for k, e := range a.ends {
-		(*a.out)[a.first+k] = chunk[start:e]
+	out := *a.out
+	for _, e := range a.ends {
+		out = append(out, chunk[start:e])
 		start = e
 	}
-	a.first += len(a.ends)
+	*a.out = out
 	a.buf, a.ends = a.buf[:0], a.ends[:0]
 }
 
