@@ -247,7 +247,7 @@ func (cs *cellStats) floatSums(y []float64) {
 	}
 }
 
-// withinSS returns the pooled within-cell sum of squares and the grand
+// totals returns the pooled within-cell sum of squares and the grand
 // mean and total sum of squares about it.
 func (cs *cellStats) totals() (within, grand, total float64) {
 	var n float64
