@@ -82,6 +82,7 @@ type Table struct {
 	// families by (k, df) and their critical values by (k, df, alpha).
 	ranges map[rangeKey]*prob.PreparedRange
 	crits  map[rangeKey]float64
+	sums   [][]Group // raw summaries per factor
 }
 
 // model is the design of a fit: the centred response, each observation's

@@ -145,7 +145,15 @@ func lsGroups(d Data, t *Table, fi int) ([]Group, func(i, j int) float64, error)
 	var groups []Group
 	var err error
 	if t.m != nil && t.m.n == len(d.Values) && fi < len(t.m.index) {
-		groups = t.m.summaries(t.m.index[fi], t.m.levels[fi])
+		// Each factor's summaries are computed once per table (the
+		// means, the comparisons and the letters all start from them).
+		if t.sums == nil {
+			t.sums = make([][]Group, len(t.m.index))
+		}
+		if t.sums[fi] == nil {
+			t.sums[fi] = t.m.summaries(t.m.index[fi], t.m.levels[fi])
+		}
+		groups = append([]Group(nil), t.sums[fi]...)
 	} else if groups, err = Summaries(d, fi); err != nil {
 		return nil, nil, err
 	}
