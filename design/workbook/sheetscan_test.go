@@ -64,3 +64,24 @@ func TestScanSheet(t *testing.T) {
 		}
 	}
 }
+
+// FuzzScanWorksheet feeds arbitrary markup to the sheet and shared-string
+// scanners: they must fail cleanly (ok false) or return cells, never panic.
+func FuzzScanWorksheet(f *testing.F) {
+	f.Add([]byte(`<worksheet><sheetData><row r="1"><c r="A1" t="s"><v>0</v></c><c r="B1"><v>1.5</v></c></row><row r="3"/></sheetData></worksheet>`))
+	f.Add([]byte(`<sst><si><t>a &amp; b</t></si><si><r><t>x</t></r><rPh><t>y</t></rPh></si><si/></sst>`))
+	f.Add([]byte(`<row r="2"><c r="C2" t="inlineStr"><is><t xml:space="preserve"> t </t></is></c></row>`))
+	f.Fuzz(func(t *testing.T, b []byte) {
+		sst, ok := scanSharedStrings(b)
+		if !ok {
+			sst = []string{"s0"}
+		}
+		if s, ok := scanWorksheet(b, sst); ok {
+			for r := range s.rows {
+				if len(s.rows[r]) != len(s.text[r]) {
+					t.Fatalf("row %d: %d values, %d types", r, len(s.rows[r]), len(s.text[r]))
+				}
+			}
+		}
+	})
+}
