@@ -196,10 +196,11 @@ func ancova(d Data, covName string, x []string, opt Options, means bool) (*ANCOV
 		one[i] = 1
 	}
 	// Term 0 is the covariate; terms 1.. are the model's.
+	tc := mdl.termColumns()
 	termCols := [][][]float64{{cov}}
 	names := []string{covName}
-	for _, t := range mdl.terms {
-		termCols = append(termCols, t.cols)
+	for k, t := range mdl.terms {
+		termCols = append(termCols, tc[k])
 		names = append(names, t.name)
 	}
 	design := func(keep []int) [][]float64 {
@@ -290,10 +291,10 @@ func ancova(d Data, covName string, x []string, opt Options, means bool) (*ANCOV
 	res.SlopeSE = math.Sqrt(mse * full.cov.At(1, 1))
 	res.SlopeT = res.Slope / res.SlopeSE
 	res.SlopeP = 2 * distuv.StudentsT{Mu: 0, Sigma: 1, Nu: float64(res.Residual.DF)}.Survival(math.Abs(res.SlopeT))
-	if err := res.equalSlopes(mdl, cov, design(all), full.rss); err != nil {
+	if err := res.equalSlopes(mdl, tc, cov, design(all), full.rss); err != nil {
 		return nil, err
 	}
-	res.balance(mdl, xc, one)
+	res.balance(mdl, tc, xc, one)
 	if means {
 		res.adjustedMeans(d, mdl, full, p, xc, shift)
 	}
@@ -302,14 +303,14 @@ func ancova(d Data, covName string, x []string, opt Options, means bool) (*ANCOV
 
 // equalSlopes adds treatment × covariate columns (each treatment term's
 // columns times the covariate) to the full model and tests them.
-func (res *ANCOVAResult) equalSlopes(mdl *model, cov []float64, cols [][]float64, rss float64) error {
+func (res *ANCOVAResult) equalSlopes(mdl *model, tc [][][]float64, cov []float64, cols [][]float64, rss float64) error {
 	ext := append([][]float64(nil), cols...)
 	extra := 0
-	for _, t := range mdl.terms {
+	for k, t := range mdl.terms {
 		if t.block || t.blockInt {
 			continue
 		}
-		for _, c := range t.cols {
+		for _, c := range tc[k] {
 			v := make([]float64, len(c))
 			for i := range c {
 				v[i] = c[i] * cov[i]
@@ -335,11 +336,11 @@ func (res *ANCOVAResult) equalSlopes(mdl *model, cov []float64, cols [][]float64
 }
 
 // balance tests the covariate on the treatment combinations (one way).
-func (res *ANCOVAResult) balance(mdl *model, xc, one []float64) {
+func (res *ANCOVAResult) balance(mdl *model, tc [][][]float64, xc, one []float64) {
 	cols := [][]float64{one}
-	for _, t := range mdl.terms {
+	for k, t := range mdl.terms {
 		if !t.block && !t.blockInt {
-			cols = append(cols, t.cols...)
+			cols = append(cols, tc[k]...)
 		}
 	}
 	f0, err0 := ols(xc, [][]float64{one})
@@ -371,17 +372,17 @@ func (res *ANCOVAResult) adjustedMeans(d Data, mdl *model, full *olsFit, p int, 
 			c := 2 // intercept, covariate
 			for _, t := range mdl.terms {
 				if !t.block && !t.blockInt && len(t.factors) == 1 && t.factors[0] == fi {
-					L := len(t.cols) + 1
+					L := t.df + 1
 					for j := 0; j < L-1; j++ {
 						v[c+j] = code(l, L, j)
 					}
 				}
-				c += len(t.cols)
+				c += t.df
 			}
 			g := AdjustedMean{Term: f.Name, Level: name, vec: v}
 			var sy, sx float64
 			for i, li := range mdl.index[fi] {
-				if li == l {
+				if int(li) == l {
 					g.N++
 					sy += mdl.y[i]
 					sx += xc[i]

@@ -6,6 +6,8 @@ import (
 	"math"
 	"strings"
 
+	"github.com/allotproject/allot/prob"
+
 	"gonum.org/v1/gonum/stat/distuv"
 )
 
@@ -72,62 +74,101 @@ type Table struct {
 	// unscaled covariance and the coding of each factor's main effect.
 	est   *estimates
 	Alpha float64 `json:"alpha"`
+	// m and cells keep the parsed design and the cell statistics for the
+	// follow-up summaries, so that the response is parsed once.
+	m     *model
+	cells *cellStats
+	// ranges and crits cache the studentized range of the post-hoc
+	// families by (k, df) and their critical values by (k, df, alpha).
+	ranges map[rangeKey]*prob.PreparedRange
+	crits  map[rangeKey]float64
+	sums   [][]Group // raw summaries per factor
 }
 
-// model is the coded design matrix of a fit.
+// model is the design of a fit: the centred response, each observation's
+// factor levels and block, and the terms. Columns are coded on demand, per
+// cell (codeRow), never stored per observation.
 type model struct {
 	n      int
 	terms  []modelTerm
 	shift  float64
 	y      []float64
+	ints   []int64 // exact centred values ·10^-exp, or nil (see centring)
+	exp    int
 	levels [][]string // per factor
-	index  [][]int    // per factor: level of each observation
+	index  [][]int32  // per factor: level of each observation
 	blockL []string
-	blockI []int
+	blockI []int32
 }
 
 type modelTerm struct {
 	name     string
 	factors  []int // indices into Data.Factors
 	block    bool
-	blockInt bool        // block × treatment-term interaction
-	cols     [][]float64 // coded columns, each of length n
+	blockInt bool // block × treatment-term interaction
+	df       int
 }
 
-// contrasts returns the sum-to-zero coding of a factor: L−1 columns, column j
-// is 1 for level j, −1 for the last level, 0 otherwise.
-func contrasts(idx []int, levels int) [][]float64 {
-	cols := make([][]float64, levels-1)
-	for j := range cols {
-		c := make([]float64, len(idx))
-		for i, l := range idx {
-			switch l {
-			case j:
-				c[i] = 1
-			case levels - 1:
-				c[i] = -1
-			}
+// levels32 is Column.levels with 32-bit indices and one map look-up a value.
+func (c Column) levels32() ([]string, []int32, error) {
+	idx := map[string]int32{}
+	order := c.Levels
+	for i, l := range order {
+		if _, dup := idx[l]; !dup {
+			idx[l] = int32(i)
 		}
-		cols[j] = c
 	}
-	return cols
+	out := make([]int32, len(c.Values))
+	for i, v := range c.Values {
+		j, ok := idx[v]
+		if !ok {
+			if c.Levels != nil {
+				return nil, nil, fmt.Errorf("column %q: value %q is not one of its levels", c.Name, v)
+			}
+			j = int32(len(order))
+			idx[v] = j
+			order = append(order, v)
+		}
+		out[i] = j
+	}
+	used := make([]bool, len(order))
+	for _, j := range out {
+		used[j] = true
+	}
+	// Drop levels with no observations (and repeated names), keeping the order.
+	var kept []string
+	remap := make([]int32, len(order))
+	same := true
+	for j, l := range order {
+		if used[j] && idx[l] == int32(j) {
+			remap[j] = int32(len(kept))
+			same = same && remap[j] == int32(j)
+			kept = append(kept, l)
+		}
+	}
+	if !same {
+		for i := range out {
+			out[i] = remap[out[i]]
+		}
+	}
+	return kept, out, nil
 }
 
-// buildModel codes the block term, the main effects and all interactions,
+// buildModel lists the block term, the main effects and all interactions,
 // ordered by degree (the usual hierarchical order).
 func buildModel(d Data) (*model, error) {
 	n := len(d.Values)
-	y, shift, err := centred(d.Values)
+	c, err := centre(d.Values)
 	if err != nil {
 		return nil, fmt.Errorf("response %q: %w", d.Response, err)
 	}
-	sh, _ := shift.Float64()
-	m := &model{n: n, y: y, shift: sh}
+	sh, _ := c.shift.Float64()
+	m := &model{n: n, y: c.y, shift: sh, ints: c.ints, exp: c.exp}
 	if d.Block != nil {
 		if len(d.Block.Values) != n {
 			return nil, fmt.Errorf("block column %q has %d values for %d observations", d.Block.Name, len(d.Block.Values), n)
 		}
-		lv, idx, err := d.Block.levels()
+		lv, idx, err := d.Block.levels32()
 		if err != nil {
 			return nil, err
 		}
@@ -144,17 +185,16 @@ func buildModel(d Data) (*model, error) {
 			}
 		}
 		m.blockL, m.blockI = lv, idx
-		m.terms = append(m.terms, modelTerm{name: d.Block.Name, block: true, cols: contrasts(idx, len(lv))})
+		m.terms = append(m.terms, modelTerm{name: d.Block.Name, block: true, df: len(lv) - 1})
 	}
 	if len(d.Factors) == 0 {
 		return nil, errors.New("no treatment factor")
 	}
-	main := make([][][]float64, len(d.Factors))
-	for fi, f := range d.Factors {
+	for _, f := range d.Factors {
 		if len(f.Values) != n {
 			return nil, fmt.Errorf("factor %q has %d values for %d observations", f.Name, len(f.Values), n)
 		}
-		lv, idx, err := f.levels()
+		lv, idx, err := f.levels32()
 		if err != nil {
 			return nil, err
 		}
@@ -163,52 +203,79 @@ func buildModel(d Data) (*model, error) {
 		}
 		m.levels = append(m.levels, lv)
 		m.index = append(m.index, idx)
-		main[fi] = contrasts(idx, len(lv))
 	}
 	k := len(d.Factors)
 	for deg := 1; deg <= k; deg++ {
 		for _, set := range subsets(k, deg) {
-			cols := [][]float64{make([]float64, n)}
-			for i := range cols[0] {
-				cols[0][i] = 1
-			}
 			var names []string
+			df := 1
 			for _, fi := range set {
 				names = append(names, d.Factors[fi].Name)
-				var next [][]float64
-				for _, a := range cols {
-					for _, b := range main[fi] {
-						c := make([]float64, n)
-						for i := range c {
-							c[i] = a[i] * b[i]
-						}
-						next = append(next, c)
-					}
-				}
-				cols = next
+				df *= len(m.levels[fi]) - 1
 			}
-			m.terms = append(m.terms, modelTerm{name: strings.Join(names, " × "), factors: set, cols: cols})
+			m.terms = append(m.terms, modelTerm{name: strings.Join(names, " × "), factors: set, df: df})
 		}
 	}
 	if d.BlockInteraction && d.Block != nil {
 		// Block × each treatment term, after all treatment terms.
-		bcols := m.terms[0].cols
 		nt := len(m.terms)
 		for k := 1; k < nt; k++ {
-			var cols [][]float64
-			for _, a := range bcols {
-				for _, b := range m.terms[k].cols {
-					c := make([]float64, n)
-					for i := range c {
-						c[i] = a[i] * b[i]
-					}
-					cols = append(cols, c)
-				}
-			}
-			m.terms = append(m.terms, modelTerm{name: d.Block.Name + " × " + m.terms[k].name, blockInt: true, factors: m.terms[k].factors, cols: cols})
+			m.terms = append(m.terms, modelTerm{name: d.Block.Name + " × " + m.terms[k].name, blockInt: true, factors: m.terms[k].factors, df: m.terms[0].df * m.terms[k].df})
 		}
 	}
 	return m, nil
+}
+
+// codeTerm appends to dst the coded columns of term t for an observation
+// with block b and factor levels lv: the Kronecker product of the
+// factors' sum-to-zero codings (the block's first for a block × treatment
+// term), the earlier factor's index varying slowest.
+func (m *model) codeTerm(dst []float64, t *modelTerm, b int, lv []int32) []float64 {
+	start := len(dst)
+	dst = append(dst, 1)
+	kron := func(l, levels int) {
+		w := len(dst) - start
+		for a := 0; a < w; a++ {
+			v := dst[start+a]
+			for j := 0; j < levels-1; j++ {
+				dst = append(dst, v*code(l, levels, j))
+			}
+		}
+		dst = append(dst[:start], dst[start+w:]...)
+	}
+	if t.block || t.blockInt {
+		kron(b, len(m.blockL))
+	}
+	if !t.block {
+		for _, fi := range t.factors {
+			kron(int(lv[fi]), len(m.levels[fi]))
+		}
+	}
+	return dst
+}
+
+// codeRow appends the model row (intercept when intercept is set, then the
+// terms in order) of an observation with block b and factor levels lv.
+func (m *model) codeRow(dst []float64, order []int, intercept bool, b int, lv []int32) []float64 {
+	if intercept {
+		dst = append(dst, 1)
+	}
+	for _, t := range order {
+		dst = m.codeTerm(dst, &m.terms[t], b, lv)
+	}
+	return dst
+}
+
+// obsLevels writes observation i's factor levels into lv and returns its
+// block (0 without blocks).
+func (m *model) obsLevels(i int, lv []int32) int {
+	for f := range m.index {
+		lv[f] = m.index[f][i]
+	}
+	if m.blockI != nil {
+		return int(m.blockI[i])
+	}
+	return 0
 }
 
 // subsets returns the size-r subsets of {0..k−1} in lexicographic order.
@@ -226,32 +293,6 @@ func subsets(k, r int) [][]int {
 	}
 	rec(0, nil)
 	return out
-}
-
-// fitOrder fits the intercept followed by the given terms in order and
-// returns the fit with each term's column range.
-func (m *model) fitOrder(order []int) (*qrFit, [][2]int) {
-	p := 1
-	for _, t := range order {
-		p += len(m.terms[t].cols)
-	}
-	x := make([]float64, m.n*p)
-	for i := 0; i < m.n; i++ {
-		x[i*p] = 1
-	}
-	ranges := make([][2]int, len(order))
-	c := 1
-	for k, t := range order {
-		ranges[k][0] = c
-		for _, col := range m.terms[t].cols {
-			for i, v := range col {
-				x[i*p+c] = v
-			}
-			c++
-		}
-		ranges[k][1] = c
-	}
-	return fitQR(x, m.n, p, m.y), ranges
 }
 
 // contains reports whether term a's factors include all of term b's (and a
@@ -290,6 +331,11 @@ var ErrEmptyCell = errors.New("analyze: empty cell")
 
 // Fit fits the full model to d and returns its ANOVA table.
 func Fit(d Data, opt Options) (*Table, error) {
+	return fit(d, opt, absorbMin)
+}
+
+// fit is Fit absorbing blocks when there are at least absorb of them.
+func fit(d Data, opt Options, absorb int) (*Table, error) {
 	if opt.SSType == 0 {
 		opt.SSType = 3
 	}
@@ -307,19 +353,18 @@ func Fit(d Data, opt Options) (*Table, error) {
 	if err != nil {
 		return nil, err
 	}
-	all := make([]int, len(m.terms))
-	for i := range all {
-		all[i] = i
-	}
-	full, ranges := m.fitOrder(all)
+	cs := m.collapse()
+	m.ints = nil // the exact values live on in the cell sums
+	full := m.fitCells(cs, absorb)
+	ranges := full.ranges
 	p := 1
 	for _, t := range m.terms {
-		p += len(t.cols)
+		p += t.df
 	}
-	if full.rank < p {
+	if !full.full() {
 		var bad []string
 		for k, r := range ranges {
-			if full.dependent(r[0], r[1]) {
+			if r[1] > r[0] && full.qr.dependent(r[0], r[1]) {
 				bad = append(bad, m.terms[k].name)
 			}
 		}
@@ -332,30 +377,14 @@ func Fit(d Data, opt Options) (*Table, error) {
 	}
 	t := &Table{Response: d.Response, SSType: opt.SSType, N: n, Alpha: opt.Alpha}
 	t.Residual.DF = resDF
-	t.Residual.SS = full.ss(p, n)
+	t.Residual.SS = full.resSS
 	t.Residual.MS = t.Residual.SS / float64(resDF)
 	t.TotalDF = n - 1
-	t.TotalSS = full.ss(1, n)
+	t.TotalSS = full.totalSS
 
 	for k, term := range m.terms {
-		var ss float64
-		switch opt.SSType {
-		case 1:
-			ss = full.ss(ranges[k][0], ranges[k][1])
-		case 2, 3:
-			var order []int
-			for j := range m.terms {
-				if j == k || opt.SSType == 2 && m.contains(j, k) {
-					continue
-				}
-				order = append(order, j)
-			}
-			order = append(order, k)
-			f, r := m.fitOrder(order)
-			last := r[len(r)-1]
-			ss = f.ss(last[0], last[1])
-		}
-		df := len(term.cols)
+		ss := full.ss(m, k, opt.SSType)
+		df := term.df
 		row := Term{Source: term.name, DF: df, SS: ss, MS: ss / float64(df), Block: term.block, BlockInteraction: term.blockInt}
 		for _, fi := range term.factors {
 			row.Factors = append(row.Factors, d.Factors[fi].Name)
@@ -373,49 +402,23 @@ func Fit(d Data, opt Options) (*Table, error) {
 	t.ResidSD = math.Sqrt(t.Residual.MS)
 	t.GrandMean = shiftedMean(m.y, m.shift, nil)
 	t.CV = 100 * t.ResidSD / math.Abs(t.GrandMean)
-	t.Residuals = full.residuals()
+	cellRes := full.cellResiduals(cs)
+	cellLev := full.cellLeverage(m, cs)
+	t.Residuals = make([]float64, n)
 	t.Fitted = make([]float64, n)
-	for i := range t.Fitted {
-		t.Fitted[i] = m.y[i] - t.Residuals[i] + m.shift
+	t.Leverage = make([]float64, n)
+	for i, c := range cs.of {
+		e := m.y[i] - cs.mean[c] + cellRes[c]
+		t.Residuals[i] = e
+		t.Fitted[i] = m.y[i] - e + m.shift
+		t.Leverage[i] = cellLev[c]
 	}
-	t.Leverage = m.leverage(full, all)
-	t.est = newEstimates(m, full, ranges)
+	t.est = full.estimates(m)
+	t.m, t.cells = m, cs
 	if d.Block != nil && !d.BlockInteraction {
 		t.RelEfficiency = relEfficiency(t)
 	}
 	return t, nil
-}
-
-// leverage returns h_ii = ||R^{-T} x_i||² for the fit of the terms in order,
-// by forward substitution with the triangular factor R (p² operations a row).
-func (m *model) leverage(f *qrFit, order []int) []float64 {
-	p := f.p
-	r := func(i, j int) float64 { return f.a.Data[i*p+j] }
-	h := make([]float64, m.n)
-	x := make([]float64, p)
-	v := make([]float64, p)
-	for i := 0; i < m.n; i++ {
-		x[0] = 1
-		c := 1
-		for _, t := range order {
-			for _, col := range m.terms[t].cols {
-				x[c] = col[i]
-				c++
-			}
-		}
-		// Solve Rᵀ v = x.
-		var s float64
-		for j := 0; j < p; j++ {
-			acc := x[j]
-			for k := 0; k < j; k++ {
-				acc -= r(k, j) * v[k]
-			}
-			v[j] = acc / r(j, j)
-			s += v[j] * v[j]
-		}
-		h[i] = s
-	}
-	return h
 }
 
 // relEfficiency returns the efficiency of the block design relative to a

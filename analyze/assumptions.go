@@ -2,6 +2,7 @@ package analyze
 
 import (
 	"math"
+	"slices"
 	"sort"
 
 	"gonum.org/v1/gonum/stat/distuv"
@@ -122,23 +123,33 @@ func ShapiroWilk(x []float64) (w, p float64, ok bool) {
 // freedom and p-value. ok is false with fewer than 2 groups or when every
 // deviation is zero.
 func BrownForsythe(groups [][]float64) (f float64, df1, df2 int, p float64, ok bool) {
+	own := make([][]float64, len(groups))
+	for i, g := range groups {
+		own[i] = append([]float64(nil), g...)
+	}
+	return brownForsythe(own)
+}
+
+// brownForsythe is BrownForsythe overwriting the groups (each is reordered
+// and replaced by its absolute deviations, which the test uses in any
+// order).
+func brownForsythe(groups [][]float64) (f float64, df1, df2 int, p float64, ok bool) {
 	k := 0
 	var z [][]float64
-	for _, g := range groups {
-		if len(g) == 0 {
+	for _, s := range groups {
+		if len(s) == 0 {
 			continue
 		}
-		s := append([]float64(nil), g...)
-		sort.Float64s(s)
-		med := s[len(s)/2]
+		// The median by selection, O(n) (selectKth).
+		h := len(s) / 2
+		med := selectKth(s, h)
 		if len(s)%2 == 0 {
-			med = (s[len(s)/2-1] + s[len(s)/2]) / 2
+			med = (slices.Max(s[:h]) + med) / 2
 		}
-		d := make([]float64, len(g))
-		for i, v := range g {
-			d[i] = math.Abs(v - med)
+		for i, v := range s {
+			s[i] = math.Abs(v - med)
 		}
-		z = append(z, d)
+		z = append(z, s)
 		k++
 	}
 	n := 0

@@ -4,7 +4,8 @@ import (
 	"fmt"
 	"math"
 	"math/big"
-	"sort"
+	"math/bits"
+	"slices"
 	"strconv"
 )
 
@@ -95,11 +96,12 @@ func parseDecimal(s string) (decimal, bool) {
 		neg = s[i] == '-'
 		i++
 	}
-	digits, frac, seenDot := 0, 0, false
+	digits, frac, seenDot, any := 0, 0, false, false
 	for ; i < len(s); i++ {
 		c := s[i]
 		switch {
 		case c >= '0' && c <= '9':
+			any = true
 			if digits >= 18 {
 				return d, false
 			}
@@ -127,7 +129,7 @@ exp:
 		}
 		d.e = v
 	}
-	if i == 0 || (i == 1 && neg) {
+	if !any {
 		return d, false
 	}
 	d.e -= frac
@@ -140,69 +142,103 @@ exp:
 // pow10 holds the exactly representable powers of ten.
 var pow10 = [...]float64{1e0, 1e1, 1e2, 1e3, 1e4, 1e5, 1e6, 1e7, 1e8, 1e9, 1e10, 1e11, 1e12, 1e13, 1e14, 1e15, 1e16, 1e17, 1e18, 1e19, 1e20, 1e21, 1e22}
 
+// centring is a response centred exactly at its median observation.
+type centring struct {
+	y     []float64 // centred values, each rounded once
+	shift *big.Rat  // the median observation, exactly
+	// ints, when not nil, holds every centred value exactly as
+	// ints[i]·10^exp (decimal inputs whose differences fit in 53 bits).
+	ints []int64
+	exp  int
+}
+
 // centred parses the decimal texts, subtracts the median observation exactly
 // and returns the centred float64 values with the shift. Each centred value
 // is rounded once: the difference is formed exactly (in int64 at the common
 // exponent, or with math/big when that overflows) and then divided by an
 // exact power of ten.
 func centred(values []string) ([]float64, *big.Rat, error) {
-	if len(values) == 0 {
-		return nil, nil, fmt.Errorf("no observations")
+	c, err := centre(values)
+	return c.y, c.shift, err
+}
+
+// centre is centred keeping the exact integer differences. Each text is
+// parsed once: a decimal with at most 15 significant digits and a small
+// exponent becomes its float64 by one correctly rounded operation on exact
+// operands (Clinger 1990, "How to read floating point numbers accurately",
+// PLDI '90, 92–101, the fast path), anything else by strconv.ParseFloat or
+// math/big. The median (by value, ties by position: element n/2 of the
+// stable order) is found by selection in O(n) rather than by sorting.
+func centre(values []string) (centring, error) {
+	n := len(values)
+	if n == 0 {
+		return centring{}, fmt.Errorf("no observations")
 	}
-	decs := make([]decimal, len(values))
+	ms := make([]int64, n)
+	es := make([]int16, n)
 	fast := true
-	floats := make([]float64, len(values))
+	floats := make([]float64, n)
 	for i, s := range values {
 		d, ok := parseDecimal(s)
-		if !ok {
+		if ok && d.e >= -22 && d.e <= 22 && d.m <= 1<<53 && d.m >= -(1<<53) {
+			ms[i], es[i] = d.m, int16(d.e)
+			f := float64(d.m)
+			if d.e < 0 {
+				f /= pow10[-d.e]
+			} else if d.e > 0 {
+				f *= pow10[d.e]
+			}
+			floats[i] = f
+			continue
+		}
+		if ok && d.e >= math.MinInt16 && d.e <= math.MaxInt16 {
+			ms[i], es[i] = d.m, int16(d.e)
+		} else {
 			fast = false
 		}
-		decs[i] = d
 		f, err := strconv.ParseFloat(s, 64)
 		if err != nil {
 			// An exact ratio such as a subsample mean, "31/3".
 			r, ok := new(big.Rat).SetString(s)
 			if !ok {
-				return nil, nil, fmt.Errorf("observation %d: %q is not a decimal number", i+1, s)
+				return centring{}, fmt.Errorf("observation %d: %q is not a decimal number", i+1, s)
 			}
 			f, _ = r.Float64()
 		}
 		if math.IsNaN(f) || math.IsInf(f, 0) {
-			return nil, nil, fmt.Errorf("observation %d: %q is not a decimal number", i+1, s)
+			return centring{}, fmt.Errorf("observation %d: %q is not a decimal number", i+1, s)
 		}
 		floats[i] = f
 	}
-	// The median by value (ties by position) is the shift.
-	order := make([]int, len(values))
-	for i := range order {
-		order[i] = i
-	}
-	sort.SliceStable(order, func(a, b int) bool { return floats[order[a]] < floats[order[b]] })
-	mid := order[len(order)/2]
+	mid := medianIndex(floats)
 	shift, _ := new(big.Rat).SetString(values[mid])
-	out := make([]float64, len(values))
+	out := floats // overwritten in place: the parsed values are not needed again
 	if fast {
-		minE := decs[mid].e
-		for _, d := range decs {
-			minE = min(minE, d.e)
+		md := decimal{m: ms[mid], e: int(es[mid])}
+		minE := md.e
+		for _, e := range es {
+			minE = min(minE, int(e))
 		}
-		ok := true
-		for i, d := range decs {
-			a, okA := scaleTo(d, minE)
-			b, okB := scaleTo(decs[mid], minE)
+		b, okB := scaleTo(md, minE)
+		ok := okB && -minE < len(pow10)
+		for i := 0; ok && i < n; i++ {
+			a, okA := scaleTo(decimal{m: ms[i], e: int(es[i])}, minE)
 			diff := a - b
-			if !okA || !okB || (a > 0) != (b > 0) && (diff > 0) != (a > 0) || -minE >= len(pow10) || diff > 1<<53 || diff < -(1<<53) {
+			if !okA || (a > 0) != (b > 0) && (diff > 0) != (a > 0) || diff > 1<<53 || diff < -(1<<53) {
 				ok = false
 				break
 			}
-			if minE <= 0 {
-				out[i] = float64(diff) / pow10[-minE]
-			} else {
-				out[i] = float64(diff) * math.Pow(10, float64(minE))
-			}
+			ms[i] = diff
 		}
 		if ok {
-			return out, shift, nil
+			for i, diff := range ms {
+				if minE <= 0 {
+					out[i] = float64(diff) / pow10[-minE]
+				} else {
+					out[i] = float64(diff) * math.Pow(10, float64(minE))
+				}
+			}
+			return centring{y: out, shift: shift, ints: ms, exp: minE}, nil
 		}
 	}
 	var r, d big.Rat
@@ -211,7 +247,82 @@ func centred(values []string) ([]float64, *big.Rat, error) {
 		d.Sub(&r, shift)
 		out[i], _ = d.Float64()
 	}
-	return out, shift, nil
+	return centring{y: out, shift: shift}, nil
+}
+
+// medianIndex returns the index of element len(x)/2 of x's stable sort
+// (ties by position) in O(n): the value by selection, then the position
+// among its equals.
+func medianIndex(x []float64) int {
+	k := len(x) / 2
+	v := selectKth(append([]float64(nil), x...), k)
+	less := 0
+	for _, f := range x {
+		if f < v {
+			less++
+		}
+	}
+	for i, f := range x {
+		if f == v {
+			if less == k {
+				return i
+			}
+			less++
+		}
+	}
+	panic("analyze: median not found")
+}
+
+// selectKth returns the k-th smallest element of a (0-based), reordering a:
+// Hoare's FIND (Hoare 1961, "Algorithm 65: find", CACM 4(7) 321–322) with a
+// median-of-three pivot, switching to a full sort after 2·log₂n
+// unproductive rounds so that the worst case stays O(n log n) (Musser 1997,
+// "Introspective sorting and selection algorithms", Software: Practice and
+// Experience 27(8) 983–993). NaNs must not occur.
+func selectKth(a []float64, k int) float64 {
+	lo, hi := 0, len(a)-1
+	budget := 2 * bits.Len(uint(len(a)))
+	for hi > lo {
+		if budget == 0 {
+			slices.Sort(a[lo : hi+1])
+			return a[k]
+		}
+		budget--
+		m := lo + (hi-lo)/2
+		if a[m] < a[lo] {
+			a[m], a[lo] = a[lo], a[m]
+		}
+		if a[hi] < a[lo] {
+			a[hi], a[lo] = a[lo], a[hi]
+		}
+		if a[hi] < a[m] {
+			a[hi], a[m] = a[m], a[hi]
+		}
+		p := a[m]
+		i, j := lo, hi
+		for i <= j {
+			for a[i] < p {
+				i++
+			}
+			for a[j] > p {
+				j--
+			}
+			if i <= j {
+				a[i], a[j] = a[j], a[i]
+				i++
+				j--
+			}
+		}
+		switch {
+		case k <= j:
+			hi = j
+		case k >= i:
+			lo = i
+		default:
+			return a[k]
+		}
+	}
+	return a[k]
 }
 
 // scaleTo returns d's mantissa at exponent e ≤ d.e, reporting overflow.

@@ -55,7 +55,7 @@ func NewEngine(d Data, ssType int) (*Engine, error) {
 	}
 	e := &Engine{m: m, ssType: ssType, cache: map[string]*prepared{}}
 	for _, t := range m.terms {
-		row := Term{Source: t.name, DF: len(t.cols), Block: t.block, BlockInteraction: t.blockInt}
+		row := Term{Source: t.name, DF: t.df, Block: t.block, BlockInteraction: t.blockInt}
 		for _, fi := range t.factors {
 			row.Factors = append(row.Factors, d.Factors[fi].Name)
 		}
@@ -91,28 +91,26 @@ func (e *Engine) orders() [][]int {
 func (e *Engine) prepare(rows []int) *prepared {
 	m := e.m
 	pr := &prepared{rows: rows, orders: e.orders()}
+	lv := make([]int32, len(m.index))
+	var row []float64
 	for _, order := range pr.orders {
 		p := 1
 		for _, t := range order {
-			p += len(m.terms[t].cols)
+			p += m.terms[t].df
 		}
 		pr.p = p
 		n := len(rows)
 		x := make([]float64, n*p)
 		ranges := make([][2]int, len(order))
-		for r := range rows {
-			x[r*p] = 1
-		}
 		c := 1
 		for k, t := range order {
-			ranges[k][0] = c
-			for _, col := range m.terms[t].cols {
-				for r, i := range rows {
-					x[r*p+c] = col[i]
-				}
-				c++
-			}
-			ranges[k][1] = c
+			ranges[k] = [2]int{c, c + m.terms[t].df}
+			c += m.terms[t].df
+		}
+		for r, i := range rows {
+			b := m.obsLevels(i, lv)
+			row = m.codeRow(row[:0], order, true, b, lv)
+			copy(x[r*p:], row)
 		}
 		f := fitQR(x, n, p, make([]float64, n))
 		pr.fits = append(pr.fits, f)

@@ -306,10 +306,11 @@ func FitGLM(d Data, opt GLMOptions) (*GLMResult, error) {
 	for i := range intercept {
 		intercept[i] = 1
 	}
+	tc := mdl.termColumns()
 	design := func(terms []int) [][]float64 {
 		cols := [][]float64{intercept}
 		for _, t := range terms {
-			cols = append(cols, mdl.terms[t].cols...)
+			cols = append(cols, tc[t]...)
 		}
 		return cols
 	}
@@ -438,7 +439,7 @@ func (res *GLMResult) termTests(fam glmFamily, y, m []float64, mdl *model, desig
 				return err
 			}
 		}
-		df := len(term.cols)
+		df := term.df
 		lr := math.Max(0, dWithout-dWith)
 		row := GLMTerm{Source: term.name, DF: df, Deviance: lr, Block: term.block}
 		row.P = distuv.ChiSquared{K: float64(df)}.Survival(lr)
@@ -458,7 +459,7 @@ func (res *GLMResult) boundaries(d Data, mdl *model, y, m []float64, fam glmFami
 		for l, name := range mdl.levels[fi] {
 			var sy, sm float64
 			for i, li := range mdl.index[fi] {
-				if li == l {
+				if int(li) == l {
 					sy += y[i]
 					sm += m[i]
 				}
@@ -483,7 +484,7 @@ func levelVector(mdl *model, fi, l, p int) []float64 {
 	c := 1
 	for _, t := range mdl.terms {
 		if !t.block && !t.blockInt && len(t.factors) == 1 && t.factors[0] == fi {
-			L := len(t.cols) + 1
+			L := t.df + 1
 			for j := 0; j < L-1; j++ {
 				switch l {
 				case j:
@@ -493,7 +494,7 @@ func levelVector(mdl *model, fi, l, p int) []float64 {
 				}
 			}
 		}
-		c += len(t.cols)
+		c += t.df
 	}
 	return v
 }
@@ -524,7 +525,7 @@ func (res *GLMResult) means(d Data, mdl *model, y, m []float64, fam glmFamily, f
 			g := GLMMean{Term: f.Name, Level: name}
 			var sy, sm float64
 			for i, li := range mdl.index[fi] {
-				if li == l {
+				if int(li) == l {
 					g.N++
 					sy += y[i]
 					sm += m[i]

@@ -10,46 +10,11 @@ type estimates struct {
 	main   map[int][2]int    // factor index → column range of its main effect
 	pair   map[[2]int][2]int // factors (i < j) → column range of their interaction
 	levels [][]string
+	// absorbed marks estimates whose block columns were absorbed.
+	absorbed bool
 }
 
-func newEstimates(m *model, f *qrFit, ranges [][2]int) *estimates {
-	p := f.p
-	r := func(i, j int) float64 { return f.a.Data[i*p+j] }
-	// b from R b = (Qᵀy)[:p].
-	b := make([]float64, p)
-	for i := p - 1; i >= 0; i-- {
-		s := f.qty[i]
-		for j := i + 1; j < p; j++ {
-			s -= r(i, j) * b[j]
-		}
-		b[i] = s / r(i, i)
-	}
-	// R⁻¹ (upper triangular), then R⁻¹R⁻ᵀ.
-	inv := make([][]float64, p)
-	for i := range inv {
-		inv[i] = make([]float64, p)
-	}
-	for j := 0; j < p; j++ {
-		inv[j][j] = 1 / r(j, j)
-		for i := j - 1; i >= 0; i-- {
-			var s float64
-			for k := i + 1; k <= j; k++ {
-				s += r(i, k) * inv[k][j]
-			}
-			inv[i][j] = -s / r(i, i)
-		}
-	}
-	cov := make([][]float64, p)
-	for i := range cov {
-		cov[i] = make([]float64, p)
-		for j := range cov[i] {
-			var s float64
-			for k := max(i, j); k < p; k++ {
-				s += inv[i][k] * inv[j][k]
-			}
-			cov[i][j] = s
-		}
-	}
+func newEstimates(m *model, b []float64, cov [][]float64, ranges [][2]int) *estimates {
 	e := &estimates{b: b, cov: cov, shift: m.shift, main: map[int][2]int{}, pair: map[[2]int][2]int{}, levels: m.levels}
 	for k, t := range m.terms {
 		switch {

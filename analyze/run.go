@@ -126,17 +126,11 @@ func Run(d Data, opt RunOptions) (*Result, error) {
 	if len(d.Factors) >= 2 {
 		// Least-squares cell means of the first two factors, for the
 		// interaction plot, with the raw counts and SDs.
-		comb := Column{Name: d.Factors[0].Name + " × " + d.Factors[1].Name}
-		for i := range d.Values {
-			comb.Values = append(comb.Values, d.Factors[0].Values[i]+" × "+d.Factors[1].Values[i])
-		}
-		raw, err := Summaries(Data{Response: d.Response, Values: d.Values, Factors: []Column{comb}}, 0)
-		if err != nil {
-			return nil, err
-		}
 		byName := map[string]Group{}
-		for _, g := range raw {
-			byName[g.Level] = g
+		for _, g := range t.m.pairSummaries(0, 1) {
+			if g.N > 0 {
+				byName[g.Level] = g
+			}
 		}
 		la := t.est.levels[0]
 		lb := t.est.levels[1]
@@ -189,7 +183,7 @@ func Run(d Data, opt RunOptions) (*Result, error) {
 		}
 		res.Notes = append(res.Notes, "An interaction is significant: the effect of one factor depends on the level of another, so the main-effect comparisons average over effects that differ and can mislead; read the simple effects (one factor within each level of the other) instead.")
 	}
-	if !balanced(d) {
+	if !t.cells.balanced(t.m) {
 		res.Notes = append(res.Notes, "The design is unbalanced (missing units or unequal groups): the means shown are least-squares means, adjusted for the other terms and averaged over their levels with equal weights; raw means would be biased by which units are missing.")
 	}
 	res.Assumptions = checkAssumptions(d, t)
@@ -217,41 +211,33 @@ func addLetters(ph *PostHoc) {
 
 // balanced reports whether every treatment cell has the same number of
 // observations (in every block).
-func balanced(d Data) bool {
-	count := map[string]int{}
-	for i := range d.Values {
-		key := ""
-		if d.Block != nil {
-			key = d.Block.Values[i]
-		}
-		for _, f := range d.Factors {
-			key += "\x00" + f.Values[i]
-		}
-		count[key]++
-	}
-	first := -1
-	cells := 1
-	for _, f := range d.Factors {
-		lv, _, _ := f.levels()
-		cells *= len(lv)
-	}
-	nb := 1
-	if d.Block != nil {
-		bl, _, _ := d.Block.levels()
-		nb = len(bl)
-	}
-	if len(count) != cells*nb {
+func (cs *cellStats) balanced(m *model) bool {
+	if len(cs.n) != cs.nTreat*max(len(m.blockL), 1) {
 		return false
 	}
-	for _, c := range count {
-		if first < 0 {
-			first = c
-		}
-		if c != first {
+	for _, k := range cs.n {
+		if k != cs.n[0] {
 			return false
 		}
 	}
 	return true
+}
+
+// pairSummaries returns the summaries of the cells of factors a and b
+// (levels "A × B"), a's level varying slowest.
+func (m *model) pairSummaries(a, b int) []Group {
+	la, lb := m.levels[a], m.levels[b]
+	g := make([]int32, m.n)
+	for i := range g {
+		g[i] = m.index[a][i]*int32(len(lb)) + m.index[b][i]
+	}
+	var names []string
+	for _, x := range la {
+		for _, y := range lb {
+			names = append(names, x+" × "+y)
+		}
+	}
+	return m.summaries(g, names)
 }
 
 // simpleEffects compares the levels of the first factor of each significant
@@ -264,35 +250,54 @@ func simpleEffects(d Data, t *Table) ([]*PostHoc, error) {
 			continue
 		}
 		ai, bi := factorIndex(d, term.Factors[0]), factorIndex(d, term.Factors[1])
-		blv, _, err := d.Factors[bi].levels()
-		if err != nil {
-			return nil, err
+		m := t.m
+		cells := m.pairSummaries(bi, ai)
+		na := len(m.levels[ai])
+		// First appearance of each level of ai within each level of bi,
+		// the level order when the factor declares none.
+		first := make([]int, len(cells))
+		for i := range first {
+			first[i] = -1
 		}
-		for _, bl := range blv {
-			var sub Data
-			sub.Response = d.Response
-			col := Column{Name: d.Factors[ai].Name, Levels: d.Factors[ai].Levels}
-			for i := range d.Values {
-				if d.Factors[bi].Values[i] == bl {
-					sub.Values = append(sub.Values, d.Values[i])
-					col.Values = append(col.Values, d.Factors[ai].Values[i])
+		for i := m.n - 1; i >= 0; i-- {
+			first[int(m.index[bi][i])*na+int(m.index[ai][i])] = i
+		}
+		for bl, blName := range m.levels[bi] {
+			var groups []Group
+			var pos []int
+			for a := 0; a < na; a++ {
+				if g := cells[bl*na+a]; g.N > 0 {
+					g.Level = m.levels[ai][a]
+					groups = append(groups, g)
+					pos = append(pos, first[bl*na+a])
 				}
 			}
-			sub.Factors = []Column{col}
-			groups, err := Summaries(sub, 0)
-			if err != nil {
-				return nil, err
+			if d.Factors[ai].Levels == nil {
+				sort.Sort(byPos{groups, pos})
 			}
 			if len(groups) < 2 {
 				continue
 			}
 			ph := tukeyGroups(groups, t, d.Factors[ai].Name, rawSE(groups, t))
-			ph.Within = d.Factors[bi].Name + " = " + bl
+			ph.Within = d.Factors[bi].Name + " = " + blName
 			addLetters(ph)
 			out = append(out, ph)
 		}
 	}
 	return out, nil
+}
+
+// byPos sorts groups by the position of their first observation.
+type byPos struct {
+	g   []Group
+	pos []int
+}
+
+func (b byPos) Len() int           { return len(b.g) }
+func (b byPos) Less(i, j int) bool { return b.pos[i] < b.pos[j] }
+func (b byPos) Swap(i, j int) {
+	b.g[i], b.g[j] = b.g[j], b.g[i]
+	b.pos[i], b.pos[j] = b.pos[j], b.pos[i]
 }
 
 func factorIndex(d Data, name string) int {
@@ -346,23 +351,32 @@ func checkAssumptions(d Data, t *Table) Assumptions {
 	var ok bool
 	a.ShapiroW, a.ShapiroP, ok = ShapiroWilk(t.Residuals)
 	a.NormalOK = ok
-	cells := map[string][]float64{}
-	var order []string
+	// Residuals grouped by treatment cell (a counting sort into one array).
+	cs := t.cells
+	cellOf := func(i int) int { return int(cs.treat[cs.of[i]]) }
+	start := make([]int, cs.nTreat+1)
+	for i := range t.Residuals {
+		start[cellOf(i)+1]++
+	}
+	for c := 1; c <= cs.nTreat; c++ {
+		start[c] += start[c-1]
+	}
+	flat := make([]float64, len(t.Residuals))
+	next := append([]int(nil), start[:cs.nTreat]...)
 	for i, e := range t.Residuals {
-		var key []string
-		for _, f := range d.Factors {
-			key = append(key, f.Values[i])
+		c := cellOf(i)
+		flat[next[c]] = e
+		next[c]++
+	}
+	var order [][]float64
+	for c := 0; c < cs.nTreat; c++ {
+		if start[c+1] > start[c] {
+			order = append(order, flat[start[c]:start[c+1]])
 		}
-		k := strings.Join(key, " × ")
-		if _, seen := cells[k]; !seen {
-			order = append(order, k)
-		}
-		cells[k] = append(cells[k], e)
 	}
 	var groups [][]float64
 	lo, hi := math.Inf(1), 0.0
-	for _, k := range order {
-		g := cells[k]
+	for _, g := range order {
 		groups = append(groups, g)
 		if len(g) > 1 {
 			var m, ss float64
@@ -382,7 +396,8 @@ func checkAssumptions(d Data, t *Table) Assumptions {
 		a.SDRatio = hi / lo
 	}
 	var df1, df2 int
-	a.Levene, df1, df2, a.LeveneP, a.LeveneOK = BrownForsythe(groups)
+	// The groups are slices of flat, a copy this function owns.
+	a.Levene, df1, df2, a.LeveneP, a.LeveneOK = brownForsythe(groups)
 	a.LeveneDF = [2]int{df1, df2}
 	a.Verdicts = verdicts(a, t.Alpha)
 	return a

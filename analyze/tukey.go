@@ -108,12 +108,53 @@ func Tukey(d Data, t *Table, fi int) (*PostHoc, error) {
 	return tukeyGroups(groups, t, d.Factors[fi].Name, se), nil
 }
 
+// summaries returns the count, mean and SD of the observations in each
+// group g[i] ∈ [0, len(names)), means with Neumaier's compensated sums and
+// SDs by two passes; a group without observations has N 0 and NaN mean.
+func (m *model) summaries(g []int32, names []string) []Group {
+	k := len(names)
+	sums := make([]neumaier, k)
+	count := make([]int, k)
+	for i, v := range m.y {
+		sums[g[i]].add(v)
+		count[g[i]]++
+	}
+	mean := make([]float64, k)
+	for l := range mean {
+		mean[l] = sums[l].sum() / float64(count[l])
+		sums[l] = neumaier{}
+	}
+	for i, v := range m.y {
+		d := v - mean[g[i]]
+		sums[g[i]].add(d * d)
+	}
+	out := make([]Group, k)
+	for l := range out {
+		out[l] = Group{Level: names[l], N: count[l], Mean: m.shift + mean[l], SD: math.NaN()}
+		if count[l] > 1 {
+			out[l].SD = math.Sqrt(sums[l].sum() / float64(count[l]-1))
+		}
+	}
+	return out
+}
+
 // lsGroups returns the level summaries of factor fi with the least-squares
 // means in place of the raw means, and the standard error of the
 // difference of two levels' least-squares means.
 func lsGroups(d Data, t *Table, fi int) ([]Group, func(i, j int) float64, error) {
-	groups, err := Summaries(d, fi)
-	if err != nil {
+	var groups []Group
+	var err error
+	if t.m != nil && t.m.n == len(d.Values) && fi < len(t.m.index) {
+		// Each factor's summaries are computed once per table (the
+		// means, the comparisons and the letters all start from them).
+		if t.sums == nil {
+			t.sums = make([][]Group, len(t.m.index))
+		}
+		if t.sums[fi] == nil {
+			t.sums[fi] = t.m.summaries(t.m.index[fi], t.m.levels[fi])
+		}
+		groups = append([]Group(nil), t.sums[fi]...)
+	} else if groups, err = Summaries(d, fi); err != nil {
 		return nil, nil, err
 	}
 	ls := t.LSMeans(fi)
@@ -134,14 +175,50 @@ func rawSE(groups []Group, t *Table) func(i, j int) float64 {
 	}
 }
 
+// rangeKey identifies a studentized range distribution and level.
+type rangeKey struct {
+	k, df int
+	alpha float64
+}
+
+// studentizedRange returns the studentized range for k means with the
+// table's error df, prepared once per table (every Tukey family of an
+// analysis with k levels shares it: the main effects and each simple
+// effect).
+func (t *Table) studentizedRange(k int) *prob.PreparedRange {
+	key := rangeKey{k: k, df: t.Residual.DF}
+	if t.ranges == nil {
+		t.ranges = map[rangeKey]*prob.PreparedRange{}
+	}
+	sr, ok := t.ranges[key]
+	if !ok {
+		sr = prob.StudentizedRange{K: float64(k), Nu: float64(t.Residual.DF)}.Prepare()
+		t.ranges[key] = sr
+	}
+	return sr
+}
+
+// rangeCrit returns the critical q at the table's alpha, cached by
+// (k, df, alpha).
+func (t *Table) rangeCrit(k int, sr *prob.PreparedRange) float64 {
+	key := rangeKey{k: k, df: t.Residual.DF, alpha: t.Alpha}
+	if t.crits == nil {
+		t.crits = map[rangeKey]float64{}
+	}
+	q, ok := t.crits[key]
+	if !ok {
+		q = sr.Quantile(1 - t.Alpha)
+		t.crits[key] = q
+	}
+	return q
+}
+
 // tukeyGroups runs Tukey–Kramer comparisons among groups with the table's
 // error; se(i, j) is the standard error of the difference of means i and j.
 func tukeyGroups(groups []Group, t *Table, term string, se func(i, j int) float64) *PostHoc {
-	k := float64(len(groups))
-	df := float64(t.Residual.DF)
-	sr := prob.StudentizedRange{K: k, Nu: df}
+	sr := t.studentizedRange(len(groups))
 	ph := &PostHoc{Method: "Tukey HSD", Term: term, Alpha: t.Alpha, DF: t.Residual.DF, Groups: groups, StatName: "q"}
-	ph.Crit = sr.Quantile(1 - t.Alpha)
+	ph.Crit = t.rangeCrit(len(groups), sr)
 	for i := 0; i < len(groups); i++ {
 		for j := i + 1; j < len(groups); j++ {
 			a, b := groups[i], groups[j]

@@ -184,6 +184,9 @@ func readData(f *excelize.File, path string, key *design.Key) (design.Layout, []
 		v, _ := f.GetCellValue(SheetData, c, excelize.Options{RawCellValue: true})
 		return v
 	}
+	if sc, ok := scanSheet(f, SheetData); ok {
+		get = sc.value
+	}
 	fp, sum := get("B1"), get("B2")
 	n, err := strconv.Atoi(get("B3"))
 	if err != nil || n < 1 {
@@ -193,12 +196,13 @@ func readData(f *excelize.File, path string, key *design.Key) (design.Layout, []
 	for i := 0; i < n; i++ {
 		sb.WriteString(get(cell(1, 4+i)))
 	}
-	doc := sb.String()
-	if digest([]byte(doc)) != sum {
+	doc := []byte(sb.String())
+	sb.Reset()
+	if digest(doc) != sum {
 		return design.Layout{}, nil, fail("A4", "the stored plan does not match its checksum in B2: the plan sheet was edited; use an unedited copy of the workbook")
 	}
 	var st stored
-	if err := json.Unmarshal([]byte(doc), &st); err != nil {
+	if err := json.Unmarshal(doc, &st); err != nil {
 		return design.Layout{}, nil, fail("A4", "the stored plan is not valid JSON: "+err.Error())
 	}
 	p, err := design.ParsePlan(st.Plan)
@@ -249,6 +253,10 @@ func readData(f *excelize.File, path string, key *design.Key) (design.Layout, []
 }
 
 func readEntry(f *excelize.File, path string, l design.Layout, labels []string, opt ReadOptions) (*Filled, error) {
+	if sc, ok := scanSheet(f, SheetEntry); ok {
+		// One streaming pass gives the values and the cell types.
+		return checkRows(path, SheetEntry, sc.rows, sc.isText, l, labels, opt)
+	}
 	rows, err := f.GetRows(SheetEntry, excelize.Options{RawCellValue: true})
 	if err != nil {
 		return nil, &FileError{Path: path, Sheet: SheetEntry, Msg: "the data-entry sheet is missing or unreadable (" + err.Error() + ")"}
@@ -315,7 +323,17 @@ func checkRows(path, sheet string, rows [][]string, isText func(ref string) bool
 	}
 	tr := p.Treatments()
 	nd := c.designCount(p)
-	seenRow := map[string]string{}
+	seenRow := make(map[string]string, 2*len(l.Units))
+	// A unit's label depends on its treatment only: look each up once.
+	treatLabel := map[int]string{}
+	labelOf := func(u design.Unit) string {
+		s, ok := treatLabel[u.Treatment]
+		if !ok {
+			s = l.Label(u)
+			treatLabel[u.Treatment] = s
+		}
+		return s
+	}
 	for r := 1; r < len(rows); r++ {
 		row := rows[r]
 		at := func(j int) string {
@@ -361,7 +379,7 @@ func checkRows(path, sheet string, rows [][]string, isText func(ref string) bool
 		if labels != nil {
 			label = labels[ui]
 		} else {
-			label = l.Label(l.Units[ui])
+			label = labelOf(l.Units[ui])
 		}
 		want := designCells(c, l.Units[ui], sub, label, tr)
 		for j := 1; j < len(want); j++ {

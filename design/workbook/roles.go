@@ -3,9 +3,10 @@ package workbook
 import (
 	"github.com/allotproject/allot/design"
 
-	"encoding/csv"
+	"bytes"
 	"fmt"
 	"io"
+	"os"
 	"strconv"
 	"strings"
 )
@@ -24,11 +25,14 @@ type Roles struct {
 // counted in missing). A non-numeric response, or an empty factor or block
 // cell, is an error naming its line and column.
 func ReadRoles(r io.Reader, path string, roles Roles, decimalComma bool) (obs Observations, missing int, err error) {
-	cr := csv.NewReader(r)
-	cr.FieldsPerRecord = -1
-	head, err := cr.Read()
+	rr := newRecordReader(r, ',')
+	first, _, err := rr.read()
 	if err != nil {
 		return obs, 0, &design.CSVError{File: path, Msg: "no header row: " + err.Error()}
+	}
+	var head []string
+	for _, h := range first {
+		head = append(head, string(h))
 	}
 	col := map[string]int{}
 	for i, h := range head {
@@ -65,60 +69,193 @@ func ReadRoles(r io.Reader, path string, roles Roles, decimalComma bool) (obs Ob
 		}
 	}
 	obs.Levels = make([][]string, len(fi))
+	// Level names are interned (one string per distinct level); values,
+	// unit IDs and line labels are packed into shared chunks, so that rows
+	// cost no allocation of their own; messages are formatted only for an
+	// error.
+	intern := make([]map[string]string, len(fi)+1)
+	for k := range intern {
+		intern[k] = map[string]string{}
+	}
+	last := make([]string, len(fi)+1) // runs of one level need no look-up
+	name := func(k int, l []byte) string {
+		if string(l) == last[k] {
+			return last[k]
+		}
+		s, ok := intern[k][string(l)]
+		if !ok {
+			s = string(l)
+			intern[k][s] = s
+		}
+		last[k] = s
+		return s
+	}
+	values := textArena{out: &obs.Values}
+	cells := textArena{out: &obs.Cells}
+	units := textArena{out: &obs.Units}
+	var label, fixed []byte
+	rows := 0
 	for {
-		rec, err := cr.Read()
+		rec, line, err := rr.read()
 		if err == io.EOF {
 			break
 		}
 		if err != nil {
 			return obs, 0, &design.CSVError{File: path, Msg: err.Error()}
 		}
-		line, _ := cr.FieldPos(0)
-		get := func(i int) string {
+		get := func(i int) []byte {
 			if i < len(rec) {
-				return strings.TrimSpace(UnescapeCell(rec[i]))
+				return unescapeBytes(bytes.TrimSpace(rec[i]))
 			}
-			return ""
+			return nil
 		}
 		v := get(ri)
-		if v == "" {
+		if len(v) == 0 {
 			missing++
 			continue
 		}
-		if decimalComma && decimalCommaRE.MatchString(v) {
-			v = strings.Replace(v, ",", ".", 1)
+		if decimalComma && decimalCommaRE.Match(v) {
+			fixed = append(fixed[:0], v...)
+			fixed[bytes.IndexByte(fixed, ',')] = '.'
+			v = fixed
 		}
-		if _, err := strconv.ParseFloat(v, 64); err != nil {
-			msg := fmt.Sprintf("%q is not a number; correct it or leave it empty", v)
-			if decimalCommaRE.MatchString(v) {
-				msg = fmt.Sprintf("%q has a decimal comma; run again with --decimal-comma", v)
+		if !plainDecimal(v) {
+			if _, err := strconv.ParseFloat(string(v), 64); err != nil {
+				msg := fmt.Sprintf("%q is not a number; correct it or leave it empty", v)
+				if decimalCommaRE.Match(v) {
+					msg = fmt.Sprintf("%q has a decimal comma; run again with --decimal-comma", v)
+				}
+				return obs, 0, &design.CSVError{File: path, Line: line, Column: roles.Response, Msg: msg}
 			}
-			return obs, 0, &design.CSVError{File: path, Line: line, Column: roles.Response, Msg: msg}
 		}
 		for k, i := range fi {
 			l := get(i)
-			if l == "" {
+			if len(l) == 0 {
 				return obs, 0, &design.CSVError{File: path, Line: line, Column: roles.Factors[k], Msg: "the factor level is empty"}
 			}
-			obs.Levels[k] = append(obs.Levels[k], l)
+			obs.Levels[k] = append(obs.Levels[k], name(k, l))
 		}
 		if bi >= 0 {
 			b := get(bi)
-			if b == "" {
+			if len(b) == 0 {
 				return obs, 0, &design.CSVError{File: path, Line: line, Column: roles.Block, Msg: "the block is empty"}
 			}
-			obs.Blocks = append(obs.Blocks, b)
+			obs.Blocks = append(obs.Blocks, name(len(fi), b))
 		}
-		unit := fmt.Sprintf("line %d", line)
+		values.addBytes(v)
+		label = strconv.AppendInt(append(label[:0], "line "...), int64(line), 10)
+		cells.addBytes(label)
 		if ui >= 0 {
-			unit = get(ui)
+			units.addBytes(get(ui))
 		}
-		obs.Values = append(obs.Values, v)
-		obs.Units = append(obs.Units, unit)
-		obs.Cells = append(obs.Cells, fmt.Sprintf("line %d", line))
+		if rows++; rows == 1024 {
+			// Size the columns from the bytes per row so far and the file
+			// size, when the input is a file.
+			if st, ok := r.(interface{ Stat() (os.FileInfo, error) }); ok {
+				if info, err := st.Stat(); err == nil && rr.offset() > 0 {
+					est := int(info.Size()/rr.offset()*int64(rows)) * 21 / 20
+					obs.reserve(min(est, 1<<26), len(obs.Levels), bi >= 0, ui >= 0)
+				}
+			}
+		}
+	}
+	values.flush()
+	cells.flush()
+	if ui >= 0 {
+		units.flush()
+	} else {
+		// Without a unit column the line label is the unit's name too.
+		obs.Units = obs.Cells
 	}
 	if len(obs.Values) == 0 {
 		return obs, missing, &design.CSVError{File: path, Column: roles.Response, Msg: "has no numbers to analyse"}
 	}
 	return obs, missing, nil
+}
+
+// reserve grows the columns' capacity to n rows.
+func (o *Observations) reserve(n, factors int, blocks, units bool) {
+	grow := func(s []string) []string {
+		if n > cap(s) {
+			return append(make([]string, 0, n), s...)
+		}
+		return s
+	}
+	o.Values, o.Cells = grow(o.Values), grow(o.Cells)
+	for k := 0; k < factors; k++ {
+		o.Levels[k] = grow(o.Levels[k])
+	}
+	if blocks {
+		o.Blocks = grow(o.Blocks)
+	}
+	if units {
+		o.Units = grow(o.Units)
+	}
+}
+
+// textArena appends strings to *out, storing their bytes in shared chunks
+// of about 1 MiB (one allocation a chunk instead of one a string); they
+// reach *out when their chunk is flushed.
+type textArena struct {
+	buf  []byte
+	ends []int
+	out  *[]string
+}
+
+func (a *textArena) addBytes(b []byte) {
+	a.buf = append(a.buf, b...)
+	a.push()
+}
+
+func (a *textArena) push() {
+	a.ends = append(a.ends, len(a.buf))
+	if len(a.buf) >= 1<<20 {
+		a.flush()
+	}
+}
+
+// flush appends the strings of the current chunk to *out.
+func (a *textArena) flush() {
+	chunk := string(a.buf)
+	start := 0
+	out := *a.out
+	for _, e := range a.ends {
+		out = append(out, chunk[start:e])
+		start = e
+	}
+	*a.out = out
+	a.buf, a.ends = a.buf[:0], a.ends[:0]
+}
+
+// unescapeBytes is UnescapeCell on bytes.
+func unescapeBytes(v []byte) []byte {
+	if len(v) > 1 && v[0] == '\'' && bytes.IndexByte([]byte("=+-@\t\r"), v[1]) >= 0 {
+		return v[1:]
+	}
+	return v
+}
+
+// plainDecimal reports whether v is [sign]digits[.digits] with at least one
+// digit and fewer than 300 characters: a number strconv.ParseFloat always
+// accepts, so that the common case needs no further check.
+func plainDecimal(v []byte) bool {
+	if len(v) == 0 || len(v) >= 300 {
+		return false
+	}
+	i := 0
+	if v[0] == '+' || v[0] == '-' {
+		i++
+	}
+	digits, dot := 0, false
+	for ; i < len(v); i++ {
+		switch c := v[i]; {
+		case c >= '0' && c <= '9':
+			digits++
+		case c == '.' && !dot:
+			dot = true
+		default:
+			return false
+		}
+	}
+	return digits > 0
 }

@@ -398,12 +398,13 @@ func writeEntry(f *excelize.File, l design.Layout) error {
 		return err
 	}
 	tr := p.Treatments()
+	label := labeler(l)
 	row := 1
 	vals := make([]any, len(heads))
 	for _, u := range l.Units {
 		for sub := 1; sub <= c.rowsPer(); sub++ {
 			row++
-			for j, v := range designCells(c, u, sub, l.Label(u), tr) {
+			for j, v := range designCells(c, u, sub, label(u), tr) {
 				// Numbers where they look like numbers; treatment and level
 				// names are always text.
 				if n, err := strconv.Atoi(v); err == nil && c.numeric(j, nd) {
@@ -442,8 +443,9 @@ func writeMap(f *excelize.File, l design.Layout) error {
 	wrap, _ := f.NewStyle(&excelize.Style{Alignment: &excelize.Alignment{WrapText: true, Vertical: "top"}, Border: []excelize.Border{
 		{Type: "left", Color: "808080", Style: 1}, {Type: "right", Color: "808080", Style: 1},
 		{Type: "top", Color: "808080", Style: 1}, {Type: "bottom", Color: "808080", Style: 1}}})
+	label := labeler(l)
 	text := func(u design.Unit) string {
-		s := u.ID + "\n" + l.Label(u)
+		s := u.ID + "\n" + label(u)
 		if u.Order > 0 {
 			s += fmt.Sprintf("\n#%d", u.Order)
 		}
@@ -485,9 +487,13 @@ func writeMap(f *excelize.File, l design.Layout) error {
 	}
 	f.SetCellStyle(SheetMap, cell(2, 3), cell(width+1, 3), bold)
 	labels := p.BlockLabels()
+	headed := map[int]bool{}
 	for _, u := range l.Units {
 		row := u.Block + 3
-		f.SetCellStr(SheetMap, cell(1, row), fmt.Sprintf("%s %s", blockHeader(p), labels[u.Block-1]))
+		if !headed[row] {
+			f.SetCellStr(SheetMap, cell(1, row), fmt.Sprintf("%s %s", blockHeader(p), labels[u.Block-1]))
+			headed[row] = true
+		}
 		f.SetCellStr(SheetMap, cell(u.Position+1, row), text(u))
 	}
 	if width > 0 {
@@ -498,6 +504,7 @@ func writeMap(f *excelize.File, l design.Layout) error {
 }
 
 func writeData(f *excelize.File, l design.Layout) error {
+	label := labeler(l)
 	st := stored{Plan: l.Plan.Canonical(), Spares: l.Spares}
 	units := l.Units
 	if l.Plan.Blind {
@@ -508,7 +515,7 @@ func writeData(f *excelize.File, l design.Layout) error {
 		for i, u := range l.Units {
 			u.Treatment = -1
 			units[i] = u
-			st.Labels = append(st.Labels, l.Label(l.Units[i]))
+			st.Labels = append(st.Labels, label(l.Units[i]))
 		}
 	}
 	ub, err := json.Marshal(units)
@@ -539,4 +546,22 @@ func writeData(f *excelize.File, l design.Layout) error {
 		}
 	}
 	return nil
+}
+
+// labeler returns l.Label, looked up once per treatment (Label lists the
+// plan's treatments on every call).
+func labeler(l design.Layout) func(design.Unit) string {
+	byTreatment := map[int]string{}
+	return func(u design.Unit) string {
+		if u.Code != "" || u.Treatment < 0 {
+			// Per-unit codes and sealed units: nothing to share.
+			return l.Label(u)
+		}
+		s, ok := byTreatment[u.Treatment]
+		if !ok {
+			s = l.Label(u)
+			byTreatment[u.Treatment] = s
+		}
+		return s
+	}
 }
