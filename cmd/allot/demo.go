@@ -50,7 +50,7 @@ func demoRun(s *streams, opts *demoOptions) error {
 	_, err := demo.Run(demo.Default(), demo.Options{
 		Out: opts.out, Force: opts.force, Version: version.String(), Stdout: s.Out, Stderr: s.Err,
 	})
-	if errors.Is(err, demo.ErrOutExists) {
+	if errors.Is(err, demo.ErrOut) {
 		return inputErr(err)
 	}
 	return err

@@ -17,7 +17,7 @@ func runArgs(t *testing.T, args ...string) (int, string, string) {
 
 func TestVersionAndHelp(t *testing.T) {
 	code, out, _ := runArgs(t, "--version")
-	if code != 0 || !strings.HasPrefix(out, "allot 0.") {
+	if code != 0 || !strings.HasPrefix(out, "allot ") || strings.Count(out, "\n") != 1 {
 		t.Errorf("--version: code %d, %q", code, out)
 	}
 	code, out, _ = runArgs(t, "--help")
@@ -37,7 +37,7 @@ func TestUsageErrors(t *testing.T) {
 		want string
 	}{
 		{"unknown command", []string{"plant"}, `unknown command "plant"`},
-		{"unknown flag", []string{"demo", "--colour"}, "unknown flag: --colour"},
+		{"unknown flag", []string{"demo", "--colour"}, "--colour: allot demo has no such flag"},
 		{"stray argument", []string{"demo", "extra"}, "unknown command"},
 		{"empty out", []string{"demo", "--out", ""}, "--out: give a folder"},
 	}

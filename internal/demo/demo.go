@@ -82,8 +82,30 @@ type Options struct {
 	Stderr  io.Writer
 }
 
-// ErrOutExists reports a non-empty output folder without Force.
+// ErrOut matches (errors.Is) every error about an output folder that cannot
+// be used: not a folder, not writable, or not empty without Force.
+var ErrOut = errors.New("unusable output folder")
+
+// ErrOutExists matches an output folder that is not empty without Force.
 var ErrOutExists = errors.New("output folder is not empty")
+
+// outError is a message about the output folder that matches ErrOut (and
+// ErrOutExists when the folder was not empty) and wraps its cause.
+type outError struct {
+	msg      string
+	nonEmpty bool
+	err      error
+}
+
+func (e *outError) Error() string { return e.msg }
+func (e *outError) Unwrap() error { return e.err }
+func (e *outError) Is(target error) bool {
+	return target == ErrOut || (e.nonEmpty && target == ErrOutExists)
+}
+
+func outErr(err error, format string, args ...any) error {
+	return &outError{msg: fmt.Sprintf(format, args...), err: err}
+}
 
 // Result is what a run produced, for tests.
 type Result struct {
@@ -336,15 +358,25 @@ func Run(s Scenario, o Options) (*Result, error) {
 	return res, nil
 }
 
+// prepareOut makes sure the output folder exists, is empty unless force,
+// and takes new files. Every error it returns wraps ErrOut.
 func prepareOut(dir string, force bool) error {
 	entries, err := os.ReadDir(dir)
 	switch {
 	case errors.Is(err, os.ErrNotExist):
-		return os.MkdirAll(dir, 0o755)
+		if err := os.MkdirAll(dir, 0o777); err != nil {
+			return outErr(err, "--out %s: cannot create the folder: %v", dir, err)
+		}
 	case err != nil:
-		return fmt.Errorf("--out %s: %w", dir, err)
+		if st, serr := os.Stat(dir); serr == nil && !st.IsDir() {
+			return outErr(err, "--out %s is a file; give a folder for the demo's files", dir)
+		}
+		return outErr(err, "--out %s: %v", dir, err)
 	case len(entries) > 0 && !force:
-		return fmt.Errorf("%w: --out %s already holds %d file(s); choose another folder or add --force to overwrite the demo's files", ErrOutExists, dir, len(entries))
+		return &outError{msg: fmt.Sprintf("--out %s already holds %d file(s); choose another folder or add --force to overwrite the demo's files", dir, len(entries)), nonEmpty: true}
+	}
+	if err := atomicfile.Check(filepath.Join(dir, FileWorkbook), true); err != nil {
+		return outErr(err, "--out %v", err)
 	}
 	return nil
 }
