@@ -166,9 +166,11 @@ func flagError(c *cobra.Command, err error) error {
 	switch {
 	case errors.As(err, &ne):
 		name := ne.GetSpecifiedName()
-		if name == "" {
-			sh := ne.GetSpecifiedShortnames()
-			msg := fmt.Sprintf("-%s: %s has no such short flag", sh, c.CommandPath())
+		if sh := ne.GetSpecifiedShortnames(); sh != "" {
+			msg := fmt.Sprintf("-%s: %s has no such short flag", name, c.CommandPath())
+			if sh != name {
+				msg = fmt.Sprintf("-%s in -%s: %s has no such short flag", name, sh, c.CommandPath())
+			}
 			return &usageError{err: errors.New(msg), showUsage: true}
 		}
 		msg := fmt.Sprintf("--%s: %s has no such flag", name, c.CommandPath())

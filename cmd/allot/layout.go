@@ -215,14 +215,6 @@ func planError(err error) error {
 }
 
 func layoutRun(s *streams, o *layoutOptions) error {
-	if o.spec.Seed == nil {
-		seed, err := randomize.NewSeed()
-		if err != nil {
-			return err
-		}
-		o.spec.Seed = &seed
-		fmt.Fprintf(s.Err, "allot layout: no --seed given; drew seed %d (recorded in the plan; give --seed %d to repeat this layout)\n", seed, seed)
-	}
 	var units []design.UnitRow
 	if o.spec.Units != "" {
 		b, err := os.ReadFile(o.spec.Units)
@@ -233,6 +225,21 @@ func layoutRun(s *streams, o *layoutOptions) error {
 		if err != nil {
 			return planError(err)
 		}
+	}
+	if o.spec.Seed == nil {
+		// Name missing or wrong inputs before drawing a seed: the seed
+		// does not change what is valid.
+		probe, zero := o.spec, uint64(0)
+		probe.Seed = &zero
+		if _, err := probe.Resolve(units); err != nil {
+			return planError(err)
+		}
+		seed, err := randomize.NewSeed()
+		if err != nil {
+			return err
+		}
+		o.spec.Seed = &seed
+		fmt.Fprintf(s.Err, "allot layout: no --seed given; drew seed %d (recorded in the plan; give --seed %d to repeat this layout)\n", seed, seed)
 	}
 	plan, err := o.spec.Resolve(units)
 	if err != nil {
@@ -286,8 +293,9 @@ func writeLayout(path string, lay design.Layout, o *layoutOptions) error {
 	return nil
 }
 
+// writeJSONFile writes the blinding key, readable by its owner only.
 func writeJSONFile(path string, v any, force bool) error {
-	return atomicfile.Write(path, force, func(w io.Writer) error {
+	return atomicfile.WritePrivate(path, force, func(w io.Writer) error {
 		enc := json.NewEncoder(w)
 		enc.SetIndent("", "  ")
 		return enc.Encode(v)

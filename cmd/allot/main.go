@@ -8,6 +8,8 @@ import (
 	"path/filepath"
 	"strconv"
 	"strings"
+
+	"github.com/spf13/cobra"
 )
 
 func main() {
@@ -23,16 +25,22 @@ type streams struct {
 	Out, Err io.Writer
 }
 
-// run executes allot with args and returns the exit status. A panic in a
-// command is caught here and reported as an internal error (exit 3).
-func run(args []string, in io.Reader, out, errw io.Writer) (code int) {
+// run executes allot with args and returns the exit status.
+func run(args []string, in io.Reader, out, errw io.Writer) int {
+	s := &streams{In: in, Out: out, Err: errw}
+	return execute(s, newRootCmd(s), args)
+}
+
+// execute runs the command tree root with args. A panic in a command is
+// caught here, at the command boundary, and reported as an internal error
+// (exit 3). (A panic in a goroutine a command starts is not caught
+// here: power/sim's workers would need their own.)
+func execute(s *streams, root *cobra.Command, args []string) (code int) {
 	defer func() {
 		if r := recover(); r != nil {
-			code = internalPanic(errw, r)
+			code = internalPanic(s.Err, r)
 		}
 	}()
-	s := &streams{In: in, Out: out, Err: errw}
-	root := newRootCmd(s)
 	root.SetArgs(args)
 	cmd, err := root.ExecuteC()
 	return exitCode(s, cmd, err)

@@ -4,6 +4,7 @@ import (
 	"errors"
 	"fmt"
 	"path/filepath"
+	"strings"
 
 	"github.com/allotproject/allot/internal/atomicfile"
 	"github.com/allotproject/allot/internal/version"
@@ -43,7 +44,7 @@ data-entry workbooks, and the ANOVA that matches the design.` + "\n" + exitHelp,
 	root.InitDefaultCompletionCmd()
 	for _, c := range root.Commands() {
 		if c.Name() == "completion" {
-			c.Long += "\n" + exitHelp
+			adoptCompletionCmd(c)
 		}
 	}
 	registerCompletions(root)
@@ -144,4 +145,23 @@ func checkOutputs(s *streams, c *cobra.Command) error {
 		}
 	}
 	return nil
+}
+
+// adoptCompletionCmd gives cobra's completion command allot's exit-status
+// help, and makes an unknown shell a usage error (cobra prints the help and
+// exits 0).
+func adoptCompletionCmd(c *cobra.Command) {
+	var shells []string
+	for _, sub := range c.Commands() {
+		sub.Long += "\n" + exitHelp
+		shells = append(shells, sub.Name())
+	}
+	c.Long += "\n" + exitHelp
+	c.Args = cobra.ArbitraryArgs
+	c.RunE = func(c *cobra.Command, args []string) error {
+		if len(args) == 0 {
+			return c.Help()
+		}
+		return usagef("completion %s: no such shell; give one of %s", args[0], strings.Join(shells, ", "))
+	}
 }
