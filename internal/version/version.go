@@ -10,13 +10,16 @@ import (
 	"strings"
 )
 
-// stamp is set by release builds (scripts/release.sh):
+// stamp and commit are set by release builds (scripts/release.sh):
 //
-//	go build -ldflags "-X github.com/allotproject/allot/internal/version.stamp=v0.2.0"
+//	go build -ldflags "-X github.com/allotproject/allot/internal/version.stamp=v0.2.0
+//	  -X github.com/allotproject/allot/internal/version.commit=$(git rev-parse HEAD)"
 //
-// It is the one package-level variable in allot: -ldflags -X can set
-// nothing else.
-var stamp string
+// They are allot's only package-level variables: -ldflags -X can set
+// nothing else. commit stands in for the VCS revision where the go command
+// cannot record one (a build outside a git checkout, or a worktree it does
+// not recognise).
+var stamp, commit string
 
 // Devel is the version of a build that recorded none (go run, go test).
 const Devel = "devel"
@@ -25,9 +28,17 @@ const Devel = "devel"
 // built with version-control stamping, for example
 // "v0.2.0 (commit 1d97e0af74ca)" or "devel (commit 1d97e0af74ca-dirty)".
 func String() string {
-	info, ok := debug.ReadBuildInfo()
-	if !ok {
-		info = nil
+	info, _ := debug.ReadBuildInfo()
+	if commit != "" && info != nil {
+		has := false
+		for _, s := range info.Settings {
+			has = has || s.Key == "vcs.revision"
+		}
+		if !has {
+			c := *info
+			c.Settings = append(append([]debug.BuildSetting(nil), info.Settings...), debug.BuildSetting{Key: "vcs.revision", Value: commit})
+			info = &c
+		}
 	}
 	return format(stamp, info)
 }
