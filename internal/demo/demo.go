@@ -401,21 +401,4 @@ func ones(k int) []int {
 	return r
 }
 
-func ceilDiv(n int, keep float64) int {
-	x := float64(n) / keep
-	c := int(x)
-	if float64(c) < x-1e-9 {
-		c++
-	}
-	return c
-}
-
-func joinF(v []float64) string {
-	s := make([]string, len(v))
-	for i, x := range v {
-		s[i] = trim(x, 4)
-	}
-	return strings.Join(s, ", ")
-}
-
 func trim(x float64, sig int) string { return fmt.Sprintf("%.*g", sig, x) }
