@@ -63,9 +63,9 @@ func LayoutText(w io.Writer, l design.Layout) error {
 	} else {
 		b.WriteString("\nReplication: units of each treatment\n")
 	}
-	b.WriteString(bt.text("  "))
+	b.WriteString(balanceText(bt, counts, p, Width(w)))
 	if len(l.Units) <= MaxMapUnits {
-		writeMap(&b, l)
+		writeMap(&b, l, Width(w))
 	} else {
 		fmt.Fprintf(&b, "\nMap: %d units are too many to print here; see the workbook's Map sheet.\n", len(l.Units))
 	}
@@ -79,7 +79,7 @@ func LayoutText(w io.Writer, l design.Layout) error {
 // writeMap writes each block as its grid (or as one line of positions),
 // each unit as its ID and treatment (or code), with the measurement rank
 // after "#" when an order was planned.
-func writeMap(b *strings.Builder, l design.Layout) {
+func writeMap(b *strings.Builder, l design.Layout, lineWidth int) {
 	p := l.Plan
 	cellText := func(u design.Unit) string {
 		t := u.ID + " " + l.Label(u)
@@ -139,8 +139,18 @@ func writeMap(b *strings.Builder, l design.Layout) {
 		} else {
 			b.WriteString("  units:")
 		}
+		// Wrap a long block onto further lines within the width.
+		used := 0
 		for _, u := range byBlock[k] {
-			fmt.Fprintf(b, "  %d→%s", u.Position, cellText(u))
+			e := fmt.Sprintf("  %d→%s", u.Position, cellText(u))
+			if used > 0 && used+runeLen(e) > lineWidth {
+				b.WriteString("\n   ")
+				used = 3
+			} else if used == 0 {
+				used = runeLen(strings.TrimRight(lineStart(b), "\n"))
+			}
+			b.WriteString(e)
+			used += runeLen(e)
 		}
 		b.WriteString("\n")
 	}
@@ -175,4 +185,44 @@ func LayoutJSON(w io.Writer, l design.Layout) error {
 		Fingerprint string `json:"fingerprint"`
 		design.Layout
 	}{l.Plan.Fingerprint(), l})
+}
+
+// maxBalancePanels is the most panels a wrapped balance table may take
+// before it is summarised instead (a layout of thousands of blocks would
+// otherwise print thousands of columns).
+const maxBalancePanels = 3
+
+// balanceText renders the treatments × blocks table within width, wrapped
+// into panels; a table that would need more than maxBalancePanels is
+// summarised per treatment (fewest and most units per block, and total).
+func balanceText(bt table, counts [][]int, p design.Plan, width int) string {
+	w := make([]int, len(bt.head))
+	for i, h := range bt.head {
+		w[i] = runeLen(h)
+	}
+	for _, r := range bt.rows {
+		for i, c := range r {
+			w[i] = max(w[i], runeLen(c))
+		}
+	}
+	if len(bt.panels(w, 2, width)) <= maxBalancePanels {
+		return bt.textWidth("  ", width)
+	}
+	tr := p.Treatments()
+	st := table{head: []string{"treatment", "fewest per " + p.BlockName, "most per " + p.BlockName, "total"}, right: []bool{false, true, true, true}}
+	for t, row := range counts {
+		lo, hi, sum := row[0], row[0], 0
+		for _, c := range row {
+			lo, hi, sum = min(lo, c), max(hi, c), sum+c
+		}
+		st.rows = append(st.rows, []string{tr[t].Name, fmt.Sprint(lo), fmt.Sprint(hi), fmt.Sprint(sum)})
+	}
+	return fmt.Sprintf("  (%d %s, too many for a column each; --json lists every unit)\n", p.Blocks, design.Plural(p.BlockName)) +
+		st.textWidth("  ", width)
+}
+
+// lineStart returns the text of b's last, unfinished line.
+func lineStart(b *strings.Builder) string {
+	s := b.String()
+	return s[strings.LastIndex(s, "\n")+1:]
 }

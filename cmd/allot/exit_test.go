@@ -104,7 +104,12 @@ func TestExitStatusPerCommand(t *testing.T) {
 	}
 	for _, tt := range tests {
 		t.Run(tt.name, func(t *testing.T) {
-			code, _, errs := runArgs(t, tt.args...)
+			code, out, errs := runArgs(t, tt.args...)
+			// allot never colours its output, so NO_COLOR holds whatever
+			// the terminal: no escape sequence anywhere.
+			if strings.ContainsRune(out+errs, 0x1b) {
+				t.Errorf("escape sequence in the output")
+			}
 			if code != tt.code {
 				t.Errorf("allot %s: exit %d, want %d; stderr:\n%s", strings.Join(tt.args, " "), code, tt.code, errs)
 			}
