@@ -12,7 +12,7 @@ import (
 type Key struct {
 	Format      string   `json:"format"` // "allot-key-1"
 	Fingerprint string   `json:"plan_fingerprint"`
-	Seed        uint64   `json:"seed"`
+	Seed        SeedText `json:"seed"` // a string in the file; numbers are read too
 	Treatments  []string `json:"treatments"`
 	Codes       []string `json:"codes"`
 }
@@ -22,7 +22,7 @@ const KeyFormat = "allot-key-1"
 
 // KeyOf returns the key of a blind layout.
 func KeyOf(l Layout) Key {
-	k := Key{Format: KeyFormat, Fingerprint: l.Plan.Fingerprint(), Seed: l.Plan.Seed, Codes: l.Codes}
+	k := Key{Format: KeyFormat, Fingerprint: l.Plan.Fingerprint(), Seed: SeedText(l.Plan.Seed), Codes: l.Codes}
 	for _, t := range l.Plan.Treatments() {
 		k.Treatments = append(k.Treatments, t.Name)
 	}

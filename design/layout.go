@@ -1,7 +1,6 @@
 package design
 
 import (
-	"encoding/json"
 	"fmt"
 	"strconv"
 )
@@ -130,21 +129,12 @@ func (p Plan) Replication(b, t int) (lo, hi int) {
 // the plan, its fingerprint and the units), checking the fingerprint and the
 // layout's invariants.
 func ParseLayout(b []byte) (Layout, error) {
-	var doc struct {
-		Fingerprint string `json:"fingerprint"`
-		Layout
+	l, err := DecodeLayout(b)
+	if err != nil {
+		return Layout{}, err
 	}
-	if err := json.Unmarshal(b, &doc); err != nil {
-		return Layout{}, fmt.Errorf("not a layout JSON file: %w", err)
-	}
-	if err := doc.Plan.Validate(); err != nil {
-		return Layout{}, fmt.Errorf("the recorded plan is not valid: %w", err)
-	}
-	if doc.Fingerprint != doc.Plan.Fingerprint() {
-		return Layout{}, fmt.Errorf("the plan does not match its fingerprint %.12s…: the file was edited", doc.Fingerprint)
-	}
-	if err := doc.Layout.Check(); err != nil {
+	if err := l.Check(); err != nil {
 		return Layout{}, fmt.Errorf("the recorded layout is inconsistent: %w", err)
 	}
-	return doc.Layout, nil
+	return l, nil
 }

@@ -37,7 +37,7 @@ type Spec struct {
 	Blocks    int      `toml:"blocks"`
 	BlockName string   `toml:"block_name"`
 	Response  []string `toml:"response"` // NAME or NAME:MIN..MAX
-	Seed      *uint64  `toml:"seed"`
+	Seed      *SeedText `toml:"seed"` // an integer, or a string for seeds of 2^63 and above
 	// Unit list: a CSV file with a header row.
 	Units       string `toml:"units"`
 	IDColumn    string `toml:"id_column"`
@@ -386,7 +386,7 @@ func (s Spec) Resolve(units []UnitRow) (Plan, error) {
 	if s.Seed == nil {
 		return Plan{}, errf("seed", "no seed: give one, or let allot draw one and record it")
 	}
-	p.Seed = *s.Seed
+	p.Seed = uint64(*s.Seed)
 	for _, f := range s.Factor {
 		fa, err := ParseFactor(f)
 		if err != nil {

@@ -181,10 +181,7 @@ func unitsText(p design.Plan) string {
 func LayoutJSON(w io.Writer, l design.Layout) error {
 	enc := json.NewEncoder(w)
 	enc.SetIndent("", "  ")
-	return enc.Encode(struct {
-		Fingerprint string `json:"fingerprint"`
-		design.Layout
-	}{l.Plan.Fingerprint(), l})
+	return enc.Encode(design.LayoutDocument(l))
 }
 
 // maxBalancePanels is the most panels a wrapped balance table may take

@@ -8,7 +8,6 @@ import (
 	"io"
 	"os"
 	"path/filepath"
-	"strconv"
 	"strings"
 	"time"
 
@@ -164,11 +163,12 @@ func (o *layoutOptions) resolveSpec(c *cobra.Command) error {
 		o.spec = sp
 	}
 	if o.seed != "" {
-		v, err := strconv.ParseUint(strings.TrimSpace(o.seed), 10, 64)
+		v, err := design.ParseSeed(o.seed)
 		if err != nil {
 			return usagef("--seed %s: must be an unsigned whole number below 2^64, for example --seed 20261201", o.seed)
 		}
-		o.spec.Seed = &v
+		sv := design.SeedText(v)
+		o.spec.Seed = &sv
 	}
 	if o.spec.IDColumn == "" {
 		o.spec.IDColumn = "id"
@@ -229,7 +229,7 @@ func layoutRun(s *streams, o *layoutOptions) error {
 	if o.spec.Seed == nil {
 		// Name missing or wrong inputs before drawing a seed: the seed
 		// does not change what is valid.
-		probe, zero := o.spec, uint64(0)
+		probe, zero := o.spec, design.SeedText(0)
 		probe.Seed = &zero
 		if _, err := probe.Resolve(units); err != nil {
 			return planError(err)
@@ -238,7 +238,8 @@ func layoutRun(s *streams, o *layoutOptions) error {
 		if err != nil {
 			return err
 		}
-		o.spec.Seed = &seed
+		sv := design.SeedText(seed)
+		o.spec.Seed = &sv
 		fmt.Fprintf(s.Err, "allot layout: no --seed given; drew seed %d (recorded in the plan; give --seed %d to repeat this layout)\n", seed, seed)
 	}
 	plan, err := o.spec.Resolve(units)
@@ -369,20 +370,9 @@ func verifyRun(s *streams, o *verifyOptions) error {
 		}
 		// Verify re-derives the assignment itself, so only the plan must be
 		// sound here: a moved unit is what verify reports, not an error.
-		var doc struct {
-			Fingerprint string `json:"fingerprint"`
-			design.Layout
+		if lay, err = design.DecodeLayout(b); err != nil {
+			return inputErr(fmt.Errorf("%s: %w", o.file, err))
 		}
-		if err := json.Unmarshal(b, &doc); err != nil {
-			return inputErr(fmt.Errorf("%s: not a layout JSON file: %w", o.file, err))
-		}
-		if err := doc.Plan.Validate(); err != nil {
-			return inputErr(fmt.Errorf("%s: the recorded plan is not valid: %w", o.file, err))
-		}
-		if doc.Fingerprint != doc.Plan.Fingerprint() {
-			return inputErr(fmt.Errorf("%s: the plan does not match its fingerprint: the plan was edited", o.file))
-		}
-		lay = doc.Layout
 	default:
 		return usagef("%s: give a workbook (.xlsx) or a layout (.json)", o.file)
 	}

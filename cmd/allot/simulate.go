@@ -95,7 +95,7 @@ func simulateRun(s *streams, o *sizeOptions) error {
 		seed = v
 		fmt.Fprintf(s.Err, "allot size: no --seed given; drew seed %d (give --seed %d to repeat this simulation)\n", seed, seed)
 	} else {
-		v, err := strconv.ParseUint(so.seed, 10, 64)
+		v, err := design.ParseSeed(so.seed)
 		if err != nil {
 			return usagef("--seed %s: must be an unsigned whole number", so.seed)
 		}

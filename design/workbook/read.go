@@ -210,7 +210,7 @@ func readData(f *excelize.File, path string, key *design.Key) (design.Layout, []
 	}
 	// Unblind: the key's seed must reproduce the full plan's fingerprint.
 	full := p
-	full.Seed = key.Seed
+	full.Seed = uint64(key.Seed)
 	if key.Fingerprint != fp || full.Fingerprint() != fp {
 		return design.Layout{}, nil, &FileError{Path: path, Sheet: SheetData, Cell: "B1", Msg: "the key belongs to another plan (its fingerprint and seed do not reproduce this workbook's); give the key file written with this layout"}
 	}
