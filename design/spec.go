@@ -29,15 +29,15 @@ import (
 //	response = ["fresh_g:0..800"]
 //	seed = 20261201
 type Spec struct {
-	Title     string   `toml:"title"`
-	Design    string   `toml:"design"`
-	Factor    []string `toml:"factor"` // NAME=L1,L2,...
-	Control   string   `toml:"control"`
-	Reps      string   `toml:"reps"` // R, or NAME=R,...,default=R
-	Blocks    int      `toml:"blocks"`
-	BlockName string   `toml:"block_name"`
-	Response  []string `toml:"response"` // NAME or NAME:MIN..MAX
-	Seed      *SeedText `toml:"seed"` // an integer, or a string for seeds of 2^63 and above
+	Title     string    `toml:"title"`
+	Design    string    `toml:"design"`
+	Factor    []string  `toml:"factor"` // NAME=L1,L2,...
+	Control   string    `toml:"control"`
+	Reps      string    `toml:"reps"` // R, or NAME=R,...,default=R
+	Blocks    int       `toml:"blocks"`
+	BlockName string    `toml:"block_name"`
+	Response  []string  `toml:"response"` // NAME or NAME:MIN..MAX
+	Seed      *SeedText `toml:"seed"`     // an integer, or a string for seeds of 2^63 and above
 	// Unit list: a CSV file with a header row.
 	Units       string `toml:"units"`
 	IDColumn    string `toml:"id_column"`
