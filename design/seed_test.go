@@ -122,3 +122,54 @@ func FuzzParseSeed(f *testing.F) {
 		}
 	})
 }
+
+func TestParseFactorOrCount(t *testing.T) {
+	tests := []struct {
+		in     string
+		levels string // joined with ",", or "" for an error
+		errHas string
+	}{
+		{"dose=3", "1,2,3", ""},
+		{" diet = chow, fat ", "chow,fat", ""},
+		{"dose=1", "", "needs at least 2 levels"},
+		{"dose=0", "", "needs at least 2 levels"},
+		{"dose", "", "write NAME=LEVELS"},
+		{"=3", "", "write NAME=LEVELS"},
+		{"diet=chow,chow", "", "distinct"},
+		{"diet=chow,", "", "distinct"},
+	}
+	for _, tt := range tests {
+		f, err := ParseFactorOrCount(tt.in)
+		switch {
+		case tt.levels != "" && (err != nil || strings.Join(f.Levels, ",") != tt.levels):
+			t.Errorf("%q: %v %v", tt.in, f, err)
+		case tt.levels == "" && (err == nil || !strings.Contains(err.Error(), tt.errHas)):
+			t.Errorf("%q: error %v, want %q", tt.in, err, tt.errHas)
+		}
+	}
+}
+
+func FuzzParseFactorOrCount(f *testing.F) {
+	for _, s := range []string{"dose=3", "diet=chow,fat", "a=", "=", "x=99999"} {
+		f.Add(s)
+	}
+	f.Fuzz(func(t *testing.T, s string) {
+		if strings.Contains(s, "=") {
+			// A huge count would allocate its level names: bound it.
+			_, v, _ := strings.Cut(s, "=")
+			if k, err := strconv.Atoi(strings.TrimSpace(v)); err == nil && k > 10000 {
+				return
+			}
+		}
+		fa, err := ParseFactorOrCount(s)
+		if err != nil {
+			return
+		}
+		// Accepted: at least two distinct non-empty levels, and the names
+		// parse back to the same factor.
+		again, err := ParseFactorOrCount(fa.Name + "=" + strings.Join(fa.Levels, ","))
+		if err != nil || strings.Join(again.Levels, ",") != strings.Join(fa.Levels, ",") {
+			t.Fatalf("%q: %v then %v %v", s, fa, again, err)
+		}
+	})
+}

@@ -68,7 +68,8 @@ func ParseSpec(name string, b []byte) (Spec, error) {
 	return s, nil
 }
 
-// ParseFactor parses NAME=L1,L2,... .
+// ParseFactor parses NAME=L1,L2,... (the level names; a plan's factors
+// are checked further by Plan.Validate).
 func ParseFactor(s string) (Factor, error) {
 	name, levels, ok := strings.Cut(s, "=")
 	name = strings.TrimSpace(name)
@@ -78,6 +79,42 @@ func ParseFactor(s string) (Factor, error) {
 	f := Factor{Name: name}
 	for _, l := range strings.Split(levels, ",") {
 		f.Levels = append(f.Levels, strings.TrimSpace(l))
+	}
+	return f, nil
+}
+
+// MaxCountLevels bounds the count form NAME=K of ParseFactorOrCount.
+const MaxCountLevels = 1000
+
+// ParseFactorOrCount parses NAME=L1,L2,... or NAME=K, K levels named 1 to
+// K, where only the number of levels matters (planning a sample size). The
+// levels must be at least 2, non-empty and distinct.
+func ParseFactorOrCount(s string) (Factor, error) {
+	name, levels, ok := strings.Cut(s, "=")
+	if !ok || strings.TrimSpace(name) == "" || strings.TrimSpace(levels) == "" {
+		return Factor{}, errf("factor", "%s: write NAME=LEVELS, for example dose=3 or diet=chow,fat", s)
+	}
+	var f Factor
+	if k, err := strconv.Atoi(strings.TrimSpace(levels)); err == nil {
+		if k > MaxCountLevels {
+			return Factor{}, errf("factor", "%s: at most %d levels", s, MaxCountLevels)
+		}
+		f.Name = strings.TrimSpace(name)
+		for i := 1; i <= k; i++ {
+			f.Levels = append(f.Levels, strconv.Itoa(i))
+		}
+	} else if f, err = ParseFactor(s); err != nil {
+		return Factor{}, err
+	}
+	seen := map[string]bool{}
+	for _, l := range f.Levels {
+		if l == "" || seen[l] {
+			return Factor{}, errf("factor", "%s: level names must be non-empty and distinct", s)
+		}
+		seen[l] = true
+	}
+	if len(f.Levels) < 2 {
+		return Factor{}, errf("factor", "%s: factor %q needs at least 2 levels", s, f.Name)
 	}
 	return f, nil
 }

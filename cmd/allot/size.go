@@ -6,9 +6,9 @@ import (
 	"strconv"
 	"strings"
 
+	"github.com/allotproject/allot/design"
 	"github.com/allotproject/allot/internal/version"
 	"github.com/allotproject/allot/power"
-	"github.com/allotproject/allot/power/sim"
 	"github.com/allotproject/allot/report"
 
 	"github.com/spf13/cobra"
@@ -146,32 +146,15 @@ func (o *sizeOptions) resolve(c *cobra.Command) error {
 		r.Blocked, r.N = true, o.blocks
 	}
 	for _, spec := range o.factors {
-		name, levels, ok := strings.Cut(spec, "=")
-		name = strings.TrimSpace(name)
-		if !ok || name == "" || levels == "" {
-			return usagef("--factor %s: write NAME=LEVELS, for example dose=3 or diet=chow,fat", spec)
+		fa, err := design.ParseFactorOrCount(spec)
+		var de *design.Error
+		if errors.As(err, &de) {
+			return usagef("--factor %s", de.Msg)
+		} else if err != nil {
+			return err
 		}
-		k, err := strconv.Atoi(levels)
-		names := sim.Levels(max(k, 0))
-		if err != nil {
-			list := strings.Split(levels, ",")
-			seen := map[string]bool{}
-			names = nil
-			for _, l := range list {
-				l = strings.TrimSpace(l)
-				if l == "" || seen[l] {
-					return usagef("--factor %s: level names must be non-empty and distinct", spec)
-				}
-				seen[l] = true
-				names = append(names, l)
-			}
-			k = len(list)
-		}
-		o.sim.levels = append(o.sim.levels, names)
-		if k < 2 {
-			return usagef("--factor %s: factor %q needs at least 2 levels", spec, name)
-		}
-		r.Factors = append(r.Factors, power.Factor{Name: name, Levels: k})
+		o.sim.levels = append(o.sim.levels, fa.Levels)
+		r.Factors = append(r.Factors, power.Factor{Name: fa.Name, Levels: len(fa.Levels)})
 	}
 	if o.term != "" {
 		for _, t := range strings.Split(o.term, ",") {
