@@ -304,3 +304,23 @@ func TestLayoutNamesMissingInputsFirst(t *testing.T) {
 		t.Errorf("exit %d, stdout %q, stderr %q", code, out, errs)
 	}
 }
+
+// TestUnwritableFolders: a folder that takes no files is unusable input.
+func TestUnwritableFolders(t *testing.T) {
+	if os.Geteuid() == 0 {
+		t.Skip("running as root: every folder is writable")
+	}
+	dir := filepath.Join(t.TempDir(), "ro")
+	os.Mkdir(dir, 0o555)
+	defer os.Chmod(dir, 0o755)
+	for _, args := range [][]string{
+		{"demo", "--out", dir},
+		{"demo", "--out", filepath.Join(dir, "sub")},
+		{"layout", "--factor", "feed=A,B", "--seed", "1", "-o", filepath.Join(dir, "t.xlsx")},
+		{"docs", "markdown", dir},
+	} {
+		if code, _, errs := runArgs(t, args...); code != exitUsage {
+			t.Errorf("%v: exit %d, %s", args, code, errs)
+		}
+	}
+}
