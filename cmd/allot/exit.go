@@ -149,6 +149,12 @@ func classifyCobra(cmd *cobra.Command, err error) error {
 		return err
 	}
 	msg := err.Error()
+	// cobra calls a stray argument of a command without subcommands an
+	// unknown command.
+	if cmd != nil && !cmd.HasSubCommands() && strings.HasPrefix(msg, "unknown command ") {
+		arg, _, _ := strings.Cut(strings.TrimPrefix(msg, "unknown command "), " for ")
+		return usagef("%s takes no arguments, got %s (flags start with --)", cmd.CommandPath(), arg)
+	}
 	if strings.HasPrefix(msg, "unknown command") || strings.Contains(msg, "arg(s)") ||
 		strings.HasPrefix(msg, "invalid argument") || strings.HasPrefix(msg, "required flag") ||
 		strings.HasPrefix(msg, "if any flags in the group") {

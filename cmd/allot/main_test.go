@@ -39,7 +39,7 @@ func TestUsageErrors(t *testing.T) {
 	}{
 		{"unknown command", []string{"plant"}, `unknown command "plant"`},
 		{"unknown flag", []string{"demo", "--colour"}, "--colour: allot demo has no such flag"},
-		{"stray argument", []string{"demo", "extra"}, "unknown command"},
+		{"stray argument", []string{"demo", "extra"}, `allot demo takes no arguments, got "extra"`},
 		{"empty out", []string{"demo", "--out", ""}, "--out: give a folder"},
 	}
 	for _, tt := range tests {
