@@ -324,3 +324,15 @@ func TestUnwritableFolders(t *testing.T) {
 		}
 	}
 }
+
+// TestLeftoversNamed: a temporary left by a killed run is named on the
+// next run that writes into its folder.
+func TestLeftoversNamed(t *testing.T) {
+	dir := t.TempDir()
+	left := filepath.Join(dir, ".allot-999999999-0123456789ab.xlsx")
+	os.WriteFile(left, []byte("partial"), 0o644)
+	_, _, errs := runArgs(t, "layout", "--factor", "feed=A,B", "--seed", "1", "-o", filepath.Join(dir, "t.csv"))
+	if !strings.Contains(errs, left) || !strings.Contains(errs, "stopped before it finished") {
+		t.Errorf("stderr %q does not name %s", errs, left)
+	}
+}
