@@ -3,8 +3,10 @@
 // temporary file in the destination's folder (named .allot-PID-*), which is
 // flushed to disk and then moved to the destination. Without force the move
 // refuses an existing destination atomically (renameat2 RENAME_NOREPLACE on
-// Linux, else a hard link, which also fails on an existing name), so a file
-// created by someone else between a check and the move is never replaced.
+// Linux, renamex_np RENAME_EXCL on macOS, else a hard link, which also fails
+// on an existing name), so a file created by someone else between a check
+// and the move is never replaced. Only on a file system that supports none
+// of these (no hard links) does it fall back to check-then-rename.
 //
 // New files get mode 0666 less the umask (0600 less the umask for private
 // files such as blinding keys), as files made by any other program do.
