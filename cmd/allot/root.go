@@ -42,6 +42,10 @@ data-entry workbooks, and the ANOVA that matches the design.` + "\n" + exitHelp,
 		newDocsCmd(s, nil))
 	root.SetHelpCommand(newHelpCmd())
 	root.InitDefaultCompletionCmd()
+	// cobra adds these when it runs; adding them now puts them in the
+	// generated reference too.
+	root.InitDefaultHelpFlag()
+	root.InitDefaultVersionFlag()
 	for _, c := range root.Commands() {
 		if c.Name() == "completion" {
 			adoptCompletionCmd(c)
