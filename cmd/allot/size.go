@@ -244,7 +244,7 @@ func sizeRun(s *streams, o *sizeOptions) error {
 	ans, err := power.Compute(o.req)
 	var fe *power.FieldError
 	if errors.As(err, &fe) {
-		return &usageError{err: err}
+		return &usageError{err: err, showUsage: true} // names a flag
 	}
 	if err != nil {
 		return err
