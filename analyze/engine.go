@@ -26,7 +26,6 @@ type prepared struct {
 	ranges [][][2]int // column ranges per fit
 	p      int
 	ok     bool
-	x      [][]float64 // coded rows of the present units, per ordering
 	orders [][]int
 }
 

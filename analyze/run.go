@@ -82,10 +82,10 @@ func Run(d Data, opt RunOptions) (*Result, error) {
 	case MethodTukey, MethodHolm, MethodNone:
 	case MethodDunnett:
 		if opt.Control == "" {
-			return nil, fmt.Errorf("Dunnett's test needs a control level")
+			return nil, fmt.Errorf("dunnett: the test needs a control level")
 		}
 		if len(d.Factors) != 1 {
-			return nil, fmt.Errorf("Dunnett's test is for one-factor designs")
+			return nil, fmt.Errorf("dunnett: the test is for one-factor designs")
 		}
 		lv, _, err := d.Factors[0].levels()
 		if err != nil {

@@ -9,7 +9,7 @@ import (
 	"testing"
 )
 
-func u64(v uint64) *uint64 { return &v }
+func u64(v uint64) *SeedText { s := SeedText(v); return &s }
 
 func TestResolveErrors(t *testing.T) {
 	base := Spec{Factor: []string{"feed=A,B,C"}, Reps: "2", Seed: u64(1)}

@@ -27,7 +27,7 @@ type Key struct {
 	// Fingerprint is the plan's fingerprint (Plan.Fingerprint: of the
 	// sealed plan, for BlindMode plans; of the full plan in KeyFormatV1).
 	Fingerprint string   `json:"plan_fingerprint"`
-	Seed        uint64   `json:"seed"`
+	Seed        SeedText `json:"seed"` // a string in the file; numbers are read too
 	Generator   string   `json:"generator,omitempty"`
 	BlindMode   string   `json:"blind_mode,omitempty"`
 	Secret      string   `json:"secret,omitempty"` // hexadecimal, at least 16 bytes
@@ -58,7 +58,7 @@ const MinSecretBytes = 16
 // KeyOf returns the key of a blind layout (unblinded, with its secret).
 func KeyOf(l Layout) Key {
 	p := l.Plan
-	k := Key{Format: KeyFormat, Fingerprint: p.Fingerprint(), Seed: p.Seed, Generator: p.Generator, BlindMode: p.BlindMode}
+	k := Key{Format: KeyFormat, Fingerprint: p.Fingerprint(), Seed: SeedText(p.Seed), Generator: p.Generator, BlindMode: p.BlindMode}
 	tr := p.Treatments()
 	for _, t := range tr {
 		k.Treatments = append(k.Treatments, t.Name)

@@ -29,15 +29,15 @@ import (
 //	response = ["fresh_g:0..800"]
 //	seed = 20261201
 type Spec struct {
-	Title     string   `toml:"title"`
-	Design    string   `toml:"design"`
-	Factor    []string `toml:"factor"` // NAME=L1,L2,...
-	Control   string   `toml:"control"`
-	Reps      string   `toml:"reps"` // R, or NAME=R,...,default=R
-	Blocks    int      `toml:"blocks"`
-	BlockName string   `toml:"block_name"`
-	Response  []string `toml:"response"` // NAME or NAME:MIN..MAX
-	Seed      *uint64  `toml:"seed"`
+	Title     string    `toml:"title"`
+	Design    string    `toml:"design"`
+	Factor    []string  `toml:"factor"` // NAME=L1,L2,...
+	Control   string    `toml:"control"`
+	Reps      string    `toml:"reps"` // R, or NAME=R,...,default=R
+	Blocks    int       `toml:"blocks"`
+	BlockName string    `toml:"block_name"`
+	Response  []string  `toml:"response"` // NAME or NAME:MIN..MAX
+	Seed      *SeedText `toml:"seed"`     // an integer, or a string for seeds of 2^63 and above
 	// Unit list: a CSV file with a header row.
 	Units       string      `toml:"units"`
 	IDColumn    string      `toml:"id_column"`
@@ -89,7 +89,7 @@ func (b *BlindChoice) Set(v string) error {
 	case "true":
 		*b = BlindTreatment
 	default:
-		return fmt.Errorf("%q: give %q (one code per treatment, the default) or %q (one code per unit)", v, BlindTreatment, BlindUnit)
+		return fmt.Errorf("must be %q (one code per treatment, the default) or %q (one code per unit)", BlindTreatment, BlindUnit)
 	}
 	return nil
 }
@@ -137,6 +137,42 @@ func ParseFactor(s string) (Factor, error) {
 	}
 	for _, l := range strings.Split(levels, ",") {
 		f.Levels = append(f.Levels, strings.TrimSpace(l))
+	}
+	return f, nil
+}
+
+// MaxCountLevels bounds the count form NAME=K of ParseFactorOrCount.
+const MaxCountLevels = 1000
+
+// ParseFactorOrCount parses NAME=L1,L2,... or NAME=K, K levels named 1 to
+// K, where only the number of levels matters (planning a sample size). The
+// levels must be at least 2, non-empty and distinct.
+func ParseFactorOrCount(s string) (Factor, error) {
+	name, levels, ok := strings.Cut(s, "=")
+	if !ok || strings.TrimSpace(name) == "" || strings.TrimSpace(levels) == "" {
+		return Factor{}, errf("factor", "%s: write NAME=LEVELS, for example dose=3 or diet=chow,fat", s)
+	}
+	var f Factor
+	if k, err := strconv.Atoi(strings.TrimSpace(levels)); err == nil {
+		if k > MaxCountLevels {
+			return Factor{}, errf("factor", "%s: at most %d levels", s, MaxCountLevels)
+		}
+		f.Name = strings.TrimSpace(name)
+		for i := 1; i <= k; i++ {
+			f.Levels = append(f.Levels, strconv.Itoa(i))
+		}
+	} else if f, err = ParseFactor(s); err != nil {
+		return Factor{}, err
+	}
+	seen := map[string]bool{}
+	for _, l := range f.Levels {
+		if l == "" || seen[l] {
+			return Factor{}, errf("factor", "%s: level names must be non-empty and distinct", s)
+		}
+		seen[l] = true
+	}
+	if len(f.Levels) < 2 {
+		return Factor{}, errf("factor", "%s: factor %q needs at least 2 levels", s, f.Name)
 	}
 	return f, nil
 }
@@ -569,7 +605,7 @@ func (s Spec) basePlan() (Plan, error) {
 	if s.Seed == nil {
 		return Plan{}, errf("seed", "no seed: give one, or let allot draw one and record it")
 	}
-	p.Seed = *s.Seed
+	p.Seed = uint64(*s.Seed)
 	if s.PerBlock < 0 {
 		return Plan{}, errf("per_block", "%d units per block: must be at least 1", s.PerBlock)
 	}

@@ -18,17 +18,6 @@ func newGaussRule(n int) gaussRule {
 	return r
 }
 
-// composite integrates f over [lo, hi] split into panels equal panels, each
-// with the rule r.
-func (r gaussRule) composite(f func(float64) float64, lo, hi float64, panels int) float64 {
-	h := (hi - lo) / float64(panels)
-	var sum float64
-	for p := 0; p < panels; p++ {
-		sum += r.panel(f, lo+float64(p)*h, lo+float64(p+1)*h)
-	}
-	return sum
-}
-
 // adaptive integrates f over [lo, hi] to an absolute tolerance tol by
 // recursive bisection: a panel is accepted when the rule on the whole panel
 // and the sum of the rule on its two halves agree within the panel's share of

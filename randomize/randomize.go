@@ -95,6 +95,7 @@ import (
 
 	"github.com/allotproject/allot/design"
 
+	//lint:ignore SA1019 allot-pcg-v1 is defined by this package's PCG stream; go.mod pins it
 	"golang.org/x/exp/rand"
 )
 
@@ -444,7 +445,7 @@ func Unblind(s design.Layout, k design.Key) (design.Layout, error) {
 		return design.Layout{}, fmt.Errorf("the layout is not blind; it needs no key")
 	}
 	full := p
-	full.Seed = k.Seed
+	full.Seed = uint64(k.Seed)
 	var secret []byte
 	switch {
 	case k.Format == design.KeyFormatV1 && p.BlindMode == "":

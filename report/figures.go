@@ -58,7 +58,7 @@ func (f Figure) InlineSVG() (string, error) {
 
 // WriteFigures writes each figure as NAME.svg and NAME.png into dir.
 func WriteFigures(dir string, figs []Figure, force bool) ([]string, error) {
-	if err := os.MkdirAll(dir, 0o755); err != nil {
+	if err := os.MkdirAll(dir, 0o777); err != nil {
 		return nil, fmt.Errorf("--plots %s: %w", dir, err)
 	}
 	var written []string

@@ -8,9 +8,12 @@ package report
 
 import (
 	"fmt"
+	"io"
 	"math"
 	"strconv"
 	"strings"
+
+	"golang.org/x/term"
 )
 
 // num formats x with sig significant digits, without exponent for ordinary
@@ -64,7 +67,28 @@ type table struct {
 	right []bool // right-align column (numbers)
 }
 
-func (t table) text(indent string) string {
+// DefaultWidth is the width of text that does not go to a terminal (a
+// file, a pipe): plain and narrow enough for a mail or a lab notebook.
+const DefaultWidth = 80
+
+// Width is the number of columns that text written to w may use: the
+// terminal's width when w is a terminal, else DefaultWidth.
+func Width(w io.Writer) int {
+	if f, ok := w.(interface{ Fd() uintptr }); ok && term.IsTerminal(int(f.Fd())) {
+		if cols, _, err := term.GetSize(int(f.Fd())); err == nil && cols >= 40 {
+			return cols
+		}
+	}
+	return DefaultWidth
+}
+
+// text renders the table at DefaultWidth.
+func (t table) text(indent string) string { return t.textWidth(indent, DefaultWidth) }
+
+// textWidth renders the table as aligned text no wider than width: a table
+// too wide is cut into panels of whole columns, one below the other, each
+// repeating the first (label) column.
+func (t table) textWidth(indent string, width int) string {
 	w := make([]int, len(t.head))
 	for i, h := range t.head {
 		w[i] = runeLen(h)
@@ -75,12 +99,42 @@ func (t table) text(indent string) string {
 		}
 	}
 	var b strings.Builder
+	for i, cols := range t.panels(w, runeLen(indent), width) {
+		if i > 0 {
+			b.WriteString("\n")
+		}
+		t.writePanel(&b, indent, w, cols)
+	}
+	return b.String()
+}
+
+// panels splits the columns into groups that fit width, each starting
+// with column 0.
+func (t table) panels(w []int, indent, width int) [][]int {
+	if len(w) == 0 {
+		return nil
+	}
+	var out [][]int
+	cur, used := []int{0}, indent+w[0]
+	for i := 1; i < len(w); i++ {
+		if len(cur) > 1 && used+2+w[i] > width {
+			out = append(out, cur)
+			cur, used = []int{0}, indent+w[0]
+		}
+		cur = append(cur, i)
+		used += 2 + w[i]
+	}
+	return append(out, cur)
+}
+
+func (t table) writePanel(b *strings.Builder, indent string, w []int, cols []int) {
 	line := func(cells []string) {
 		var l strings.Builder
 		l.WriteString(indent)
-		for i, c := range cells {
+		for k, i := range cols {
+			c := cells[i]
 			pad := strings.Repeat(" ", w[i]-runeLen(c))
-			if i > 0 {
+			if k > 0 {
 				l.WriteString("  ")
 			}
 			if t.right != nil && t.right[i] {
@@ -100,7 +154,6 @@ func (t table) text(indent string) string {
 	for _, r := range t.rows {
 		line(r)
 	}
-	return b.String()
 }
 
 func (t table) markdown() string {

@@ -4,6 +4,7 @@ import (
 	"encoding/json"
 	"fmt"
 	"io"
+	"strconv"
 	"strings"
 
 	"github.com/allotproject/allot/design"
@@ -65,9 +66,9 @@ func LayoutText(w io.Writer, l design.Layout) error {
 	default:
 		b.WriteString("\nReplication: units of each treatment\n")
 	}
-	b.WriteString(bt.text("  "))
+	b.WriteString(balanceText(bt, p, Width(w)))
 	if len(l.Units) <= MaxMapUnits {
-		writeMap(&b, l, labels)
+		writeMap(&b, l, labels, Width(w))
 	} else {
 		fmt.Fprintf(&b, "\nMap: %d units are too many to print here; see the workbook's Map sheet.\n", len(l.Units))
 	}
@@ -159,7 +160,7 @@ func spareText(l design.Layout, labels []string) string {
 // writeMap writes each block as its grid (or as one line of positions),
 // each unit as its ID and treatment (or code), with the measurement rank
 // after "#" when an order was planned.
-func writeMap(b *strings.Builder, l design.Layout, labels []string) {
+func writeMap(b *strings.Builder, l design.Layout, labels []string, lineWidth int) {
 	p := l.Plan
 	what := "treatment"
 	if p.Blind {
@@ -223,8 +224,18 @@ func writeMap(b *strings.Builder, l design.Layout, labels []string) {
 		} else {
 			b.WriteString("  units:")
 		}
+		// Wrap a long block onto further lines within the width.
+		used := 0
 		for _, u := range byBlock[k] {
-			fmt.Fprintf(b, "  %d→%s", u.Position, cellText(u))
+			e := fmt.Sprintf("  %d→%s", u.Position, cellText(u))
+			if used > 0 && used+runeLen(e) > lineWidth {
+				b.WriteString("\n   ")
+				used = 3
+			} else if used == 0 {
+				used = runeLen(strings.TrimRight(lineStart(b), "\n"))
+			}
+			b.WriteString(e)
+			used += runeLen(e)
 		}
 		b.WriteString("\n")
 	}
@@ -258,5 +269,50 @@ func LayoutJSON(w io.Writer, l design.Layout) error {
 	l = l.Sealed()
 	enc := json.NewEncoder(w)
 	enc.SetIndent("", "  ")
-	return enc.Encode(design.LayoutDoc{Format: design.LayoutFormat, Fingerprint: l.Plan.Fingerprint(), Layout: l})
+	return enc.Encode(design.LayoutDocument(l))
+}
+
+// maxBalancePanels is the most panels a wrapped balance table may take
+// before it is summarised instead (a layout of thousands of blocks would
+// otherwise print thousands of columns).
+const maxBalancePanels = 3
+
+// balanceText renders the treatments × blocks table within width, wrapped
+// into panels; a table that would need more than maxBalancePanels is
+// summarised per treatment (fewest and most units per block, and total).
+func balanceText(bt table, p design.Plan, width int) string {
+	w := make([]int, len(bt.head))
+	for i, h := range bt.head {
+		w[i] = runeLen(h)
+	}
+	for _, r := range bt.rows {
+		for i, c := range r {
+			w[i] = max(w[i], runeLen(c))
+		}
+	}
+	if len(bt.panels(w, 2, width)) <= maxBalancePanels {
+		return bt.textWidth("  ", width)
+	}
+	// The row labels are the table's own (treatments, or codes for a
+	// blind layout), so the summary reveals nothing the table would not.
+	st := table{head: []string{bt.head[0], "fewest per " + p.BlockName, "most per " + p.BlockName, "total"}, right: []bool{false, true, true, true}}
+	for _, row := range bt.rows {
+		lo, hi, sum := -1, 0, 0
+		for _, c := range row[1:] {
+			n, _ := strconv.Atoi(c)
+			if lo < 0 || n < lo {
+				lo = n
+			}
+			hi, sum = max(hi, n), sum+n
+		}
+		st.rows = append(st.rows, []string{row[0], fmt.Sprint(lo), fmt.Sprint(hi), fmt.Sprint(sum)})
+	}
+	return fmt.Sprintf("  (%d %s, too many for a column each; --json lists every unit)\n", p.Blocks, design.Plural(p.BlockName)) +
+		st.textWidth("  ", width)
+}
+
+// lineStart returns the text of b's last, unfinished line.
+func lineStart(b *strings.Builder) string {
+	s := b.String()
+	return s[strings.LastIndex(s, "\n")+1:]
 }

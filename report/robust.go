@@ -82,7 +82,7 @@ func (s section) write(w io.Writer, markdown bool) error {
 			if markdown {
 				b.WriteString(v + "\n\n")
 			} else {
-				b.WriteString(wrap(v, 100, "  "))
+				b.WriteString(wrap(v, DefaultWidth-2, "  "))
 			}
 		case table:
 			if markdown {

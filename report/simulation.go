@@ -26,7 +26,7 @@ type Simulation struct {
 	Result      sim.Result  `json:"result"`
 	Tried       []sim.Trial `json:"tried,omitempty"`
 	Exact       float64     `json:"exact_power_without_losses,omitempty"`
-	Seed        uint64      `json:"seed"`
+	Seed        uint64      `json:"seed,string"` // a string: seeds reach 2^64
 	Command     string      `json:"command"`
 	Version     string      `json:"allot_version"`
 }

@@ -144,7 +144,7 @@ func TestBlindOutputsHideTheMap(t *testing.T) {
 						t.Errorf("%s names treatment %q:\n%s", name, n, probe)
 					}
 				}
-				for _, secret := range []string{k.Secret, strings.ToUpper(k.Secret), k.MAC, itoa(k.Seed)} {
+				for _, secret := range []string{k.Secret, strings.ToUpper(k.Secret), k.MAC, itoa(uint64(k.Seed))} {
 					if strings.Contains(text, secret) {
 						t.Errorf("%s contains the key's secret, MAC or seed %q", name, secret)
 					}
@@ -287,19 +287,20 @@ func rewriteZip(t *testing.T, src, dst, name string, edit func(string) string) {
 	os.WriteFile(dst, buf.Bytes(), 0o644)
 }
 
-// TestOutputsCheckedFirst: nothing is written when one output cannot be.
-func TestOutputsCheckedFirst(t *testing.T) {
+// TestLayoutOutputsCheckedFirst: nothing is written when one output cannot be.
+func TestLayoutOutputsCheckedFirst(t *testing.T) {
 	dir := t.TempDir()
 	key, wb := filepath.Join(dir, "k.json"), filepath.Join(dir, "w.xlsx")
 	os.WriteFile(wb, []byte("precious"), 0o644)
 	code, _, errs := runArgs(t, "layout", "--factor", "feed=A,B", "--blocks", "2", "--blind", "--key", key, "-o", wb)
-	if code != exitUsage || !strings.Contains(errs, "-o "+wb) {
+	if code != exitUsage || !strings.Contains(errs, wb+" already exists") {
 		t.Errorf("exit %d %s", code, errs)
 	}
 	if _, err := os.Stat(key); err == nil {
 		t.Error("the key was written although the workbook could not be")
 	}
-	code, _, errs = runArgs(t, "layout", "--factor", "feed=A,B", "--blocks", "2", "--blind", "--key", wb, "-o", wb)
+	fresh := filepath.Join(dir, "new.xlsx")
+	code, _, errs = runArgs(t, "layout", "--factor", "feed=A,B", "--blocks", "2", "--blind", "--key", fresh, "-o", fresh)
 	if code != exitUsage || !strings.Contains(errs, "the same file as -o") {
 		t.Errorf("key at -o: exit %d %s", code, errs)
 	}

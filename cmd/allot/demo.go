@@ -2,7 +2,9 @@ package main
 
 import (
 	"errors"
+	"fmt"
 
+	"github.com/allotproject/allot/internal/atomicfile"
 	"github.com/allotproject/allot/internal/demo"
 	"github.com/allotproject/allot/internal/version"
 
@@ -47,10 +49,13 @@ be empty or new unless --force is given.` + "\n" + exitHelp,
 }
 
 func demoRun(s *streams, opts *demoOptions) error {
+	for _, l := range atomicfile.Leftovers(opts.out) {
+		fmt.Fprintf(s.Err, "allot: note: %s is a temporary file left by an earlier allot run that was stopped before it finished; delete it\n", l)
+	}
 	_, err := demo.Run(demo.Default(), demo.Options{
 		Out: opts.out, Force: opts.force, Version: version.String(), Stdout: s.Out, Stderr: s.Err,
 	})
-	if errors.Is(err, demo.ErrOutExists) {
+	if errors.Is(err, demo.ErrOut) {
 		return inputErr(err)
 	}
 	return err

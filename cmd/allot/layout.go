@@ -8,7 +8,6 @@ import (
 	"io"
 	"os"
 	"path/filepath"
-	"strconv"
 	"strings"
 	"time"
 
@@ -227,11 +226,12 @@ func (o *layoutOptions) resolveSpec(c *cobra.Command) error {
 		o.fromCmd = c
 	}
 	if o.seed != "" {
-		v, err := strconv.ParseUint(strings.TrimSpace(o.seed), 10, 64)
+		v, err := design.ParseSeed(o.seed)
 		if err != nil {
 			return usagef("--seed %s: must be an unsigned whole number below 2^64, for example --seed 20261201", o.seed)
 		}
-		o.spec.Seed = &v
+		sv := design.SeedText(v)
+		o.spec.Seed = &sv
 	}
 	if o.spec.IDColumn == "" {
 		o.spec.IDColumn = "id"
@@ -303,7 +303,7 @@ func distinctOutputs(outs [][2]string) error {
 
 // checkOutputs checks every output path before any is written: its folder
 // exists and, without --force, the file does not.
-func checkOutputs(force bool, outs [][2]string) error {
+func checkLayoutOutputs(force bool, outs [][2]string) error {
 	for _, o := range outs {
 		if o[1] == "" {
 			continue
@@ -320,22 +320,11 @@ func checkOutputs(force bool, outs [][2]string) error {
 
 func layoutRun(s *streams, o *layoutOptions) error {
 	outs := [][2]string{{"--key", o.key}, {"-o", o.out}, {"--map", o.mapFile}}
-	if err := checkOutputs(o.force, outs); err != nil {
+	if err := checkLayoutOutputs(o.force, outs); err != nil {
 		return err
 	}
 	blind := o.spec.Blind != ""
-	if o.spec.Seed == nil {
-		seed, err := randomize.NewSeed()
-		if err != nil {
-			return err
-		}
-		o.spec.Seed = &seed
-		if blind {
-			fmt.Fprintf(s.Err, "allot layout: drew a seed from the system's random source; it is kept in the key file only\n")
-		} else {
-			fmt.Fprintf(s.Err, "allot layout: no --seed given; drew seed %d (recorded in the plan; give --seed %d to repeat this layout)\n", seed, seed)
-		}
-	} else if blind {
+	if o.spec.Seed != nil && blind {
 		fmt.Fprintf(s.Err, "allot layout: warning: --seed with --blind: anyone who knows or guesses this seed can re-derive the allocation from the workbook's unit IDs (and, with one code per treatment, the meaning of every code); leave --seed out to let allot draw one, kept in the key file only\n")
 	}
 	var units []design.UnitRow
@@ -347,6 +336,26 @@ func layoutRun(s *streams, o *layoutOptions) error {
 		units, err = design.ReadUnitList(bytes.NewReader(b), o.spec.Units, o.spec.IDColumn, o.spec.BlockColumn, o.spec.MatchOn)
 		if err != nil {
 			return planError(err)
+		}
+	}
+	if o.spec.Seed == nil {
+		// Name missing or wrong inputs before drawing a seed: the seed
+		// does not change what is valid.
+		probe, zero := o.spec, design.SeedText(0)
+		probe.Seed = &zero
+		if _, err := probe.Resolve(units); err != nil {
+			return planError(err)
+		}
+		seed, err := randomize.NewSeed()
+		if err != nil {
+			return err
+		}
+		sv := design.SeedText(seed)
+		o.spec.Seed = &sv
+		if blind {
+			fmt.Fprintf(s.Err, "allot layout: drew a seed from the system's random source; it is kept in the key file only\n")
+		} else {
+			fmt.Fprintf(s.Err, "allot layout: no --seed given; drew seed %d (recorded in the plan; give --seed %d to repeat this layout)\n", seed, seed)
 		}
 	}
 	plan, err := o.spec.Resolve(units)

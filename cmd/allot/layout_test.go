@@ -134,7 +134,7 @@ func TestLayoutBadInput(t *testing.T) {
 		{[]string{"--factor", "feed=A,B,C", "--units", litters, "--block-column", "litter", "--block-name", "litter", "--per-block", "3", "--expect-n", "12", "--seed", "1"}, "--expect-n: the layout uses 6 units, 6 fewer than the 12 justified (2 litters × 3 units each)"},
 		{[]string{"--factor", "feed=A,B,C", "--units", litters, "--block-column", "litter", "--allow-unequal", "--expect-n", "6", "--seed", "1"}, "--expect-n: the layout uses 8 units, 2 more than the 6 justified (the unit list's 2 blocks hold 8 units in all; --per-block K takes K of each"},
 		{[]string{"--factor", "feed=A,B", "--blind", "sideways", "--key", "k.json", "--seed", "1"}, "--blind sideways: give --blind treatment"},
-		{[]string{"--factor", "feed=A,B", "--blind=sideways", "--key", "k.json", "--seed", "1"}, `invalid argument "sideways" for "--blind"`},
+		{[]string{"--factor", "feed=A,B", "--blind=sideways", "--key", "k.json", "--seed", "1"}, `--blind sideways: must be "treatment"`},
 	}
 	for _, tt := range tests {
 		t.Run(tt.want, func(t *testing.T) {

@@ -4,6 +4,7 @@ import (
 	"bytes"
 	"os"
 	"path/filepath"
+	"strconv"
 	"strings"
 	"testing"
 )
@@ -17,7 +18,7 @@ func runArgs(t *testing.T, args ...string) (int, string, string) {
 
 func TestVersionAndHelp(t *testing.T) {
 	code, out, _ := runArgs(t, "--version")
-	if code != 0 || !strings.HasPrefix(out, "allot 0.") {
+	if code != 0 || !strings.HasPrefix(out, "allot ") || strings.Count(out, "\n") != 1 {
 		t.Errorf("--version: code %d, %q", code, out)
 	}
 	code, out, _ = runArgs(t, "--help")
@@ -37,8 +38,8 @@ func TestUsageErrors(t *testing.T) {
 		want string
 	}{
 		{"unknown command", []string{"plant"}, `unknown command "plant"`},
-		{"unknown flag", []string{"demo", "--colour"}, "unknown flag: --colour"},
-		{"stray argument", []string{"demo", "extra"}, "unknown command"},
+		{"unknown flag", []string{"demo", "--colour"}, "--colour: allot demo has no such flag"},
+		{"stray argument", []string{"demo", "extra"}, `allot demo takes no arguments, got "extra"`},
 		{"empty out", []string{"demo", "--out", ""}, "--out: give a folder"},
 	}
 	for _, tt := range tests {
@@ -94,5 +95,36 @@ func TestDemoRun(t *testing.T) {
 	after, _ := os.ReadFile(filepath.Join(dir, "trial.xlsx"))
 	if !bytes.Equal(before, after) {
 		t.Error("workbook changed by a refused run")
+	}
+}
+
+// TestPrivateTempDir: library temporaries (excelize's) go to a folder of
+// the run's own, removed at the end; folders of dead runs are removed.
+func TestPrivateTempDir(t *testing.T) {
+	base := t.TempDir()
+	t.Setenv("TMPDIR", base)
+	dead := filepath.Join(base, tempDirPrefix+"999999999-x")
+	alive := filepath.Join(base, tempDirPrefix+strconv.Itoa(os.Getppid())+"-y")
+	other := filepath.Join(base, "someone-else")
+	for _, d := range []string{dead, alive, other} {
+		os.Mkdir(d, 0o700)
+	}
+	cleanup := privateTempDir()
+	mine := os.TempDir()
+	if filepath.Dir(mine) != base || !strings.HasPrefix(filepath.Base(mine), tempDirPrefix+strconv.Itoa(os.Getpid())+"-") {
+		t.Fatalf("TMPDIR is %s", mine)
+	}
+	os.WriteFile(filepath.Join(mine, "excelize-123"), []byte("x"), 0o600)
+	cleanup()
+	if os.TempDir() != base {
+		t.Errorf("TMPDIR not restored: %s", os.TempDir())
+	}
+	for _, tt := range []struct {
+		dir  string
+		kept bool
+	}{{mine, false}, {dead, false}, {alive, true}, {other, true}} {
+		if _, err := os.Stat(tt.dir); (err == nil) != tt.kept {
+			t.Errorf("%s: kept %v, want %v", tt.dir, err == nil, tt.kept)
+		}
 	}
 }

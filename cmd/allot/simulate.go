@@ -4,9 +4,9 @@ import (
 	"context"
 	"errors"
 	"fmt"
+	"github.com/allotproject/allot/design"
 	"os"
 	"os/signal"
-	"strconv"
 
 	"github.com/allotproject/allot/internal/version"
 	"github.com/allotproject/allot/power"
@@ -73,7 +73,7 @@ func simulateRun(s *streams, o *sizeOptions) error {
 		q.Seed = v
 		fmt.Fprintf(s.Err, "allot size: no --seed given; drew seed %d (give --seed %d to repeat this simulation)\n", v, v)
 	} else {
-		v, err := strconv.ParseUint(so.seed, 10, 64)
+		v, err := design.ParseSeed(so.seed)
 		if err != nil {
 			return usagef("--seed %s: must be an unsigned whole number", so.seed)
 		}

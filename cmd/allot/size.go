@@ -208,34 +208,21 @@ func (o *sizeOptions) resolve(c *cobra.Command) error {
 		r.Blocked, r.N = true, o.blocks
 	}
 	for _, spec := range o.factors {
-		name, levels, ok := strings.Cut(spec, "=")
-		name = strings.TrimSpace(name)
-		if !ok || name == "" || levels == "" {
-			return usagef("--factor %s: write NAME=LEVELS, for example dose=3 or diet=chow,fat", spec)
+		fa, err := design.ParseFactorOrCount(spec)
+		var de *design.Error
+		if errors.As(err, &de) {
+			return usagef("--factor %s", de.Msg)
+		} else if err != nil {
+			return err
 		}
-		k, err := strconv.Atoi(levels)
-		var names []string
-		if err == nil && k > power.MaxCells {
+		if len(fa.Levels) > power.MaxCells {
 			return usagef("--factor %s: at most %d levels are supported", spec, power.MaxCells)
 		}
-		if err != nil {
-			list := strings.Split(levels, ",")
-			seen := map[string]bool{}
-			names = nil
-			for _, l := range list {
-				l = strings.TrimSpace(l)
-				if l == "" || seen[l] {
-					return usagef("--factor %s: level names must be non-empty and distinct", spec)
-				}
-				seen[l] = true
-				names = append(names, l)
-			}
-			k = len(list)
+		var names []string
+		if _, lv, _ := strings.Cut(spec, "="); !isCount(lv) {
+			names = fa.Levels
 		}
-		if k < 2 {
-			return usagef("--factor %s: factor %q needs at least 2 levels", spec, name)
-		}
-		r.Factors = append(r.Factors, power.Factor{Name: name, Levels: k, Names: names})
+		r.Factors = append(r.Factors, power.Factor{Name: fa.Name, Levels: len(fa.Levels), Names: names})
 	}
 	if o.term != "" {
 		for _, t := range strings.Split(o.term, ",") {
@@ -364,7 +351,7 @@ func sizeRun(s *streams, o *sizeOptions) error {
 	ans, err := power.Compute(o.req)
 	var fe *power.FieldError
 	if errors.As(err, &fe) {
-		return &usageError{err: err}
+		return &usageError{err: err, showUsage: true} // names a flag
 	}
 	if err != nil {
 		return err
@@ -409,4 +396,10 @@ func sizeRun(s *streams, o *sizeOptions) error {
 		return report.JustificationText(s.Out, rep)
 	}
 	return nil
+}
+
+// isCount reports whether a --factor's levels are given as a count (dose=3).
+func isCount(levels string) bool {
+	_, err := strconv.Atoi(strings.TrimSpace(levels))
+	return err == nil
 }

@@ -108,7 +108,7 @@ type unitMeaning struct {
 }
 
 func unblindRun(s *streams, o *unblindOptions) error {
-	if err := checkOutputs(o.force, [][2]string{{"-o", o.out}}); err != nil {
+	if err := checkLayoutOutputs(o.force, [][2]string{{"-o", o.out}}); err != nil {
 		return err
 	}
 	raw, err := os.ReadFile(o.key)

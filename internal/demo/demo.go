@@ -82,8 +82,30 @@ type Options struct {
 	Stderr  io.Writer
 }
 
-// ErrOutExists reports a non-empty output folder without Force.
+// ErrOut matches (errors.Is) every error about an output folder that cannot
+// be used: not a folder, not writable, or not empty without Force.
+var ErrOut = errors.New("unusable output folder")
+
+// ErrOutExists matches an output folder that is not empty without Force.
 var ErrOutExists = errors.New("output folder is not empty")
+
+// outError is a message about the output folder that matches ErrOut (and
+// ErrOutExists when the folder was not empty) and wraps its cause.
+type outError struct {
+	msg      string
+	nonEmpty bool
+	err      error
+}
+
+func (e *outError) Error() string { return e.msg }
+func (e *outError) Unwrap() error { return e.err }
+func (e *outError) Is(target error) bool {
+	return target == ErrOut || (e.nonEmpty && target == ErrOutExists)
+}
+
+func outErr(err error, format string, args ...any) error {
+	return &outError{msg: fmt.Sprintf(format, args...), err: err}
+}
 
 // Result is what a run produced, for tests.
 type Result struct {
@@ -121,82 +143,132 @@ func Run(s Scenario, o Options) (*Result, error) {
 	if err := prepareOut(o.Out, o.Force); err != nil {
 		return nil, err
 	}
-	out, msg := o.Stdout, o.Stderr
-	res := &Result{}
-	section := func(t string) { fmt.Fprintf(out, "\n== %s ==\n\n", t) }
+	r := &runner{s: s, o: o, out: o.Stdout, res: &Result{}}
+	fmt.Fprintf(r.out, "allot demo: %s\n", s.Title)
+	fmt.Fprintf(r.out, "Every measurement below is SIMULATED; the scenario is invented.\n")
+	steps := []struct {
+		title   string
+		do      func() error
+		partial bool // on failure, return what was done (the problems found)
+	}{
+		{"1. Sample size", r.sampleSize, false},
+		{"2. Randomised layout", r.layOut, false},
+		{"3. Data-entry workbook", r.workbook, false},
+		{"4. Read-back check", r.readBack, true},
+		{"5. Analysis (SIMULATED data)", r.analyse, false},
+	}
+	for _, st := range steps {
+		fmt.Fprintf(r.out, "\n== %s ==\n\n", st.title)
+		if err := st.do(); err != nil {
+			if st.partial {
+				return r.res, err
+			}
+			return nil, err
+		}
+	}
+	fmt.Fprintf(r.out, "\n== Files ==\n\n")
+	for _, p := range r.res.Files {
+		fmt.Fprintln(r.out, "  "+p)
+	}
+	fmt.Fprintln(o.Stderr, "allot demo: done")
+	return r.res, nil
+}
 
-	fmt.Fprintf(out, "allot demo: %s\n", s.Title)
-	fmt.Fprintf(out, "Every measurement below is SIMULATED; the scenario is invented.\n")
+// runner carries one demo run from step to step.
+type runner struct {
+	s   Scenario
+	o   Options
+	out io.Writer
+	res *Result
 
-	// 1. How many benches?
-	section("1. Sample size")
-	ans, err := power.Compute(power.Request{
+	nDrop  int              // benches laid out, attrition allowed for
+	lay    design.Layout    // the randomised trial
+	filled string           // the simulated copy of the workbook
+	fl     *workbook.Filled // the copy read back
+}
+
+func (r *runner) sizeRequest() power.Request {
+	s := r.s
+	return power.Request{
 		Factors: []power.Factor{{Name: s.Factor, Levels: len(s.Levels)}},
 		Blocked: true,
 		Means:   s.PlanMeans,
 		SD:      s.PlanSD,
 		Alpha:   s.Alpha,
 		Power:   s.Power,
-		Dropout: s.Dropout,
-	})
-	if err != nil {
-		return nil, err
 	}
-	res.Size = ans
+}
+
+// sampleSize: how many benches? The exact solve, its justification and
+// power curve, and a Monte-Carlo check of the attrition allowance.
+func (r *runner) sampleSize() error {
+	s, out := r.s, r.out
+	req := r.sizeRequest()
+	req.Dropout = s.Dropout
+	ans, err := power.Compute(req)
+	if err != nil {
+		return err
+	}
+	r.res.Size = ans
 	ans.NUnit = design.Plural(s.BlockName)
 	ans.SDText = fmt.Sprintf("%s mg within a %s (from an invented pilot)", trim(s.PlanSD, 3), s.BlockName)
-	nDrop := ans.NDropout
-	rep := report.Size{Answer: ans, Command: "allot demo", Version: o.Version}
+	r.nDrop = ans.NDropout
+	rep := report.Size{Answer: ans, Command: "allot demo", Version: r.o.Version}
 	if err := report.SizeText(out, rep); err != nil {
-		return nil, err
+		return err
 	}
-	just := report.Justification(rep)
-	if err := writeFile(o.Out, FileJustification, just+"\n", res); err != nil {
-		return nil, err
+	if err := r.writeFile(FileJustification, report.Justification(rep)+"\n"); err != nil {
+		return err
 	}
-	preq := power.Request{Factors: []power.Factor{{Name: s.Factor, Levels: len(s.Levels)}}, Blocked: true, Means: s.PlanMeans, SD: s.PlanSD, Alpha: s.Alpha, Power: s.Power}
-	curve, err := power.CurvePoints(preq, ans)
+	curve, err := power.CurvePoints(r.sizeRequest(), ans)
 	if err != nil {
-		return nil, err
+		return err
 	}
-	if err := report.PowerCurve(filepath.Join(o.Out, FileCurve), curve, ans, true); err != nil {
-		return nil, err
+	if err := report.PowerCurve(filepath.Join(r.o.Out, FileCurve), curve, ans, true); err != nil {
+		return err
 	}
-	res.Files = append(res.Files, filepath.Join(o.Out, FileCurve))
-	fmt.Fprintf(out, "\nThe demo lays out %d %s, the allowance for attrition (%s%%) applied: losses in a growth room are seedlings that fail.\n", nDrop, design.Plural(s.BlockName), trim(100*s.Dropout, 3))
+	r.res.Files = append(r.res.Files, filepath.Join(r.o.Out, FileCurve))
+	fmt.Fprintf(out, "\nThe demo lays out %d %s, the allowance for attrition (%s%%) applied: losses in a growth room are seedlings that fail.\n", r.nDrop, design.Plural(s.BlockName), trim(100*s.Dropout, 3))
+	return r.checkAllowance()
+}
 
-	// Check the allowance by simulation: the real analysis on data sets
-	// that lose each pot with the expected probability.
-	simPlan, err := sim.PlanFor([]string{s.Factor}, [][]string{s.Levels}, true, nDrop, nil)
+// checkAllowance checks the attrition allowance by simulation: the real
+// analysis on data sets that lose each pot with the expected probability.
+func (r *runner) checkAllowance() error {
+	s := r.s
+	simPlan, err := sim.PlanFor([]string{s.Factor}, [][]string{s.Levels}, true, r.nDrop, nil)
 	if err != nil {
-		return nil, err
+		return err
 	}
 	simLayout, err := randomize.Assign(simPlan)
 	if err != nil {
-		return nil, err
+		return err
 	}
 	mc, err := sim.Run(context.Background(), sim.Spec{Layout: simLayout, Means: s.PlanMeans, SDs: []float64{s.PlanSD}, BlockSD: s.BlockSD,
 		Dropout: s.Dropout, Alpha: s.Alpha, SSType: 3, Sims: 2000, Seed: s.Seed})
 	if err != nil {
-		return nil, err
+		return err
 	}
 	for _, t := range mc.Terms {
 		if t.Name == s.Factor {
-			res.Simulated = t
-			fmt.Fprintf(out, "Monte-Carlo check: with %d %s and each pot lost with probability %s, the F test of %s rejects in %s of 2000 simulated trials (MC SE %s, 95%% interval %s–%s).\n",
-				nDrop, design.Plural(s.BlockName), trim(s.Dropout, 3), s.Factor, trim(t.P, 3), trim(t.SE, 2), trim(t.Lower, 3), trim(t.Upper, 3))
+			r.res.Simulated = t
+			fmt.Fprintf(r.out, "Monte-Carlo check: with %d %s and each pot lost with probability %s, the F test of %s rejects in %s of 2000 simulated trials (MC SE %s, 95%% interval %s–%s).\n",
+				r.nDrop, design.Plural(s.BlockName), trim(s.Dropout, 3), s.Factor, trim(t.P, 3), trim(t.SE, 2), trim(t.Lower, 3), trim(t.Upper, 3))
 		}
 	}
+	return nil
+}
 
-	// 2. Which pot gets which substrate?
-	section("2. Randomised layout")
+// layOut: which pot gets which substrate? The layout, its JSON and map.
+func (r *runner) layOut() error {
+	s := r.s
 	plan := design.Plan{
 		Title:     s.Title,
 		Design:    design.RCBD,
 		Factors:   []design.Factor{{Name: s.Factor, Levels: s.Levels}},
 		Control:   s.Control,
 		Reps:      ones(len(s.Levels)),
-		Blocks:    nDrop,
+		Blocks:    r.nDrop,
 		BlockName: s.BlockName,
 		Responses: []design.Response{s.Response},
 		Seed:      s.Seed,
@@ -207,67 +279,76 @@ func Run(s Scenario, o Options) (*Result, error) {
 	}
 	lay, err := randomize.Assign(plan)
 	if err != nil {
-		return nil, err
+		return err
 	}
-	res.Layout = lay
-	if err := report.LayoutText(out, lay); err != nil {
-		return nil, err
+	r.lay, r.res.Layout = lay, lay
+	if err := report.LayoutText(r.out, lay); err != nil {
+		return err
 	}
 	var lj strings.Builder
-	report.LayoutJSON(&lj, lay)
-	if err := writeFile(o.Out, FileLayout, lj.String(), res); err != nil {
-		return nil, err
+	if err := report.LayoutJSON(&lj, lay); err != nil {
+		return err
+	}
+	if err := r.writeFile(FileLayout, lj.String()); err != nil {
+		return err
 	}
 	mapSVG, err := report.MapFigure(lay).Render("svg")
 	if err != nil {
-		return nil, err
+		return err
 	}
-	if err := writeFile(o.Out, FileMap, string(mapSVG), res); err != nil {
-		return nil, err
-	}
+	return r.writeFile(FileMap, string(mapSVG))
+}
 
-	// 3. The workbook, and its simulated filling.
-	section("3. Data-entry workbook")
+// workbook writes the data-entry workbook and its simulated filling.
+func (r *runner) workbook() error {
+	s, o := r.s, r.o
 	wbPath := filepath.Join(o.Out, FileWorkbook)
-	if err := workbook.Write(wbPath, lay, workbook.Meta{Version: o.Version, Created: o.Now()}, o.Force); err != nil {
-		return nil, err
+	if err := workbook.Write(wbPath, r.lay, workbook.Meta{Version: o.Version, Created: o.Now()}, o.Force); err != nil {
+		return err
 	}
-	res.Files = append(res.Files, wbPath)
-	fmt.Fprintf(out, "Wrote %s (sheets %s, %s, %s).\n", wbPath, workbook.SheetStudy, workbook.SheetEntry, workbook.SheetMap)
-	if err := writePaper(out, o.Out, lay, o.Now(), res); err != nil {
-		return nil, err
+	r.res.Files = append(r.res.Files, wbPath)
+	fmt.Fprintf(r.out, "Wrote %s (sheets %s, %s, %s).\n", wbPath, workbook.SheetStudy, workbook.SheetEntry, workbook.SheetMap)
+	if err := r.writePaper(r.lay, r.o.Now()); err != nil {
+		return err
 	}
-	ys, err := sim.Responses(lay, sim.Model{Means: s.TrueMeans, SD: s.TrueSD, BlockSD: s.BlockSD, Decimals: 1}, s.Seed)
+	ys, err := sim.Responses(r.lay, sim.Model{Means: s.TrueMeans, SD: s.TrueSD, BlockSD: s.BlockSD, Decimals: 1}, s.Seed)
 	if err != nil {
-		return nil, err
+		return err
 	}
-	filled := filepath.Join(o.Out, FileFilled)
-	if err := workbook.Fill(wbPath, filled, [][]float64{ys}, SimulatedLabel, o.Force); err != nil {
-		return nil, err
+	r.filled = filepath.Join(o.Out, FileFilled)
+	if err := workbook.Fill(wbPath, r.filled, [][]float64{ys}, SimulatedLabel, o.Force); err != nil {
+		return err
 	}
-	res.Files = append(res.Files, filled)
-	fmt.Fprintf(out, "Wrote %s: a copy filled with SIMULATED values (seed %d) standing in for the technician.\n", filled, s.Seed)
+	r.res.Files = append(r.res.Files, r.filled)
+	fmt.Fprintf(r.out, "Wrote %s: a copy filled with SIMULATED values (seed %d) standing in for the technician.\n", r.filled, s.Seed)
+	return nil
+}
 
-	// 4. Read back and check.
-	section("4. Read-back check")
-	fl, err := workbook.Read(filled, workbook.ReadOptions{})
+// readBack reads the filled copy and checks it cell by cell.
+func (r *runner) readBack() error {
+	fl, err := workbook.Read(r.filled, workbook.ReadOptions{})
 	if err != nil {
-		return nil, err
+		return err
 	}
-	res.Problems = fl.Problems
+	r.fl = fl
+	r.res.Problems = fl.Problems
 	if len(fl.Problems) == 0 {
-		fmt.Fprintf(out, "%s: plan fingerprint verified; %d units, every row and cell as planned.\n", filled, len(fl.Layout.Units))
+		fmt.Fprintf(r.out, "%s: plan fingerprint verified; %d units, every row and cell as planned.\n", r.filled, len(fl.Layout.Units))
 	}
 	for _, p := range fl.Problems {
-		fmt.Fprintln(out, p)
+		fmt.Fprintln(r.out, p)
 	}
 	if fl.Errors() > 0 {
-		return res, fmt.Errorf("the filled workbook has %d error(s)", fl.Errors())
+		return fmt.Errorf("the filled workbook has %d error(s)", fl.Errors())
 	}
+	return nil
+}
 
-	// 5. Analysis.
-	section("5. Analysis (SIMULATED data)")
-	obs := fl.Observations(0)
+// analyse runs the randomised-block ANOVA with Tukey HSD, then Dunnett
+// against the control, and writes the reports and figures.
+func (r *runner) analyse() error {
+	s, out := r.s, r.out
+	obs := r.fl.Observations(0)
 	data := analyze.Data{
 		Response: s.Response.Name,
 		Values:   obs.Values,
@@ -278,89 +359,101 @@ func Run(s Scenario, o Options) (*Result, error) {
 	}
 	ar, err := analyze.Run(data, analyze.RunOptions{Options: analyze.Options{Alpha: s.Alpha}})
 	if err != nil {
-		return nil, err
+		return err
 	}
-	res.Table = ar.Table
+	r.res.Table = ar.Table
 	if len(ar.PostHoc) > 0 {
-		res.PostHoc = ar.PostHoc[0]
+		r.res.PostHoc = ar.PostHoc[0]
 	}
-	an := report.Analysis{Result: ar, Unit: "pot", BlockName: s.BlockName, Simulated: true, Missing: len(lay.Units) - len(obs.Values)}
+	an := report.Analysis{Result: ar, Unit: "pot", BlockName: s.BlockName, Simulated: true, Missing: len(r.lay.Units) - len(obs.Values)}
 	if err := report.AnalysisText(out, an); err != nil {
-		return nil, err
+		return err
 	}
 	// The plan names a control: compare each blend with it as well.
 	dr, err := analyze.Run(data, analyze.RunOptions{Options: analyze.Options{Alpha: s.Alpha}, PostHoc: analyze.MethodDunnett, Control: s.Control})
 	if err != nil {
-		return nil, err
+		return err
 	}
 	for _, ph := range dr.PostHoc {
 		fmt.Fprintf(out, "\nEach blend against the %s control (Dunnett):\n", s.Control)
 		if err := report.PostHocText(out, ph); err != nil {
-			return nil, err
+			return err
 		}
 	}
+	return r.reports(an)
+}
+
+// reports writes the Markdown, JSON and HTML reports and the figures.
+func (r *runner) reports(an report.Analysis) error {
+	s := r.s
 	var md, js strings.Builder
 	fmt.Fprintf(&md, "# %s\n\n**SIMULATED DATA** — produced by `allot demo`; the scenario is invented.\n\n", s.Title)
-	report.AnalysisMarkdown(&md, an)
-	if err := writeFile(o.Out, FileReport, md.String(), res); err != nil {
-		return nil, err
+	if err := report.AnalysisMarkdown(&md, an); err != nil {
+		return err
+	}
+	if err := r.writeFile(FileReport, md.String()); err != nil {
+		return err
 	}
 	if err := report.AnalysisJSON(&js, an); err != nil {
-		return nil, err
+		return err
 	}
-	if err := writeFile(o.Out, FileAnalysis, js.String(), res); err != nil {
-		return nil, err
+	if err := r.writeFile(FileAnalysis, js.String()); err != nil {
+		return err
 	}
 	var page strings.Builder
-	plan = lay.Plan
+	plan := r.lay.Plan
 	check := []string{fmt.Sprintf("%s: the plan fingerprint matched and every row and design cell was as planned; all values are SIMULATED", FileFilled)}
 	if err := report.HTML(&page, report.HTMLReport{Analyses: []report.Analysis{an}, Plan: &plan, Check: check,
-		Command: "allot analyze " + FileFilled + " --report " + FileHTML + " --unit mg", Version: o.Version, Unit: "mg"}); err != nil {
-		return nil, err
+		Command: "allot analyze " + FileFilled + " --report " + FileHTML + " --unit mg", Version: r.o.Version, Unit: "mg"}); err != nil {
+		return err
 	}
-	if err := writeFile(o.Out, FileHTML, page.String(), res); err != nil {
-		return nil, err
+	if err := r.writeFile(FileHTML, page.String()); err != nil {
+		return err
 	}
 	figs, err := report.AnalysisFigures(an, "mg")
 	if err != nil {
-		return nil, err
+		return err
 	}
-	written, err := report.WriteFigures(filepath.Join(o.Out, DirFigures), figs, true)
+	written, err := report.WriteFigures(filepath.Join(r.o.Out, DirFigures), figs, true)
 	if err != nil {
-		return nil, err
+		return err
 	}
-	res.Files = append(res.Files, written...)
-
-	section("Files")
-	for _, p := range res.Files {
-		fmt.Fprintln(out, "  "+p)
-	}
-	fmt.Fprintln(msg, "allot demo: done")
-	return res, nil
+	r.res.Files = append(r.res.Files, written...)
+	return nil
 }
 
+// prepareOut makes sure the output folder exists, is empty unless force,
+// and takes new files. Every error it returns wraps ErrOut.
 func prepareOut(dir string, force bool) error {
 	entries, err := os.ReadDir(dir)
 	switch {
 	case errors.Is(err, os.ErrNotExist):
-		return os.MkdirAll(dir, 0o755)
+		if err := os.MkdirAll(dir, 0o777); err != nil {
+			return outErr(err, "--out %s: cannot create the folder: %v", dir, err)
+		}
 	case err != nil:
-		return fmt.Errorf("--out %s: %w", dir, err)
+		if st, serr := os.Stat(dir); serr == nil && !st.IsDir() {
+			return outErr(err, "--out %s is a file; give a folder for the demo's files", dir)
+		}
+		return outErr(err, "--out %s: %v", dir, err)
 	case len(entries) > 0 && !force:
-		return fmt.Errorf("%w: --out %s already holds %d file(s); choose another folder or add --force to overwrite the demo's files", ErrOutExists, dir, len(entries))
+		return &outError{msg: fmt.Sprintf("--out %s already holds %d file(s); choose another folder or add --force to overwrite the demo's files", dir, len(entries)), nonEmpty: true}
+	}
+	if err := atomicfile.Check(filepath.Join(dir, FileWorkbook), true); err != nil {
+		return outErr(err, "--out %v", err)
 	}
 	return nil
 }
 
-func writeFile(dir, name, content string, res *Result) error {
-	p := filepath.Join(dir, name)
+func (r *runner) writeFile(name, content string) error {
+	p := filepath.Join(r.o.Out, name)
 	if err := atomicfile.Write(p, true, func(w io.Writer) error {
 		_, err := io.WriteString(w, content)
 		return err
 	}); err != nil {
 		return err
 	}
-	res.Files = append(res.Files, p)
+	r.res.Files = append(r.res.Files, p)
 	return nil
 }
 
@@ -370,23 +463,6 @@ func ones(k int) []int {
 		r[i] = 1
 	}
 	return r
-}
-
-func ceilDiv(n int, keep float64) int {
-	x := float64(n) / keep
-	c := int(x)
-	if float64(c) < x-1e-9 {
-		c++
-	}
-	return c
-}
-
-func joinF(v []float64) string {
-	s := make([]string, len(v))
-	for i, x := range v {
-		s[i] = trim(x, 4)
-	}
-	return strings.Join(s, ", ")
 }
 
 func trim(x float64, sig int) string { return fmt.Sprintf("%.*g", sig, x) }

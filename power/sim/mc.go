@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"math"
 	"runtime"
+	"runtime/debug"
 	"strconv"
 	"sync"
 
@@ -13,6 +14,7 @@ import (
 	"github.com/allotproject/allot/prob"
 	"github.com/allotproject/allot/randomize"
 
+	//lint:ignore SA1019 allot-pcg-v1 is defined by this package's PCG stream; go.mod pins it
 	"golang.org/x/exp/rand"
 	"gonum.org/v1/gonum/mat"
 	"gonum.org/v1/gonum/stat/distuv"
@@ -154,10 +156,23 @@ func Run(ctx context.Context, s Spec) (Result, error) {
 			}
 		}
 	}()
+	// A panic in a worker is carried to the caller's goroutine and raised
+	// there, where the command boundary turns it into an internal error
+	// (a panic in a goroutine would end the process with status 2).
+	var crash any
 	for w := 0; w < workers; w++ {
 		wg.Add(1)
 		go func() {
 			defer wg.Done()
+			defer func() {
+				if r := recover(); r != nil {
+					mu.Lock()
+					if crash == nil {
+						crash = fmt.Sprintf("%v\n%s", r, debug.Stack())
+					}
+					mu.Unlock()
+				}
+			}()
 			e := eng
 			if w > 0 {
 				e, _ = analyze.NewEngine(d, s.SSType)
@@ -179,6 +194,9 @@ func Run(ctx context.Context, s Spec) (Result, error) {
 		}()
 	}
 	wg.Wait()
+	if crash != nil {
+		panic(fmt.Sprintf("sim: worker: %v", crash))
+	}
 	res := Result{Sims: total.n, Failed: total.failed, FastPath: fast, Cancelled: total.n < s.Sims}
 	if total.n == 0 {
 		return res, nil
