@@ -1,0 +1,243 @@
+package web
+
+import (
+	"bytes"
+	"encoding/base64"
+	"encoding/json"
+	"errors"
+	"fmt"
+	"html/template"
+	"net/http"
+	"os"
+	"path/filepath"
+	"regexp"
+	"strconv"
+	"strings"
+
+	"github.com/allotproject/allot/design"
+	"github.com/allotproject/allot/design/workbook"
+	"github.com/allotproject/allot/randomize"
+	"github.com/allotproject/allot/report"
+)
+
+// layoutForm is the form of allot layout (without a unit list).
+func layoutForm() *Form {
+	return &Form{Groups: []Group{
+		{Legend: "Treatments", Fields: []*Field{
+			{Name: "title", Label: "Title of the experiment", Kind: kindText},
+			{Name: "factor", Label: "Treatment factors", Kind: kindLines, Help: "one per line, NAME=L1,L2,...; two to four lines make a factorial", Placeholder: "feed=F0,F1,F2,F3"},
+			{Name: "control", Label: "Control level", Kind: kindText, Help: "one-factor plans, for example F0"},
+			{Name: "reps", Label: "Replication", Kind: kindText, Help: "units per treatment (per block for rcbd), or TREATMENT=R,...,default=R"},
+		}},
+		{Legend: "Design and blocks", Fields: []*Field{
+			{Name: "design", Label: "Design", Kind: kindSelect, Options: []Option{{"", "completely randomised (crd)"}, {"rcbd", "randomised complete blocks (rcbd)"}}},
+			{Name: "blocks", Label: "Number of blocks", Kind: kindNumber, Help: "rcbd: benches, litters, days or racks"},
+			{Name: "block-name", Label: "What a block is called", Kind: kindText, Help: "bench, litter, day, rack (default block)"},
+			{Name: "grid", Label: "Grid of each block", Kind: kindText, Help: "ROWSxCOLS, for example 2x4"},
+			{Name: "numbering", Label: "Grid numbering", Kind: kindSelect, Options: []Option{{"", "row by row"}, {"serpentine", "serpentine (every other row reversed)"}}},
+		}},
+		{Legend: "Recording", Fields: []*Field{
+			{Name: "response", Label: "Responses to record", Kind: kindLines, Help: "one per line, NAME or NAME:MIN..MAX", Placeholder: "height_cm:0..200"},
+			{Name: "subsamples", Label: "Measurements per unit", Kind: kindNumber, Help: "one row each, averaged to the unit for analysis"},
+			{Name: "order", Label: "Add a randomised measurement order within each block", Kind: kindCheck},
+			{Name: "blind", Label: "Blind: show codes instead of treatment names (the key is offered once)", Kind: kindCheck},
+			{Name: "seed", Label: "Random seed", Kind: kindText, Help: "a whole number; leave empty to draw one (it is shown so that the layout can be repeated)"},
+		}},
+	}}
+}
+
+// download is one offered file.
+type download struct {
+	ID, Name, What string
+	Once           bool
+}
+
+// layoutResult is what the layout page shows.
+type layoutResult struct {
+	Summary   string
+	Map       template.URL
+	MapAlt    string
+	JSON      string
+	Downloads []download
+	Key       *download
+	Blind     bool
+	Seed      uint64
+	DrawnSeed bool
+	Command   string
+}
+
+func (s *Server) layoutPage(w http.ResponseWriter, r *http.Request) {
+	f := layoutForm()
+	if r.Method != http.MethodPost {
+		s.render(w, http.StatusOK, "layout", page{Title: "Lay out the trial", Form: f})
+		return
+	}
+	if !s.parseForm(w, r, "layout", "Lay out the trial", f) {
+		return
+	}
+	f.fill(r.PostForm)
+	res, err := s.layoutAnswer(f)
+	if err != nil {
+		var de *design.Error
+		if errors.As(err, &de) {
+			flag := strings.ReplaceAll(de.Field, "_", "-")
+			f.setError(flag, de.Msg)
+		} else {
+			f.Problem = err.Error()
+		}
+	}
+	if f.HasErrors() {
+		s.render(w, http.StatusUnprocessableEntity, "layout", page{Title: "Lay out the trial", Form: f})
+		return
+	}
+	s.render(w, http.StatusOK, "layout", page{Title: "Lay out the trial", Form: f, Result: res})
+}
+
+// layoutAnswer parses the form into the design.Spec that allot layout
+// builds from its flags, resolves and randomises it as the command does,
+// and stores the files for download.
+func (s *Server) layoutAnswer(f *Form) (*layoutResult, error) {
+	sp := design.Spec{
+		Title: f.text("title"), Design: f.text("design"), Factor: f.lines("factor"), Control: f.text("control"),
+		Reps: f.text("reps"), Blocks: f.int("blocks"), BlockName: f.text("block-name"), Response: f.lines("response"),
+		Grid: f.text("grid"), Numbering: f.text("numbering"), Blind: f.check("blind"), Order: f.check("order"),
+		Subsamples: f.int("subsamples"), IDColumn: "id",
+	}
+	res := &layoutResult{}
+	if v := f.text("seed"); v != "" {
+		seed, err := strconv.ParseUint(v, 10, 64)
+		if err != nil {
+			f.field("seed").Error = fmt.Sprintf("Must be an unsigned whole number below 2^64, for example 20261201 (%q is not)", v)
+		} else {
+			sp.Seed = &seed
+		}
+	}
+	if f.HasErrors() {
+		return nil, nil
+	}
+	if sp.Seed == nil {
+		seed, err := randomize.NewSeed()
+		if err != nil {
+			return nil, err
+		}
+		sp.Seed, res.DrawnSeed = &seed, true
+		x := f.field("seed")
+		x.Value = strconv.FormatUint(seed, 10)
+		x.canon = []string{x.Value}
+	}
+	plan, err := sp.Resolve(nil)
+	if err != nil {
+		return nil, err
+	}
+	lay, err := randomize.Assign(plan)
+	if err != nil {
+		return nil, err
+	}
+	res.Seed, res.Blind = plan.Seed, plan.Blind
+	base := fileBase(plan.Title, "layout")
+	var b bytes.Buffer
+	if err := report.LayoutText(&b, lay); err != nil {
+		return nil, err
+	}
+	res.Summary = b.String()
+	b.Reset()
+	if err := report.LayoutJSON(&b, lay); err != nil {
+		return nil, err
+	}
+	res.JSON = b.String()
+	layoutJSON := append([]byte(nil), b.Bytes()...)
+
+	wb, err := s.workbookBytes(lay)
+	if err != nil {
+		return nil, err
+	}
+	b.Reset()
+	if err := workbook.WriteCSV(&b, lay); err != nil {
+		return nil, err
+	}
+	csv := append([]byte(nil), b.Bytes()...)
+	fig := report.MapFigure(lay)
+	mapSVG, err := fig.Render("svg")
+	if err != nil {
+		return nil, err
+	}
+	mapPNG, err := fig.Render("png")
+	if err != nil {
+		return nil, err
+	}
+	res.Map = template.URL("data:image/svg+xml;base64," + base64.StdEncoding.EncodeToString(mapSVG))
+	res.MapAlt = fig.Title + ": the place of every unit with its " + map[bool]string{false: "treatment", true: "blind code"}[plan.Blind] + "; the same map is in the workbook's map sheet and the downloads"
+	add := func(name, ctype, what string, data []byte) {
+		id := s.store.put(item{name: name, contentType: ctype, data: data})
+		res.Downloads = append(res.Downloads, download{ID: id, Name: name, What: what})
+	}
+	add(base+".xlsx", "application/vnd.openxmlformats-officedocument.spreadsheetml.sheet", "data-entry workbook", wb)
+	add(base+"-map.svg", "image/svg+xml", "map (SVG, for printing on A4)", mapSVG)
+	add(base+"-map.png", "image/png", "map (PNG)", mapPNG)
+	add(base+".json", "application/json", "plan and assignment (layout JSON)", layoutJSON)
+	add(base+".csv", "text/csv; charset=utf-8", "the workbook's rows as CSV", csv)
+	if s.cfg.Labels != nil {
+		name, data, err := s.cfg.Labels(lay)
+		if err != nil {
+			return nil, err
+		}
+		add(name, contentType(name), "labels", data)
+	}
+	extra := []string{"-o", base + ".xlsx", "--map", base + "-map.svg"}
+	if plan.Blind {
+		var kb bytes.Buffer
+		enc := json.NewEncoder(&kb)
+		enc.SetIndent("", "  ")
+		if err := enc.Encode(design.KeyOf(lay)); err != nil {
+			return nil, err
+		}
+		id := s.store.put(item{name: base + "-key.json", contentType: "application/json", data: kb.Bytes(), once: true})
+		res.Key = &download{ID: id, Name: base + "-key.json", What: "unblinding key", Once: true}
+		extra = append(extra, "--key", base+"-key.json")
+	}
+	res.Command = f.command("allot layout", extra...)
+	return res, nil
+}
+
+// workbookBytes writes the workbook through package workbook into a
+// temporary folder that is removed at once.
+func (s *Server) workbookBytes(lay design.Layout) ([]byte, error) {
+	dir, err := os.MkdirTemp("", "allot-serve-")
+	if err != nil {
+		return nil, err
+	}
+	defer os.RemoveAll(dir)
+	p := filepath.Join(dir, "layout.xlsx")
+	if err := workbook.Write(p, lay, workbook.Meta{Version: s.cfg.Version, Created: s.cfg.Now()}, false); err != nil {
+		return nil, err
+	}
+	return os.ReadFile(p)
+}
+
+var unsafeName = regexp.MustCompile(`[^a-z0-9]+`)
+
+// fileBase makes a file name from a title.
+func fileBase(title, fallback string) string {
+	b := strings.Trim(unsafeName.ReplaceAllString(strings.ToLower(title), "-"), "-")
+	if len(b) > 40 {
+		b = strings.Trim(b[:40], "-")
+	}
+	if b == "" {
+		return fallback
+	}
+	return b
+}
+
+func contentType(name string) string {
+	switch strings.ToLower(filepath.Ext(name)) {
+	case ".pdf":
+		return "application/pdf"
+	case ".svg":
+		return "image/svg+xml"
+	case ".png":
+		return "image/png"
+	case ".html":
+		return "text/html; charset=utf-8"
+	}
+	return "application/octet-stream"
+}
