@@ -657,5 +657,4 @@ func TestGracefulShutdown(t *testing.T) {
 	}
 }
 
-
 func bufioReader(c net.Conn) *bufio.Reader { return bufio.NewReader(c) }
