@@ -190,7 +190,7 @@ func TestServeInBrowser(t *testing.T) {
 		screenshot(t, "layout")
 		step(t, "download", chromedp.Click(chromedp.CSS(`a[download$=".xlsx"]`)))
 		workbookPath = waitFile(t, filepath.Join(downloads, "feed-trial.xlsx"))
-		out, code := cli(t, "allot check " + workbookPath)
+		out, code := cli(t, "allot check "+workbookPath)
 		if code != 0 || !strings.Contains(out, "no values have been entered yet") {
 			t.Errorf("allot check on the downloaded workbook: exit %d\n%s", code, out)
 		}
