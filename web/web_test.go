@@ -371,6 +371,12 @@ func TestLayoutInvalidField(t *testing.T) {
 // workbook and fills it with simulated values.
 func filledWorkbook(t *testing.T, s *Server) []byte {
 	t.Helper()
+	return filledWith(t, s, nil)
+}
+
+// filledWith is filledWorkbook with the simulated values changed by edit.
+func filledWith(t *testing.T, s *Server, edit func([]float64)) []byte {
+	t.Helper()
 	body := post(t, s, "/layout", layoutValues()).Body.String()
 	wb := get(t, s, "/download/"+downloads(body)["feed-trial.xlsx"]).Body.Bytes()
 	dir := t.TempDir()
@@ -382,6 +388,9 @@ func filledWorkbook(t *testing.T, s *Server) []byte {
 	ys, err := sim.Responses(fl.Layout, sim.Model{Means: []float64{50, 55, 62}, SD: 4, BlockSD: 2, Decimals: 1}, 7)
 	if err != nil {
 		t.Fatal(err)
+	}
+	if edit != nil {
+		edit(ys)
 	}
 	if err := workbook.Fill(src, dst, [][]float64{ys}, "SIMULATED for a test", false); err != nil {
 		t.Fatal(err)
@@ -475,6 +484,31 @@ func TestCheckValid(t *testing.T) {
 	after, _ := os.ReadDir(tmp)
 	if len(after) != len(before) {
 		t.Errorf("temporary files left: %v", after)
+	}
+}
+
+// TestCheckFindings uploads a workbook with a value outside its declared
+// range: the page lists the finding by sheet, cell and unit, and holds the
+// analysis back.
+func TestCheckFindings(t *testing.T) {
+	s := newServer(t, Config{})
+	wb := filledWith(t, s, func(ys []float64) { ys[4] = 500 })
+	fl := readBytes(t, wb)
+	if fl.Errors() != 1 {
+		t.Fatalf("the edited workbook has %d errors, want 1", fl.Errors())
+	}
+	p := fl.Problems[0]
+	rec := postUpload(t, s, checkValues(), part{"file", "filled.xlsx", wb})
+	body := rec.Body.String()
+	if rec.Code != http.StatusOK {
+		t.Fatalf("status %d", rec.Code)
+	}
+	row := fmt.Sprintf("<tr class=\"error\"><td>error</td><td>%s</td><td>%s</td><td>%s</td>", p.Sheet, p.Cell, p.Unit)
+	if !strings.Contains(body, row) || !strings.Contains(body, html.EscapeString(p.Msg)) {
+		t.Errorf("finding %v not listed by cell", p)
+	}
+	if !strings.Contains(body, "The analysis waits until the errors above are corrected") || strings.Contains(body, "analysis-json-0") {
+		t.Error("the analysis was not held back")
 	}
 }
 
