@@ -128,12 +128,9 @@ func (f *Form) setError(flag string, msg string) {
 // the message is shown beside the field, and says "field" for "--flag".
 func plain(flag, msg string) string {
 	if strings.HasPrefix(msg, "--"+flag) {
-		if _, rest, ok := strings.Cut(msg, ": "); ok {
-			msg = rest
+		if _, rest, ok := strings.Cut(msg, ": "); ok && rest != "" {
+			msg = strings.ToUpper(rest[:1]) + rest[1:]
 		}
-	}
-	if msg != "" {
-		msg = strings.ToUpper(msg[:1]) + msg[1:]
 	}
 	return msg
 }

@@ -7,6 +7,7 @@ import (
 	"errors"
 	"fmt"
 	"html/template"
+	"mime/multipart"
 	"net/http"
 	"os"
 	"path/filepath"
@@ -43,6 +44,12 @@ func layoutForm() *Form {
 			{Name: "blind", Label: "Blind: show codes instead of treatment names (the key is offered once)", Kind: kindCheck},
 			{Name: "seed", Label: "Random seed", Kind: kindText, Help: "a whole number; leave empty to draw one (it is shown so that the layout can be repeated)"},
 		}},
+		{Legend: "Unit list (optional: animals, plots or pots you already have)", Fields: []*Field{
+			{Name: "units", Label: "Unit list (.csv with a header row)", Kind: kindFile, Accept: ".csv,text/csv", Help: "one row per unit; without it units are numbered block × 100 + position. Choose it again each time you submit"},
+			{Name: "id-column", Label: "Column with the unit ID", Kind: kindText, Default: "id", Value: "id"},
+			{Name: "block-column", Label: "Column that gives each unit's block", Kind: kindText, Help: "rcbd, for example litter"},
+			{Name: "match-on", Label: "Column to sort on and cut into matched blocks", Kind: kindText, Help: "rcbd, for example weight"},
+		}},
 	}}
 }
 
@@ -72,17 +79,39 @@ func (s *Server) layoutPage(w http.ResponseWriter, r *http.Request) {
 		s.render(w, http.StatusOK, "layout", page{Title: "Lay out the trial", Form: f})
 		return
 	}
-	if !s.parseForm(w, r, "layout", "Lay out the trial", f) {
-		return
+	var files *multipart.Form
+	if strings.HasPrefix(r.Header.Get("Content-Type"), "multipart/") {
+		if err := r.ParseMultipartForm(maxUnitList); err != nil {
+			status := http.StatusBadRequest
+			var me *http.MaxBytesError
+			if errors.As(err, &me) {
+				status = http.StatusRequestEntityTooLarge
+				f.field("units").Error = fmt.Sprintf("The form is larger than %s, the limit for a unit list; check that this is the right file.", mib(me.Limit))
+			} else {
+				f.Problem = "The form could not be read (" + err.Error() + "); submit it again."
+			}
+			s.render(w, status, "layout", page{Title: "Lay out the trial", Form: f})
+			return
+		}
+		defer r.MultipartForm.RemoveAll()
+		files = r.MultipartForm
+		f.fill(files.Value)
+	} else {
+		if !s.parseForm(w, r, "layout", "Lay out the trial", f) {
+			return
+		}
+		f.fill(r.PostForm)
 	}
-	f.fill(r.PostForm)
-	res, err := s.layoutAnswer(f)
+	res, err := s.layoutAnswer(f, files)
 	if err != nil {
 		var de *design.Error
-		if errors.As(err, &de) {
-			flag := strings.ReplaceAll(de.Field, "_", "-")
-			f.setError(flag, de.Msg)
-		} else {
+		var ce *design.CSVError
+		switch {
+		case errors.As(err, &de):
+			f.setError(strings.ReplaceAll(de.Field, "_", "-"), de.Msg)
+		case errors.As(err, &ce):
+			f.setError("units", err.Error())
+		default:
 			f.Problem = err.Error()
 		}
 	}
@@ -96,12 +125,15 @@ func (s *Server) layoutPage(w http.ResponseWriter, r *http.Request) {
 // layoutAnswer parses the form into the design.Spec that allot layout
 // builds from its flags, resolves and randomises it as the command does,
 // and stores the files for download.
-func (s *Server) layoutAnswer(f *Form) (*layoutResult, error) {
+func (s *Server) layoutAnswer(f *Form, files *multipart.Form) (*layoutResult, error) {
 	sp := design.Spec{
 		Title: f.text("title"), Design: f.text("design"), Factor: f.lines("factor"), Control: f.text("control"),
 		Reps: f.text("reps"), Blocks: f.int("blocks"), BlockName: f.text("block-name"), Response: f.lines("response"),
 		Grid: f.text("grid"), Numbering: f.text("numbering"), Blind: f.check("blind"), Order: f.check("order"),
-		Subsamples: f.int("subsamples"), IDColumn: "id",
+		Subsamples: f.int("subsamples"), IDColumn: f.text("id-column"), BlockColumn: f.text("block-column"), MatchOn: f.text("match-on"),
+	}
+	if sp.IDColumn == "" {
+		sp.IDColumn = "id"
 	}
 	res := &layoutResult{}
 	if v := f.text("seed"); v != "" {
@@ -125,7 +157,28 @@ func (s *Server) layoutAnswer(f *Form) (*layoutResult, error) {
 		x.Value = strconv.FormatUint(seed, 10)
 		x.canon = []string{x.Value}
 	}
-	plan, err := sp.Resolve(nil)
+	// A unit list is read as allot layout reads --units FILE.csv.
+	var units []design.UnitRow
+	if files != nil {
+		fh, data, err := upload(files, "units")
+		switch {
+		case err != nil:
+			f.field("units").Error = "The unit list could not be read: " + err.Error()
+			return nil, nil
+		case fh != nil:
+			name := filepath.Base(fh.Filename)
+			if !strings.EqualFold(filepath.Ext(name), ".csv") {
+				f.field("units").Error = fmt.Sprintf("%s is not a .csv file; save the list as CSV (comma-separated) and choose that.", name)
+				return nil, nil
+			}
+			if units, err = design.ReadUnitList(bytes.NewReader(data), name, sp.IDColumn, sp.BlockColumn, sp.MatchOn); err != nil {
+				return nil, err
+			}
+			sp.Units = name
+			f.field("units").canon = []string{name}
+		}
+	}
+	plan, err := sp.Resolve(units)
 	if err != nil {
 		return nil, err
 	}

@@ -47,6 +47,7 @@ const (
 	DefaultMaxUpload = 8 << 20 // bytes of an uploaded workbook (with the form)
 	DefaultTimeout   = 60 * time.Second
 	maxForm          = 64 << 10 // bytes of a form without upload
+	maxUnitList      = 2 << 20  // bytes of the layout form with its unit list
 	tokenLife        = 12 * time.Hour
 )
 
@@ -172,8 +173,11 @@ func (s *Server) guard(next http.Handler) http.Handler {
 		}
 		if r.Method == http.MethodPost {
 			limit := int64(maxForm)
-			if r.URL.Path == "/check" {
+			switch r.URL.Path {
+			case "/check":
 				limit = s.cfg.MaxUpload
+			case "/layout":
+				limit = maxUnitList
 			}
 			r.Body = http.MaxBytesReader(w, r.Body, limit)
 			if !s.validToken(r.Header.Get("X-Allot-Token"), r.URL.Query().Get("csrf"), r) {

@@ -367,6 +367,60 @@ func TestLayoutInvalidField(t *testing.T) {
 	}
 }
 
+func TestLayoutUnitList(t *testing.T) {
+	s := newServer(t, Config{})
+	mice := []byte("tag,litter,weight\nM1,L1,20.1\nM2,L1,21.0\nM3,L1,19.5\nM4,L2,22.0\nM5,L2,23.1\nM6,L2,21.7\n")
+	v := url.Values{"factor": {"dose=0,10,30"}, "design": {"rcbd"}, "id-column": {"tag"}, "block-column": {"litter"}, "block-name": {"litter"}, "seed": {"7"}}
+	rec := postMultipart(t, s, "/layout", v, part{"units", "mice.csv", mice})
+	body := rec.Body.String()
+	if rec.Code != http.StatusOK {
+		t.Fatalf("status %d\n%s", rec.Code, errorsIn(body))
+	}
+	rows, err := design.ReadUnitList(bytes.NewReader(mice), "mice.csv", "tag", "litter", "")
+	if err != nil {
+		t.Fatal(err)
+	}
+	seed := uint64(7)
+	plan, err := design.Spec{Factor: []string{"dose=0,10,30"}, Design: "rcbd", IDColumn: "tag", BlockColumn: "litter", BlockName: "litter", Units: "mice.csv", Seed: &seed}.Resolve(rows)
+	if err != nil {
+		t.Fatal(err)
+	}
+	lay, err := randomize.Assign(plan)
+	if err != nil {
+		t.Fatal(err)
+	}
+	var want bytes.Buffer
+	report.LayoutJSON(&want, lay)
+	if got := section(t, body, "layout-json"); got != want.String() {
+		t.Errorf("layout JSON differs:\n%s", got)
+	}
+	if cmd := section(t, body, "layout-command"); !strings.Contains(cmd, "--block-column litter") || !strings.Contains(cmd, "--id-column tag") || !strings.Contains(cmd, "--units mice.csv") {
+		t.Errorf("command %q", cmd)
+	}
+
+	bad := []struct {
+		name string
+		p    part
+		v    url.Values
+		want string
+	}{
+		{"not csv", part{"units", "mice.txt", mice}, v, "not a .csv file"},
+		{"no id column", part{"units", "mice.csv", mice}, url.Values{"factor": {"dose=0,10,30"}, "design": {"rcbd"}, "block-column": {"litter"}, "seed": {"7"}}, "mice.csv"},
+		{"crd with block column", part{"units", "mice.csv", mice}, url.Values{"factor": {"dose=0,10,30"}, "id-column": {"tag"}, "block-column": {"litter"}, "seed": {"7"}}, "design"},
+	}
+	for _, c := range bad {
+		t.Run(c.name, func(t *testing.T) {
+			rec := postMultipart(t, s, "/layout", c.v, c.p)
+			if rec.Code != http.StatusUnprocessableEntity {
+				t.Fatalf("status %d", rec.Code)
+			}
+			if msg := fieldError(rec.Body.String(), "units"); !strings.Contains(msg, c.want) {
+				t.Errorf("message beside units: %q, want %q\n%s", msg, c.want, errorsIn(rec.Body.String()))
+			}
+		})
+	}
+}
+
 // filledWorkbook lays out a trial through the page, downloads its
 // workbook and fills it with simulated values.
 func filledWorkbook(t *testing.T, s *Server) []byte {
@@ -410,6 +464,12 @@ type part struct {
 // postUpload posts a multipart check form.
 func postUpload(t *testing.T, s *Server, values url.Values, parts ...part) *httptest.ResponseRecorder {
 	t.Helper()
+	return postMultipart(t, s, "/check", values, parts...)
+}
+
+// postMultipart posts a multipart form to path.
+func postMultipart(t *testing.T, s *Server, path string, values url.Values, parts ...part) *httptest.ResponseRecorder {
+	t.Helper()
 	var b bytes.Buffer
 	mw := multipart.NewWriter(&b)
 	for k, vs := range values {
@@ -425,7 +485,7 @@ func postUpload(t *testing.T, s *Server, values url.Values, parts ...part) *http
 		w.Write(p.data)
 	}
 	mw.Close()
-	req := httptest.NewRequest(http.MethodPost, "http://127.0.0.1:8722/check?csrf="+url.QueryEscape(s.token()), &b)
+	req := httptest.NewRequest(http.MethodPost, "http://127.0.0.1:8722"+path+"?csrf="+url.QueryEscape(s.token()), &b)
 	req.Header.Set("Content-Type", mw.FormDataContentType())
 	rec := httptest.NewRecorder()
 	s.Handler().ServeHTTP(rec, req)

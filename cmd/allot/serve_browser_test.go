@@ -125,6 +125,30 @@ func TestServeInBrowser(t *testing.T) {
 			}
 		}
 	}
+	// a11y checks what a screen reader and a tablet need: one h1, a label
+	// for every control, text for every image and frame, and no page wider
+	// than the window.
+	a11y := func(t *testing.T, name string) {
+		t.Helper()
+		problems, err := chromedp.Run(bctx, chromedp.Evaluate[[]string](`(() => {
+			const p = [];
+			if (document.querySelectorAll("h1").length !== 1) p.push("not exactly one h1");
+			if (!document.documentElement.lang) p.push("no lang");
+			for (const e of document.querySelectorAll("input:not([type=hidden]), select, textarea")) {
+				if (!e.id || !document.querySelector('label[for="' + e.id + '"]')) p.push("control without label: " + (e.name || e.outerHTML));
+			}
+			for (const e of document.querySelectorAll("img")) if (!e.alt) p.push("image without alt: " + e.src.slice(0, 40));
+			for (const e of document.querySelectorAll("iframe")) if (!e.title) p.push("frame without title");
+			if (document.documentElement.scrollWidth > window.innerWidth) p.push("page wider than the window: " + document.documentElement.scrollWidth + " > " + window.innerWidth);
+			return p;
+		})()`))
+		if err != nil {
+			t.Fatalf("%s: %v", name, err)
+		}
+		for _, p := range problems {
+			t.Errorf("%s: %s", name, p)
+		}
+	}
 	// cli runs the command shown on a page with extra arguments.
 	cli := func(t *testing.T, command string, extra ...string) (string, int) {
 		t.Helper()
@@ -142,6 +166,7 @@ func TestServeInBrowser(t *testing.T) {
 
 	t.Run("home", func(t *testing.T) {
 		step(t, "home", chromedp.Navigate(base+"/"), chromedp.WaitVisible(chromedp.CSS(`a[href="/size"]`)))
+		a11y(t, "home")
 		screenshot(t, "home")
 	})
 
@@ -167,6 +192,7 @@ func TestServeInBrowser(t *testing.T) {
 		if got := text(t, "#answer-json"); got != want {
 			t.Errorf("page JSON differs from %s --json:\npage:\n%s\ncli:\n%s", cmd, got, want)
 		}
+		a11y(t, "size")
 		screenshot(t, "size")
 	})
 
@@ -187,6 +213,7 @@ func TestServeInBrowser(t *testing.T) {
 		if got := text(t, "#layout-json"); got != want {
 			t.Errorf("page JSON differs from %s --json:\npage:\n%s\ncli:\n%s", cmd, got, want)
 		}
+		a11y(t, "layout")
 		screenshot(t, "layout")
 		step(t, "download", chromedp.Click(chromedp.CSS(`a[download$=".xlsx"]`)))
 		workbookPath = waitFile(t, filepath.Join(downloads, "feed-trial.xlsx"))
@@ -234,6 +261,7 @@ func TestServeInBrowser(t *testing.T) {
 			t.Errorf("analysis JSON differs from %s --json:\npage:\n%s\ncli:\n%s", cmd, got, want)
 		}
 		step(t, "report", chromedp.WaitVisible(chromedp.CSS("iframe.report")), chromedp.Sleep(500*time.Millisecond))
+		a11y(t, "check")
 		screenshot(t, "check")
 	})
 }
