@@ -21,7 +21,7 @@ func sizeForm() *Form {
 			{Name: "groups", Label: "Number of groups", Kind: kindNumber, Help: "for a one-way layout, for example 4"},
 			{Name: "factor", Label: "Factors of a factorial", Kind: kindLines, Help: "one per line, NAME=LEVELS: a count or a comma list, for example dose=3 or diet=chow,fat", Placeholder: "dose=3\ndiet=chow,fat"},
 			{Name: "term", Label: "Effect to plan for (factorial)", Kind: kindText, Help: "a factor NAME, or NAME1,NAME2 for their interaction"},
-			{Name: "blocks", Label: "Blocks to evaluate", Kind: kindNumber, Help: "evaluate this many blocks (benches, litters, days); implies blocks design"},
+			{Name: "blocks", Label: "Blocks to evaluate", Kind: kindNumber, Help: "report power for this many blocks (benches, litters, days); implies the rcbd design"},
 			{Name: "ratios", Label: "Unequal allocation", Kind: kindText, Help: "one ratio per group, for example 2,1,1"},
 		}},
 		{Legend: "The effect (give one)", Fields: []*Field{

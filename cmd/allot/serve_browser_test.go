@@ -229,6 +229,87 @@ func TestServeInBrowser(t *testing.T) {
 		}
 	})
 
+	// A blind plan: the key is offered once, and the blind workbook is
+	// analysed with it.
+	var blindWorkbook, keyPath string
+	t.Run("blind", func(t *testing.T) {
+		step(t, "blind layout", chromedp.Navigate(base+"/layout"),
+			chromedp.SetValue(chromedp.CSS("#title"), "Dose study"),
+			chromedp.SetValue(chromedp.CSS("#factor"), "dose=0,10,30"),
+			chromedp.SetValue(chromedp.CSS("#reps"), "4"),
+			chromedp.SetValue(chromedp.CSS("#response"), "score:0..10"),
+			chromedp.SetValue(chromedp.CSS("#seed"), "2026"),
+			chromedp.Click(chromedp.CSS("#blind")),
+			chromedp.Click(chromedp.CSS("button.primary")), chromedp.WaitVisible(chromedp.CSS("#download-key")))
+		if w := text(t, ".warning"); !strings.Contains(w, "only once") {
+			t.Errorf("key warning %q", w)
+		}
+		cmd := text(t, "#layout-command")
+		if !strings.Contains(cmd, "--blind") || !strings.Contains(cmd, "--key dose-study-key.json") {
+			t.Errorf("command %q", cmd)
+		}
+		want, _ := cli(t, cmd, "--json")
+		if got := text(t, "#layout-json"); got != want {
+			t.Errorf("page JSON differs from %s --json", cmd)
+		}
+		href, err := chromedp.Run(bctx, chromedp.AttributeValue(chromedp.CSS("#download-key"), "href"))
+		if err != nil {
+			t.Fatal(err)
+		}
+		step(t, "download key", chromedp.Click(chromedp.CSS("#download-key")), chromedp.Click(chromedp.CSS(`a[download$=".xlsx"]`)))
+		keyPath = waitFile(t, filepath.Join(downloads, "dose-study-key.json"))
+		blindWorkbook = waitFile(t, filepath.Join(downloads, "dose-study.xlsx"))
+		// The page's key equals the key the command wrote.
+		pageKey, _ := os.ReadFile(keyPath)
+		cliKey, _ := os.ReadFile("dose-study-key.json")
+		if len(cliKey) == 0 || !bytes.Equal(pageKey, cliKey) {
+			t.Errorf("key from the page differs from the command's:\n%s\n%s", pageKey, cliKey)
+		}
+		step(t, "key again", chromedp.Navigate(base+href.Value), chromedp.WaitVisible(chromedp.CSS("h1")))
+		if h := text(t, "h1"); h != "This download is gone" {
+			t.Errorf("second key download: %q", h)
+		}
+	})
+
+	t.Run("check blind", func(t *testing.T) {
+		if blindWorkbook == "" {
+			t.Skip("no blind workbook")
+		}
+		fl, err := workbook.Read(blindWorkbook, workbook.ReadOptions{})
+		if err != nil {
+			t.Fatal(err)
+		}
+		ys := make([]float64, len(fl.Layout.Units))
+		for i := range ys {
+			ys[i] = float64(3 + i%5)
+		}
+		filled := filepath.Join(work, "blind-filled.xlsx")
+		if err := workbook.Fill(blindWorkbook, filled, [][]float64{ys}, "SIMULATED for the browser test", false); err != nil {
+			t.Fatal(err)
+		}
+		step(t, "check without key", chromedp.Navigate(base+"/check"),
+			chromedp.SetUploadFiles(chromedp.CSS("#file"), []string{filled}),
+			chromedp.Click(chromedp.CSS("button.primary")), chromedp.WaitVisible(chromedp.CSS("#analysis-note")))
+		if n := text(t, "#analysis-note"); !strings.Contains(n, "unblinding key") {
+			t.Errorf("note %q", n)
+		}
+		step(t, "check with key", chromedp.SetUploadFiles(chromedp.CSS("#file"), []string{filled}),
+			chromedp.SetUploadFiles(chromedp.CSS("#key"), []string{keyPath}),
+			chromedp.Click(chromedp.CSS("button.primary")), chromedp.WaitVisible(chromedp.CSS("iframe.report")))
+		cmd := text(t, "#analyze-command")
+		if err := os.Rename(filled, "blind-filled.xlsx"); err != nil {
+			t.Fatal(err)
+		}
+		if err := os.Rename(keyPath, "blind-key.json"); err != nil {
+			t.Fatal(err)
+		}
+		cmd = strings.Replace(cmd, "dose-study-key.json", "blind-key.json", 1)
+		want, _ := cli(t, cmd, "--json")
+		if got := text(t, "#analysis-json-0"); got != want {
+			t.Errorf("analysis JSON differs from %s --json:\npage:\n%s\ncli:\n%s", cmd, got, want)
+		}
+	})
+
 	t.Run("check", func(t *testing.T) {
 		if workbookPath == "" {
 			t.Skip("no workbook from the layout page")
