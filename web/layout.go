@@ -21,6 +21,10 @@ import (
 	"github.com/allotproject/allot/report"
 )
 
+// maxLayoutRows is the largest layout (units × subsamples) the page makes;
+// the command line has no such limit.
+const maxLayoutRows = 20_000
+
 // layoutForm is the form of allot layout (without a unit list).
 func layoutForm() *Form {
 	return &Form{Groups: []Group{
@@ -182,6 +186,10 @@ func (s *Server) layoutAnswer(f *Form, files *multipart.Form) (*layoutResult, er
 	if err != nil {
 		return nil, err
 	}
+	if rows := plan.NumUnits() * max(1, plan.Subsamples); rows > maxLayoutRows {
+		f.Problem = fmt.Sprintf("This plan has %d rows; the page lays out at most %d, so that one request cannot hold the computer for long. Use allot layout on the command line for larger plans.", rows, maxLayoutRows)
+		return nil, nil
+	}
 	lay, err := randomize.Assign(plan)
 	if err != nil {
 		return nil, err
@@ -214,10 +222,6 @@ func (s *Server) layoutAnswer(f *Form, files *multipart.Form) (*layoutResult, er
 	if err != nil {
 		return nil, err
 	}
-	mapPNG, err := fig.Render("png")
-	if err != nil {
-		return nil, err
-	}
 	res.Map = template.URL("data:image/svg+xml;base64," + base64.StdEncoding.EncodeToString(mapSVG))
 	res.MapAlt = fig.Title + ": the place of every unit with its " + map[bool]string{false: "treatment", true: "blind code"}[plan.Blind] + "; the same map is in the workbook's map sheet and the downloads"
 	add := func(name, ctype, what string, data []byte) {
@@ -226,7 +230,8 @@ func (s *Server) layoutAnswer(f *Form, files *multipart.Form) (*layoutResult, er
 	}
 	add(base+".xlsx", "application/vnd.openxmlformats-officedocument.spreadsheetml.sheet", "data-entry workbook", wb)
 	add(base+"-map.svg", "image/svg+xml", "map (SVG, for printing on A4)", mapSVG)
-	add(base+"-map.png", "image/png", "map (PNG)", mapPNG)
+	id := s.store.put(item{name: base + "-map.png", contentType: "image/png", make: func() ([]byte, error) { return fig.Render("png") }})
+	res.Downloads = append(res.Downloads, download{ID: id, Name: base + "-map.png", What: "map (PNG)"})
 	add(base+".json", "application/json", "plan and assignment (layout JSON)", layoutJSON)
 	add(base+".csv", "text/csv; charset=utf-8", "the workbook's rows as CSV", csv)
 	if s.cfg.Labels != nil {

@@ -286,10 +286,18 @@ func (s *Server) download(w http.ResponseWriter, r *http.Request) {
 		// A stored report is shown in a frame of our page: no scripts, no forms.
 		w.Header().Set("Content-Security-Policy", "sandbox; default-src 'none'; img-src data:; style-src 'unsafe-inline'; frame-ancestors 'self'")
 	}
+	data := it.data
+	if it.make != nil {
+		var err error
+		if data, err = it.make(); err != nil {
+			http.Error(w, "allot: could not make "+it.name+": "+err.Error(), http.StatusInternalServerError)
+			return
+		}
+	}
 	w.Header().Set("Content-Type", it.contentType)
 	w.Header().Set("Content-Disposition", fmt.Sprintf("%s; filename=%q", disp, it.name))
-	w.Header().Set("Content-Length", strconv.Itoa(len(it.data)))
-	_, _ = w.Write(it.data)
+	w.Header().Set("Content-Length", strconv.Itoa(len(data)))
+	_, _ = w.Write(data)
 }
 
 // parseForm parses a POSTed form; a body over the limit is answered with

@@ -19,10 +19,13 @@ type item struct {
 	name        string
 	contentType string
 	data        []byte
-	once        bool // removed at the first download (a blinding key)
-	viewable    bool // may be shown inline (the analysis report)
-	expires     time.Time
-	added       int64
+	// make renders the file on download instead (the PNG map, slow to
+	// draw and seldom wanted).
+	make     func() ([]byte, error)
+	once     bool // removed at the first download (a blinding key)
+	viewable bool // may be shown inline (the analysis report)
+	expires  time.Time
+	added    int64
 }
 
 // store keeps the files a page offers for download, in memory only, under

@@ -28,7 +28,7 @@ import (
 	"github.com/allotproject/allot/report"
 )
 
-func newServer(t *testing.T, cfg Config) *Server {
+func newServer(t testing.TB, cfg Config) *Server {
 	t.Helper()
 	if cfg.Version == "" {
 		cfg.Version = "test"
@@ -41,7 +41,7 @@ func newServer(t *testing.T, cfg Config) *Server {
 }
 
 // post submits a url-encoded form with a valid token.
-func post(t *testing.T, s *Server, path string, form url.Values) *httptest.ResponseRecorder {
+func post(t testing.TB, s *Server, path string, form url.Values) *httptest.ResponseRecorder {
 	t.Helper()
 	form.Set("csrf", s.token())
 	req := httptest.NewRequest(http.MethodPost, "http://127.0.0.1:8722"+path, strings.NewReader(form.Encode()))
@@ -51,7 +51,7 @@ func post(t *testing.T, s *Server, path string, form url.Values) *httptest.Respo
 	return rec
 }
 
-func get(t *testing.T, s *Server, path string) *httptest.ResponseRecorder {
+func get(t testing.TB, s *Server, path string) *httptest.ResponseRecorder {
 	t.Helper()
 	req := httptest.NewRequest(http.MethodGet, "http://127.0.0.1:8722"+path, nil)
 	rec := httptest.NewRecorder()
@@ -60,7 +60,7 @@ func get(t *testing.T, s *Server, path string) *httptest.ResponseRecorder {
 }
 
 // section returns the unescaped text of the element with id.
-func section(t *testing.T, body, id string) string {
+func section(t testing.TB, body, id string) string {
 	t.Helper()
 	re := regexp.MustCompile(`(?s)id="` + regexp.QuoteMeta(id) + `"[^>]*>(.*?)</pre>`)
 	m := re.FindStringSubmatch(body)
@@ -278,6 +278,9 @@ func TestLayoutValid(t *testing.T) {
 	if strings.Contains(body, "key.json") {
 		t.Error("an open plan offers a key")
 	}
+	if png := get(t, s, "/download/"+d["feed-trial-map.png"]); png.Code != http.StatusOK || !bytes.HasPrefix(png.Body.Bytes(), []byte("\x89PNG")) || png.Header().Get("Content-Type") != "image/png" {
+		t.Errorf("PNG map: status %d, type %q", png.Code, png.Header().Get("Content-Type"))
+	}
 	// The workbook reads back clean, and is offered again on a second visit.
 	for i := range 2 {
 		rec := get(t, s, "/download/"+d["feed-trial.xlsx"])
@@ -293,7 +296,7 @@ func TestLayoutValid(t *testing.T) {
 	}
 }
 
-func readBytes(t *testing.T, b []byte) *workbook.Filled {
+func readBytes(t testing.TB, b []byte) *workbook.Filled {
 	t.Helper()
 	p := filepath.Join(t.TempDir(), "w.xlsx")
 	if err := os.WriteFile(p, b, 0o600); err != nil {
@@ -349,16 +352,27 @@ func TestLayoutInvalidField(t *testing.T) {
 		{"grid", "2by3", "ROWSxCOLS"},
 		{"subsamples", "-2", "subsamples"},
 		{"seed", "-1", "unsigned whole number"},
+		{"", "", "at most 20000"},
 	}
 	for _, c := range cases {
 		if c.want == "" {
 			continue // an empty text field is the default
 		}
 		t.Run(c.field+"="+c.value, func(t *testing.T) {
-			rec := post(t, s, "/layout", layoutValues(c.field, c.value))
+			v := layoutValues(c.field, c.value)
+			if c.field == "" {
+				v = layoutValues("blocks", "9000", "reps", "3")
+			}
+			rec := post(t, s, "/layout", v)
 			body := rec.Body.String()
 			if rec.Code != http.StatusUnprocessableEntity {
 				t.Fatalf("status %d, want 422", rec.Code)
+			}
+			if c.field == "" {
+				if !strings.Contains(errorsIn(body), c.want) {
+					t.Errorf("no message about the size limit:\n%s", errorsIn(body))
+				}
+				return
 			}
 			if msg := fieldError(body, c.field); !strings.Contains(msg, c.want) {
 				t.Errorf("message beside %s: %q, want %q\n%s", c.field, msg, c.want, errorsIn(body))
@@ -423,13 +437,13 @@ func TestLayoutUnitList(t *testing.T) {
 
 // filledWorkbook lays out a trial through the page, downloads its
 // workbook and fills it with simulated values.
-func filledWorkbook(t *testing.T, s *Server) []byte {
+func filledWorkbook(t testing.TB, s *Server) []byte {
 	t.Helper()
 	return filledWith(t, s, nil)
 }
 
 // filledWith is filledWorkbook with the simulated values changed by edit.
-func filledWith(t *testing.T, s *Server, edit func([]float64)) []byte {
+func filledWith(t testing.TB, s *Server, edit func([]float64)) []byte {
 	t.Helper()
 	body := post(t, s, "/layout", layoutValues()).Body.String()
 	wb := get(t, s, "/download/"+downloads(body)["feed-trial.xlsx"]).Body.Bytes()
@@ -462,13 +476,13 @@ type part struct {
 }
 
 // postUpload posts a multipart check form.
-func postUpload(t *testing.T, s *Server, values url.Values, parts ...part) *httptest.ResponseRecorder {
+func postUpload(t testing.TB, s *Server, values url.Values, parts ...part) *httptest.ResponseRecorder {
 	t.Helper()
 	return postMultipart(t, s, "/check", values, parts...)
 }
 
 // postMultipart posts a multipart form to path.
-func postMultipart(t *testing.T, s *Server, path string, values url.Values, parts ...part) *httptest.ResponseRecorder {
+func postMultipart(t testing.TB, s *Server, path string, values url.Values, parts ...part) *httptest.ResponseRecorder {
 	t.Helper()
 	var b bytes.Buffer
 	mw := multipart.NewWriter(&b)
