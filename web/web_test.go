@@ -309,6 +309,30 @@ func readBytes(t testing.TB, b []byte) *workbook.Filled {
 	return fl
 }
 
+// TestLayoutLabels plugs a labels maker in: the page offers its file.
+func TestLayoutLabels(t *testing.T) {
+	labels := func(l design.Layout) (string, []byte, error) {
+		var ids []string
+		for _, u := range l.Units {
+			ids = append(ids, u.ID)
+		}
+		return "labels.pdf", []byte(strings.Join(ids, "\n")), nil
+	}
+	s := newServer(t, Config{Labels: labels})
+	body := post(t, s, "/layout", layoutValues()).Body.String()
+	id := downloads(body)["labels.pdf"]
+	if id == "" {
+		t.Fatal("no labels offered")
+	}
+	rec := get(t, s, "/download/"+id)
+	if rec.Header().Get("Content-Type") != "application/pdf" || !strings.HasPrefix(rec.Body.String(), "101\n") {
+		t.Errorf("labels: %q %q", rec.Header().Get("Content-Type"), rec.Body.String())
+	}
+	if strings.Contains(post(t, newServer(t, Config{}), "/layout", layoutValues()).Body.String(), "labels") {
+		t.Error("labels offered without a labels maker")
+	}
+}
+
 func TestLayoutBlindKeyOnce(t *testing.T) {
 	s := newServer(t, Config{})
 	rec := post(t, s, "/layout", layoutValues("blind", "on", "seed", ""))

@@ -94,6 +94,8 @@ func isLoopback(host string) bool {
 }
 
 func serveRun(s *streams, o *serveOptions) error {
+	// Labels stays nil until allot labels exists; then pass its renderer
+	// (web.Labels) here and the layout page offers the labels too.
 	srv, err := web.New(web.Config{Version: version.String(), MaxUpload: o.maxUpload, AllowRemote: o.allowRemote})
 	if err != nil {
 		return err

@@ -178,6 +178,8 @@ func TestServeInBrowser(t *testing.T) {
 		if msg := text(t, "#alpha-error"); !strings.Contains(msg, "between 0 and 1") {
 			t.Errorf("alpha error %q", msg)
 		}
+		a11y(t, "size with an error")
+		screenshot(t, "size-error")
 		step(t, "size", chromedp.SetValue(chromedp.CSS("#alpha"), "0.05"), chromedp.SetValue(chromedp.CSS("#power"), "0.9"),
 			chromedp.SetValue(chromedp.CSS("#dropout"), "0.1"),
 			chromedp.Click(chromedp.CSS("button.primary")), chromedp.WaitVisible(chromedp.CSS("#answer")))
