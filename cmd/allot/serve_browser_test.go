@@ -16,6 +16,7 @@ import (
 	"github.com/allotproject/allot/power/sim"
 
 	"github.com/chromedp/cdproto/browser"
+	"github.com/chromedp/cdproto/emulation"
 	"github.com/chromedp/chromedp"
 )
 
@@ -86,7 +87,7 @@ func TestServeInBrowser(t *testing.T) {
 	}
 	step := func(t *testing.T, name string, steps ...chromedp.Action[chromedp.Void]) {
 		t.Helper()
-		c, cancel := context.WithTimeout(bctx, 60*time.Second)
+		c, cancel := context.WithTimeout(bctx, 20*time.Second)
 		defer cancel()
 		if err := chromedp.Do(c, steps...); err != nil {
 			t.Fatalf("%s: %v", name, err)
@@ -196,6 +197,29 @@ func TestServeInBrowser(t *testing.T) {
 		}
 		a11y(t, "size")
 		screenshot(t, "size")
+	})
+
+	// The forms need no script: only the copy buttons do, and they stay
+	// hidden without it.
+	t.Run("without JavaScript", func(t *testing.T) {
+		if _, err := chromedp.Call(bctx, emulation.SetScriptExecutionDisabled, emulation.SetScriptExecutionDisabledParams{Value: true}); err != nil {
+			t.Fatal(err)
+		}
+		defer chromedp.Call(bctx, emulation.SetScriptExecutionDisabled, emulation.SetScriptExecutionDisabledParams{Value: false})
+		step(t, "navigate", chromedp.Navigate(base+"/size"))
+		step(t, "groups", chromedp.SendKeys(chromedp.CSS("#groups"), "3"))
+		step(t, "f", chromedp.SendKeys(chromedp.CSS("#f"), "0.4"))
+		step(t, "click", chromedp.Click(chromedp.CSS("button.primary")))
+		step(t, "answer", chromedp.WaitVisible(chromedp.CSS("#answer")))
+		hidden, err := chromedp.Run(bctx, chromedp.AttributeValue(chromedp.CSS("button.copy"), "hidden"))
+		if err != nil || !hidden.Exists {
+			t.Errorf("the copy button shows without script (%v)", err)
+		}
+		want, _ := cli(t, "allot size --f 0.4 --groups 3 --json")
+		want = strings.Replace(want, "--groups 3 --json", "--groups 3", 1)
+		if got := text(t, "#answer-json"); got != want {
+			t.Errorf("page JSON without script differs:\n%s", got)
+		}
 	})
 
 	var workbookPath string
