@@ -149,6 +149,14 @@ func TestServeInBrowser(t *testing.T) {
 		for _, p := range problems {
 			t.Errorf("%s: %s", name, p)
 		}
+		// A tablet held upright (768 CSS pixels wide) reads without
+		// scrolling sideways too.
+		step(t, "portrait", chromedp.EmulateViewport(768, 1024))
+		wide, err := chromedp.Run(bctx, chromedp.Evaluate[bool](`document.documentElement.scrollWidth > window.innerWidth`))
+		step(t, "landscape", chromedp.ResetViewport())
+		if err != nil || wide {
+			t.Errorf("%s: wider than a 768-pixel tablet (%v)", name, err)
+		}
 	}
 	// cli runs the command shown on a page with extra arguments.
 	cli := func(t *testing.T, command string, extra ...string) (string, int) {
