@@ -181,7 +181,11 @@ func (f *Form) float(name string) float64 {
 	}
 	v, err := strconv.ParseFloat(strings.ReplaceAll(s, " ", ""), 64)
 	if err != nil {
-		x.Error = strconv.Quote(x.Value) + " is not a number; write it with a decimal point, for example 0.25"
+		example := x.Default
+		if example == "" {
+			example = "2.5"
+		}
+		x.Error = strconv.Quote(x.Value) + " is not a number; write it with a decimal point, for example " + example
 		return 0
 	}
 	c := strconv.FormatFloat(v, 'g', -1, 64)
@@ -203,7 +207,11 @@ func (f *Form) int(name string) int {
 	}
 	v, err := strconv.Atoi(s)
 	if err != nil {
-		x.Error = strconv.Quote(x.Value) + " is not a whole number, for example 6"
+		example := x.Default
+		if example == "" {
+			example = "6"
+		}
+		x.Error = strconv.Quote(x.Value) + " is not a whole number, for example " + example
 		return 0
 	}
 	c := strconv.Itoa(v)
