@@ -39,6 +39,23 @@ func PowerCurve(path string, series []power.Series, a power.Answer, force bool) 
 	if ext != "svg" && ext != "png" {
 		return fmt.Errorf("--curve %s: the file name must end in .svg or .png", path)
 	}
+	fig, err := PowerCurveFigure(series, a)
+	if err != nil {
+		return err
+	}
+	b, err := fig.Render(ext)
+	if err != nil {
+		return err
+	}
+	return atomicfile.Write(path, force, func(w io.Writer) error {
+		_, err := w.Write(b)
+		return err
+	})
+}
+
+// PowerCurveFigure draws power against n for the series, with the target
+// power and the answer's n marked (the figure PowerCurve writes).
+func PowerCurveFigure(series []power.Series, a power.Answer) (Figure, error) {
 	p := plot.New()
 	p.Title.Text = fmt.Sprintf("Power of the %s (alpha %s)", a.TestName, short(a.Alpha))
 	p.X.Label.Text = a.NUnit
@@ -52,7 +69,7 @@ func PowerCurve(path string, series []power.Series, a power.Answer, force bool) 
 		}
 		l, err := plotter.NewLine(xy)
 		if err != nil {
-			return err
+			return Figure{}, err
 		}
 		l.Color = palette[i%len(palette)]
 		l.Width = vg.Points(2)
@@ -74,7 +91,7 @@ func PowerCurve(path string, series []power.Series, a power.Answer, force bool) 
 	if a.N > 0 {
 		mark, err := plotter.NewLine(plotter.XYs{{X: float64(a.N), Y: 0}, {X: float64(a.N), Y: 1}})
 		if err != nil {
-			return err
+			return Figure{}, err
 		}
 		mark.Color, mark.Dashes = grey, []vg.Length{vg.Points(1), vg.Points(3)}
 		p.Add(mark)
@@ -83,12 +100,5 @@ func PowerCurve(path string, series []power.Series, a power.Answer, force bool) 
 	p.Legend.Top, p.Legend.Left = false, false
 	p.Legend.XOffs, p.Legend.YOffs = -vg.Points(6), vg.Points(30)
 	p.Legend.ThumbnailWidth = vg.Points(24)
-	wt, err := p.WriterTo(7*vg.Inch, 4.5*vg.Inch, ext)
-	if err != nil {
-		return err
-	}
-	return atomicfile.Write(path, force, func(w io.Writer) error {
-		_, err := wt.WriteTo(w)
-		return err
-	})
+	return Figure{Name: "power-curve", Title: p.Title.Text, plot: p, w: 7 * vg.Inch, h: 4.5 * vg.Inch}, nil
 }

@@ -68,7 +68,7 @@ data-entry workbooks, and the ANOVA that matches the design.` + "\n" + exitHelp,
 	root.SetFlagErrorFunc(func(c *cobra.Command, err error) error {
 		return &usageError{err: err, showUsage: true}
 	})
-	root.AddCommand(newDemoCmd(s, nil), newSizeCmd(s, nil), newLayoutCmd(s, nil), newUnblindCmd(s, nil), newCheckCmd(s, nil), newAnalyzeCmd(s, nil))
+	root.AddCommand(newDemoCmd(s, nil), newSizeCmd(s, nil), newLayoutCmd(s, nil), newUnblindCmd(s, nil), newCheckCmd(s, nil), newAnalyzeCmd(s, nil), newServeCmd(s, nil))
 	return root
 }
 

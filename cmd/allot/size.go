@@ -3,12 +3,11 @@ package main
 import (
 	"errors"
 	"fmt"
-	"strconv"
 	"strings"
 
+	"github.com/allotproject/allot/internal/options"
 	"github.com/allotproject/allot/internal/version"
 	"github.com/allotproject/allot/power"
-	"github.com/allotproject/allot/power/sim"
 	"github.com/allotproject/allot/report"
 
 	"github.com/spf13/cobra"
@@ -126,80 +125,15 @@ number of --workers; Ctrl-C stops early and prints what is done.` + "\n" + exitH
 	return cmd
 }
 
-// resolve turns the flag strings into the request.
+// resolve turns the flag strings into the request (package options does
+// the work, shared with the web pages of allot serve).
 func (o *sizeOptions) resolve(c *cobra.Command) error {
-	r := &o.req
-	switch o.design {
-	case "crd":
-	case "rcbd":
-		r.Blocked = true
-	default:
-		return usagef("--design %s: must be crd (completely randomised) or rcbd (randomised complete blocks)", o.design)
+	req, levels, err := options.Size{Req: o.req, Factors: o.factors, Term: o.term, Design: o.design, Blocks: o.blocks,
+		BlocksSet: c.Flags().Changed("blocks"), NSet: c.Flags().Changed("n"), Means: o.means, Ratios: o.ratios, Compare: o.compare}.Request()
+	if err != nil {
+		return usagef("%s", err)
 	}
-	if c.Flags().Changed("blocks") {
-		if o.blocks < 2 {
-			return usagef("--blocks %d: a block design needs at least 2 blocks", o.blocks)
-		}
-		if c.Flags().Changed("n") {
-			return usagef("--blocks %d: give either --blocks or --n, not both", o.blocks)
-		}
-		r.Blocked, r.N = true, o.blocks
-	}
-	for _, spec := range o.factors {
-		name, levels, ok := strings.Cut(spec, "=")
-		name = strings.TrimSpace(name)
-		if !ok || name == "" || levels == "" {
-			return usagef("--factor %s: write NAME=LEVELS, for example dose=3 or diet=chow,fat", spec)
-		}
-		k, err := strconv.Atoi(levels)
-		names := sim.Levels(max(k, 0))
-		if err != nil {
-			list := strings.Split(levels, ",")
-			seen := map[string]bool{}
-			names = nil
-			for _, l := range list {
-				l = strings.TrimSpace(l)
-				if l == "" || seen[l] {
-					return usagef("--factor %s: level names must be non-empty and distinct", spec)
-				}
-				seen[l] = true
-				names = append(names, l)
-			}
-			k = len(list)
-		}
-		o.sim.levels = append(o.sim.levels, names)
-		if k < 2 {
-			return usagef("--factor %s: factor %q needs at least 2 levels", spec, name)
-		}
-		r.Factors = append(r.Factors, power.Factor{Name: name, Levels: k})
-	}
-	if o.term != "" {
-		for _, t := range strings.Split(o.term, ",") {
-			r.Term = append(r.Term, strings.TrimSpace(t))
-		}
-	}
-	var err error
-	if r.Means, err = floatList("means", o.means); err != nil {
-		return err
-	}
-	if r.Ratios, err = floatList("ratios", o.ratios); err != nil {
-		return err
-	}
-	switch o.compare {
-	case "":
-		r.Test = power.TestF
-		if r.D > 0 || r.Sides == 1 {
-			r.Test = power.TestT
-		}
-	case "control":
-		r.Test = power.TestControl
-	case "pairs":
-		r.Test = power.TestAllPairs
-	case "dunnett":
-		r.Test = power.TestDunnett
-	default:
-		return usagef("--compare %s: must be control, dunnett or pairs", o.compare)
-	}
+	o.req, o.sim.levels = req, levels
 	if o.curve != "" && !strings.HasSuffix(o.curve, ".svg") && !strings.HasSuffix(o.curve, ".png") {
 		return usagef("--curve %s: the file name must end in .svg or .png", o.curve)
 	}
@@ -230,28 +164,14 @@ func commandLine(c *cobra.Command) string {
 	return strings.Join(parts, " ")
 }
 
-// shellQuote quotes s for a POSIX shell when it holds anything but safe
-// characters.
-func shellQuote(s string) string {
-	if s != "" && strings.Trim(s, "abcdefghijklmnopqrstuvwxyzABCDEFGHIJKLMNOPQRSTUVWXYZ0123456789.,=_-+:/") == "" {
-		return s
-	}
-	return "'" + strings.ReplaceAll(s, "'", `'\''`) + "'"
-}
+func shellQuote(s string) string { return options.ShellQuote(s) }
 
 func floatList(flag, s string) ([]float64, error) {
-	if s == "" {
-		return nil, nil
+	v, err := options.FloatList(flag, s)
+	if err != nil {
+		return nil, usagef("%s", err)
 	}
-	var out []float64
-	for _, p := range strings.Split(s, ",") {
-		v, err := strconv.ParseFloat(strings.TrimSpace(p), 64)
-		if err != nil {
-			return nil, usagef("--%s %s: %q is not a number; give a comma list such as 10,12.5,14", flag, s, p)
-		}
-		out = append(out, v)
-	}
-	return out, nil
+	return v, nil
 }
 
 func sizeRun(s *streams, o *sizeOptions) error {
