@@ -77,6 +77,7 @@ data-entry workbooks, and the ANOVA that matches the design.` + "\n" + exitHelp,
 		newAnalyzeCmd(s, nil),
 		newLabelsCmd(s, nil),
 		newSheetCmd(s, nil),
+		newServeCmd(s, nil),
 	)
 	return root
 }
