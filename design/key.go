@@ -6,6 +6,7 @@ import (
 	"encoding/hex"
 	"encoding/json"
 	"fmt"
+	"io"
 )
 
 // Key is the unblinding key of a blind layout: the seed (which, with the
@@ -77,6 +78,15 @@ func KeyOf(l Layout) Key {
 	}
 	k.MAC = k.mac()
 	return k
+}
+
+// WriteKey writes k as a key file: indented JSON, as ParseKey reads it.
+// allot layout --key and the layout page of allot serve both write keys
+// with it, so that their files have one format.
+func WriteKey(w io.Writer, k Key) error {
+	enc := json.NewEncoder(w)
+	enc.SetIndent("", "  ")
+	return enc.Encode(k)
 }
 
 func (k Key) mac() string {

@@ -46,11 +46,29 @@ func PowerCurve(path string, series []power.Series, a power.Answer, force bool) 
 // dashed and labelled with what it is, and the target power and the chosen
 // n are marked.
 func PowerCurveFor(path string, series []power.Series, sz Size, force bool) error {
-	a := sz.Answer
 	ext := strings.TrimPrefix(strings.ToLower(filepath.Ext(path)), ".")
 	if ext != "svg" && ext != "png" {
 		return fmt.Errorf("--curve %s: the file name must end in .svg or .png", path)
 	}
+	fig, err := PowerCurveFigure(series, sz)
+	if err != nil {
+		return err
+	}
+	b, err := fig.Render(ext)
+	if err != nil {
+		return err
+	}
+	return atomicfile.Write(path, force, func(w io.Writer) error {
+		_, err := w.Write(b)
+		return err
+	})
+}
+
+// PowerCurveFigure draws power against n for the series in the study's
+// words, with the target power and the answer's n marked (the figure
+// PowerCurveFor writes).
+func PowerCurveFigure(series []power.Series, sz Size) (Figure, error) {
+	a := sz.Answer
 	p := plot.New()
 	p.Title.Text = fmt.Sprintf("Power of the %s (alpha %s)", a.TestName, short(a.Alpha))
 	p.X.Label.Text = sz.nUnit()
@@ -68,7 +86,7 @@ func PowerCurveFor(path string, series []power.Series, sz Size, force bool) erro
 		}
 		l, err := plotter.NewLine(xy)
 		if err != nil {
-			return err
+			return Figure{}, err
 		}
 		l.Color = palette[i%len(palette)]
 		l.Width = vg.Points(2)
@@ -86,7 +104,7 @@ func PowerCurveFor(path string, series []power.Series, sz Size, force bool) erro
 	if a.N > 0 {
 		mark, err := plotter.NewLine(plotter.XYs{{X: float64(a.N), Y: 0}, {X: float64(a.N), Y: 1}})
 		if err != nil {
-			return err
+			return Figure{}, err
 		}
 		mark.Color, mark.Dashes = grey, []vg.Length{vg.Points(1), vg.Points(3)}
 		p.Add(mark)
@@ -98,14 +116,7 @@ func PowerCurveFor(path string, series []power.Series, sz Size, force bool) erro
 	p.Legend.XOffs, p.Legend.YOffs = -vg.Points(6), vg.Points(30)
 	p.Legend.Padding = vg.Points(2)
 	p.Legend.ThumbnailWidth = vg.Points(24)
-	wt, err := p.WriterTo(7*vg.Inch, 4.5*vg.Inch, ext)
-	if err != nil {
-		return err
-	}
-	return atomicfile.Write(path, force, func(w io.Writer) error {
-		_, err := wt.WriteTo(w)
-		return err
-	})
+	return Figure{Name: "power-curve", Title: p.Title.Text, plot: p, w: 7 * vg.Inch, h: 4.5 * vg.Inch}, nil
 }
 
 // integerTicks labels whole numbers only, about eight of them, at steps of

@@ -1,16 +1,17 @@
 package main
 
 import (
+	"errors"
 	"fmt"
 	"io"
 	"os"
 	"path/filepath"
 	"strings"
 
-	"github.com/allotproject/allot/analyze"
 	"github.com/allotproject/allot/design"
 	"github.com/allotproject/allot/design/workbook"
 	"github.com/allotproject/allot/internal/atomicfile"
+	"github.com/allotproject/allot/internal/options"
 	"github.com/allotproject/allot/internal/version"
 	"github.com/allotproject/allot/report"
 
@@ -104,19 +105,8 @@ func (o *analyzeOptions) plainCSV() bool {
 }
 
 func (o *analyzeOptions) validate() error {
-	if o.ss < 1 || o.ss > 3 {
-		return usagef("--ss %d: must be 1, 2 or 3 (Type I sequential, II, or III)", o.ss)
-	}
-	if !(o.alpha > 0 && o.alpha < 1) {
-		return usagef("--alpha %g: must be between 0 and 1 (for example 0.05)", o.alpha)
-	}
-	switch o.posthoc {
-	case analyze.MethodTukey, analyze.MethodDunnett, analyze.MethodHolm, analyze.MethodNone:
-	default:
-		return usagef("--posthoc %s: must be tukey, dunnett, holm or none", o.posthoc)
-	}
-	if o.sides != 1 && o.sides != 2 {
-		return usagef("--sides %d: must be 1 or 2", o.sides)
+	if err := o.settings().Validate(); err != nil {
+		return usagef("%s", err)
 	}
 	if o.json {
 		o.format = "json"
@@ -142,13 +132,11 @@ func (o *analyzeOptions) validate() error {
 }
 
 // job is one response to analyse.
-type job struct {
-	data      analyze.Data
-	missing   int
-	control   string
-	unit      string
-	blockName string
-	simulated bool
+type job = options.Job
+
+// settings are the analysis flags as package options takes them.
+func (o *analyzeOptions) settings() options.Analysis {
+	return options.Analysis{SS: o.ss, Alpha: o.alpha, PostHoc: o.posthoc, Control: o.control, Sides: o.sides}
 }
 
 func analyzeRun(s *streams, o *analyzeOptions) error {
@@ -158,21 +146,15 @@ func analyzeRun(s *streams, o *analyzeOptions) error {
 	}
 	var all []report.Analysis
 	for i, j := range jobs {
-		control := o.control
-		if control == "" {
-			control = j.control
+		res, err := j.Run(o.settings())
+		var oe *options.Error
+		if errors.As(err, &oe) {
+			return usagef("%s", err)
 		}
-		if o.posthoc == analyze.MethodDunnett && control == "" {
-			return usagef("--posthoc dunnett: give --control LEVEL (the plan names no control)")
-		}
-		res, err := analyze.Run(j.data, analyze.RunOptions{
-			Options: analyze.Options{SSType: o.ss, Alpha: o.alpha},
-			PostHoc: o.posthoc, Control: control, Sides: o.sides,
-		})
 		if err != nil {
-			return inputErr(fmt.Errorf("%s: %s: %w", o.read.file, j.data.Response, err))
+			return inputErr(fmt.Errorf("%s: %s: %w", o.read.file, j.Data.Response, err))
 		}
-		a := report.Analysis{Result: res, Missing: j.missing, Unit: j.unit, BlockName: j.blockName, Simulated: j.simulated}
+		a := report.Analysis{Result: res, Missing: j.Missing, Unit: j.Unit, BlockName: j.BlockName, Simulated: j.Simulated}
 		all = append(all, a)
 		if i > 0 && o.format != "json" {
 			fmt.Fprintln(s.Out)
@@ -229,70 +211,22 @@ func (o *analyzeOptions) jobs() ([]job, *design.Plan, []string, error) {
 		if missing > 0 {
 			check = append(check, fmt.Sprintf("%s: %d row(s) have no %s and were left out", o.read.file, missing, o.response))
 		}
-		return []job{{data: dataOf(o.response, obs, o.factors, nil, o.block), missing: missing, unit: "unit", blockName: o.block}}, nil, check, nil
+		return []job{{Data: options.DataOf(o.response, obs, o.factors, nil, o.block), Missing: missing, Unit: "unit", BlockName: o.block}}, nil, check, nil
 	}
 	fl, err := readFilled(&o.read)
 	if err != nil {
 		return nil, nil, nil, err
 	}
-	if n := fl.Errors(); n > 0 {
-		var b strings.Builder
-		for _, p := range fl.Problems {
-			if p.Severity == workbook.Error {
-				b.WriteString("\n  " + p.String())
-			}
-		}
-		return nil, nil, nil, &failedError{err: fmt.Errorf("%s: %d error(s) must be corrected before analysis (allot check lists them):%s", o.read.file, n, b.String())}
+	out, plan, check, err := options.WorkbookJobs(fl, o.read.file, o.response)
+	var cf *options.CheckFailedError
+	var oe *options.Error
+	switch {
+	case errors.As(err, &cf):
+		return nil, nil, nil, &failedError{err: err}
+	case errors.As(err, &oe):
+		return nil, nil, nil, usagef("%s", err)
+	case err != nil:
+		return nil, nil, nil, inputErr(err)
 	}
-	if fl.Sealed {
-		return nil, nil, nil, inputErr(fmt.Errorf("%s: the workbook is blind; give its --key to unblind it for analysis", o.read.file))
-	}
-	p := fl.Layout.Plan
-	var out []job
-	for k, r := range fl.Responses {
-		if o.response != "" && r != o.response {
-			continue
-		}
-		obs := fl.Observations(k)
-		if len(obs.Values) == 0 && len(obs.Subsamples) == 0 {
-			return nil, nil, nil, inputErr(fmt.Errorf("%s: response %q has no values yet; fill it in first", o.read.file, r))
-		}
-		var names [][]string
-		var fnames []string
-		for _, f := range p.Factors {
-			fnames = append(fnames, f.Name)
-			names = append(names, f.Levels)
-		}
-		block := ""
-		if p.Design == design.RCBD {
-			block = p.BlockName
-		}
-		d := dataOf(r, obs, fnames, names, block)
-		d.BlockInteraction = p.Generalised()
-		out = append(out, job{data: d, missing: len(fl.Layout.Units) - len(obs.Units), control: p.Control, unit: "unit", blockName: p.BlockName, simulated: fl.Simulated()})
-	}
-	if len(out) == 0 {
-		return nil, nil, nil, usagef("--response %s: the plan has no such response (responses: %s)", o.response, strings.Join(fl.Responses, ", "))
-	}
-	var check []string
-	for _, pr := range fl.Problems {
-		check = append(check, pr.String())
-	}
-	return out, &p, check, nil
-}
-
-// dataOf turns observations into analysis data.
-func dataOf(response string, obs workbook.Observations, factors []string, levels [][]string, block string) analyze.Data {
-	d := analyze.Data{Response: response, Values: obs.Values, Subsamples: obs.Subsamples, Units: obs.Units, Where: obs.Cells}
-	for i, f := range factors {
-		c := analyze.Column{Name: f, Values: obs.Levels[i]}
-		if levels != nil {
-			c.Levels = levels[i]
-		}
-		d.Factors = append(d.Factors, c)
-	}
-	if block != "" && obs.Blocks != nil {
-		d.Block = &analyze.Column{Name: block, Values: obs.Blocks}
-	}
-	return d
+	return out, plan, check, nil
 }

@@ -2,7 +2,6 @@ package main
 
 import (
 	"bytes"
-	"encoding/json"
 	"errors"
 	"fmt"
 	"io"
@@ -377,7 +376,8 @@ func layoutRun(s *streams, o *layoutOptions) error {
 	// The key goes first: a blind workbook is never written without it.
 	// Everything else sees the sealed layout only.
 	if plan.Blind {
-		if err := writeJSONFile(o.key, design.KeyOf(lay), o.force, atomicfile.Private()); err != nil {
+		key := design.KeyOf(lay)
+		if err := atomicfile.Write(o.key, o.force, func(w io.Writer) error { return design.WriteKey(w, key) }, atomicfile.Private()); err != nil {
 			return inputErr(fmt.Errorf("--key %s: %w", o.key, err))
 		}
 	}
@@ -432,14 +432,6 @@ func writeLayout(path string, lay design.Layout, o *layoutOptions) error {
 		return inputErr(err)
 	}
 	return nil
-}
-
-func writeJSONFile(path string, v any, force bool, opts ...atomicfile.Option) error {
-	return atomicfile.Write(path, force, func(w io.Writer) error {
-		enc := json.NewEncoder(w)
-		enc.SetIndent("", "  ")
-		return enc.Encode(v)
-	}, opts...)
 }
 
 type verifyOptions struct {

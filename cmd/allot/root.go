@@ -48,6 +48,7 @@ data-entry workbooks, and the ANOVA that matches the design.` + "\n" + exitHelp,
 		newLabelsCmd(s, nil),
 		newSheetCmd(s, nil),
 		newDocsCmd(s, nil),
+		newServeCmd(s, nil),
 	)
 	root.SetHelpCommand(newHelpCmd())
 	root.InitDefaultCompletionCmd()

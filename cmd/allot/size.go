@@ -5,11 +5,11 @@ import (
 	"fmt"
 	"io"
 	"os"
-	"strconv"
 	"strings"
 
 	"github.com/allotproject/allot/design"
 	"github.com/allotproject/allot/internal/atomicfile"
+	"github.com/allotproject/allot/internal/options"
 	"github.com/allotproject/allot/internal/version"
 	"github.com/allotproject/allot/power"
 	"github.com/allotproject/allot/report"
@@ -171,94 +171,17 @@ number of --workers; Ctrl-C stops early and prints what is done.` + "\n" + exitH
 	return cmd
 }
 
-// resolve turns the flag strings into the request.
+// resolve turns the flag strings into the request (package options does
+// the work, shared with the web pages of allot serve).
 func (o *sizeOptions) resolve(c *cobra.Command) error {
-	r := &o.req
-	r.Explicit = map[string]bool{}
-	for _, name := range []string{"alpha", "power", "sides", "n", "pilot-conf"} {
-		r.Explicit[name] = c.Flags().Changed(name)
+	given := map[string]bool{}
+	c.Flags().Visit(func(f *pflag.Flag) { given[f.Name] = true })
+	req, study, err := options.Size{Req: o.req, Study: o.study, Factors: o.factors, Term: o.term, Design: o.design,
+		Blocks: o.blocks, Means: o.means, Ratios: o.ratios, Levels: o.levels, Compare: o.compare, Given: given}.Request()
+	if err != nil {
+		return usagef("%s", err)
 	}
-	if c.Flags().Changed("groups") && o.req.Groups > power.MaxCells {
-		return usagef("--groups %d: at most %d groups are supported", o.req.Groups, power.MaxCells)
-	}
-	switch o.study.Subjects {
-	case "animals", "plants", "units":
-	default:
-		return usagef("--subjects %s: must be animals, plants or units", o.study.Subjects)
-	}
-	if o.levels != "" {
-		for _, l := range strings.Split(o.levels, ",") {
-			r.Levels = append(r.Levels, strings.TrimSpace(l))
-		}
-	}
-	switch o.design {
-	case "crd":
-	case "rcbd":
-		r.Blocked = true
-	default:
-		return usagef("--design %s: must be crd (completely randomised) or rcbd (randomised complete blocks)", o.design)
-	}
-	if c.Flags().Changed("blocks") {
-		if o.blocks < 2 {
-			return usagef("--blocks %d: a block design needs at least 2 blocks", o.blocks)
-		}
-		if c.Flags().Changed("n") {
-			return usagef("--blocks %d: give either --blocks or --n, not both", o.blocks)
-		}
-		r.Blocked, r.N = true, o.blocks
-	}
-	for _, spec := range o.factors {
-		fa, err := design.ParseFactorOrCount(spec)
-		var de *design.Error
-		if errors.As(err, &de) {
-			return usagef("--factor %s", de.Msg)
-		} else if err != nil {
-			return err
-		}
-		if len(fa.Levels) > power.MaxCells {
-			return usagef("--factor %s: at most %d levels are supported", spec, power.MaxCells)
-		}
-		var names []string
-		if _, lv, _ := strings.Cut(spec, "="); !isCount(lv) {
-			names = fa.Levels
-		}
-		r.Factors = append(r.Factors, power.Factor{Name: fa.Name, Levels: len(fa.Levels), Names: names})
-	}
-	if o.term != "" {
-		for _, t := range strings.Split(o.term, ",") {
-			r.Term = append(r.Term, strings.TrimSpace(t))
-		}
-	}
-	var err error
-	if r.Means, err = floatList("means", o.means); err != nil {
-		return err
-	}
-	if r.Ratios, err = floatList("ratios", o.ratios); err != nil {
-		return err
-	}
-	switch o.compare {
-	case "":
-		r.Test = power.TestF
-		if r.D > 0 || r.Sides == 1 {
-			r.Test = power.TestT
-		}
-	case "control":
-		r.Test = power.TestControl
-	case "pairs":
-		r.Test = power.TestAllPairs
-	case "pairs-bonferroni":
-		r.Test = power.TestPairsBonferroni
-	case "dunnett":
-		r.Test = power.TestDunnett
-	default:
-		return usagef("--compare %s: must be control, dunnett, pairs (Tukey) or pairs-bonferroni", o.compare)
-	}
-	if r.Direction != "" && !c.Flags().Changed("sides") {
-		r.Sides = 0 // --direction implies one side
-	}
-	if o.compare == "" && r.Direction != "" {
-		r.Test = power.TestT
-	}
+	o.req, o.study = req, study
 	if o.curve != "" && !strings.HasSuffix(o.curve, ".svg") && !strings.HasSuffix(o.curve, ".png") {
 		return usagef("--curve %s: the file name must end in .svg or .png", o.curve)
 	}
@@ -306,36 +229,19 @@ func commandLine(c *cobra.Command) string {
 	return strings.Join(parts, " ")
 }
 
-// shellQuote quotes s for a POSIX shell when it holds anything but safe
-// characters.
-func shellQuote(s string) string {
-	if s != "" && strings.Trim(s, "abcdefghijklmnopqrstuvwxyzABCDEFGHIJKLMNOPQRSTUVWXYZ0123456789.,=_-+:/") == "" {
-		return s
-	}
-	return "'" + strings.ReplaceAll(s, "'", `'\''`) + "'"
-}
+func shellQuote(s string) string { return options.ShellQuote(s) }
 
 func floatList(flag, s string) ([]float64, error) {
-	if s == "" {
-		return nil, nil
+	v, err := options.FloatList(flag, s)
+	if err != nil {
+		return nil, usagef("%s", err)
 	}
-	var out []float64
-	for _, p := range strings.Split(s, ",") {
-		v, err := strconv.ParseFloat(strings.TrimSpace(p), 64)
-		if err != nil {
-			return nil, usagef("--%s %s: %q is not a number; give a comma list such as 10,12.5,14", flag, s, p)
-		}
-		out = append(out, v)
-	}
-	return out, nil
+	return v, nil
 }
 
 func sizeRun(s *streams, o *sizeOptions) error {
 	if o.sim.on {
 		return simulateRun(s, o)
-	}
-	if o.study.BlockName == "" && o.req.Blocked {
-		o.study.BlockName = "block"
 	}
 	if o.resource {
 		ra, err := power.Resource(o.req)
@@ -396,10 +302,4 @@ func sizeRun(s *streams, o *sizeOptions) error {
 		return report.JustificationText(s.Out, rep)
 	}
 	return nil
-}
-
-// isCount reports whether a --factor's levels are given as a count (dose=3).
-func isCount(levels string) bool {
-	_, err := strconv.Atoi(strings.TrimSpace(levels))
-	return err == nil
 }
