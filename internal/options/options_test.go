@@ -50,7 +50,7 @@ func TestSizeRequest(t *testing.T) {
 		}, "", ""},
 		{"subjects", Size{Design: "crd", Study: report.Study{Subjects: "mice"}}, nil, "subjects", "--subjects mice: must be animals, plants or units"},
 		{"too many groups", Size{Req: power.Request{Groups: power.MaxCells + 1}, Design: "crd", Given: map[string]bool{"groups": true}}, nil, "groups", "groups are supported"},
-		{"factor too many levels", Size{Design: "crd", Factors: []string{"dose=100000"}}, nil, "factor", "levels are supported"},
+		{"factor too many levels", Size{Design: "crd", Factors: []string{"dose=100000"}}, nil, "factor", "at most"},
 		{"bad design", Size{Design: "latin"}, nil, "design", "--design latin: must be crd"},
 		{"one block", Size{Design: "crd", Blocks: 1, Given: map[string]bool{"blocks": true}}, nil, "blocks", "at least 2 blocks"},
 		{"blocks and n", Size{Design: "crd", Blocks: 4, Given: map[string]bool{"blocks": true, "n": true}}, nil, "blocks", "not both"},

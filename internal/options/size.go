@@ -1,9 +1,11 @@
 package options
 
 import (
+	"errors"
 	"strconv"
 	"strings"
 
+	"github.com/allotproject/allot/design"
 	"github.com/allotproject/allot/power"
 	"github.com/allotproject/allot/report"
 )
@@ -124,32 +126,29 @@ func (s Size) Request() (power.Request, report.Study, error) {
 }
 
 // parseFactor reads --factor NAME=LEVELS, LEVELS a count or a comma list
-// of distinct names.
+// of distinct names, with the one factor grammar of design
+// (design.ParseFactorOrCount); a count leaves the names to the plan.
 func parseFactor(spec string) (power.Factor, error) {
-	name, levels, ok := strings.Cut(spec, "=")
-	name = strings.TrimSpace(name)
-	if !ok || name == "" || levels == "" {
-		return power.Factor{}, errorf("factor", "--factor %s: write NAME=LEVELS, for example dose=3 or diet=chow,fat", spec)
+	f, err := design.ParseFactorOrCount(spec)
+	if err != nil {
+		var de *design.Error
+		if errors.As(err, &de) {
+			return power.Factor{}, errorf("factor", "--factor %s", de.Msg)
+		}
+		return power.Factor{}, err
 	}
-	k, err := strconv.Atoi(levels)
-	if err == nil && k > power.MaxCells {
+	if len(f.Levels) > power.MaxCells {
 		return power.Factor{}, errorf("factor", "--factor %s: at most %d levels are supported", spec, power.MaxCells)
 	}
 	var names []string
-	if err != nil {
-		seen := map[string]bool{}
-		for _, l := range strings.Split(levels, ",") {
-			l = strings.TrimSpace(l)
-			if l == "" || seen[l] {
-				return power.Factor{}, errorf("factor", "--factor %s: level names must be non-empty and distinct", spec)
-			}
-			seen[l] = true
-			names = append(names, l)
-		}
-		k = len(names)
+	if _, levels, _ := strings.Cut(spec, "="); !isCount(levels) {
+		names = f.Levels
 	}
-	if k < 2 {
-		return power.Factor{}, errorf("factor", "--factor %s: factor %q needs at least 2 levels", spec, name)
-	}
-	return power.Factor{Name: name, Levels: k, Names: names}, nil
+	return power.Factor{Name: f.Name, Levels: len(f.Levels), Names: names}, nil
+}
+
+// isCount reports whether a --factor's levels are given as a count (dose=3).
+func isCount(levels string) bool {
+	_, err := strconv.Atoi(strings.TrimSpace(levels))
+	return err == nil
 }
