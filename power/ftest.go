@@ -42,10 +42,19 @@ type Design struct {
 	// Ratios gives unequal allocation for a one-way completely randomised
 	// layout: group i gets ⌈n·Ratios[i]⌉ units. Nil means equal groups.
 	Ratios []float64
+	// Covariate says the analysis adjusts for a baseline covariate whose
+	// correlation (within treatments) with the outcome is CovariateR: the
+	// error variance shrinks by 1 − ρ² and the slope costs one error df
+	// (see EvaluateCovariate).
+	Covariate  bool
+	CovariateR float64
 }
 
 // Validate checks the design and returns an error naming what is wrong.
 func (d Design) Validate() error {
+	if !(d.CovariateR > -1 && d.CovariateR < 1) {
+		return fmt.Errorf("covariate correlation %g: must be strictly between -1 and 1", d.CovariateR)
+	}
 	if len(d.Factors) == 0 {
 		return errors.New("no factors: give the number of groups or at least one factor")
 	}
@@ -180,6 +189,10 @@ func (d Design) EvaluateEffect(n int, e Effect, alpha float64) Result {
 		r.DF2 = float64(total - cells)
 	}
 	r.Lambda = d.Noncentrality(e, sizes)
+	if d.Covariate {
+		r.DF2--
+		r.Lambda /= 1 - d.CovariateR*d.CovariateR
+	}
 	if r.DF2 < 1 {
 		r.FCrit, r.Power = math.NaN(), math.NaN()
 		return r

@@ -63,8 +63,13 @@ type Request struct {
 	BlockShare       float64
 
 	Dropout float64
-	N       int  // evaluate power (or the detectable effect) at this n
-	Detect  bool // report the smallest detectable effect at N
+	// Covariate says the analysis adjusts for a baseline covariate
+	// correlated CovariateR with the outcome (F tests only); a non-zero
+	// CovariateR implies it.
+	Covariate  bool
+	CovariateR float64
+	N          int  // evaluate power (or the detectable effect) at this n
+	Detect     bool // report the smallest detectable effect at N
 	// Explicit marks inputs given explicitly (by flag name: "alpha",
 	// "power", "sides", "n", "pilot-conf"), so that a zero there is refused
 	// rather than replaced by the default.
@@ -132,10 +137,14 @@ type Answer struct {
 	// Detectable is the smallest effect (f, or d for t tests and
 	// comparisons) at the target power; DiffDetectable the same in response
 	// units when an SD was given.
-	Detectable     float64  `json:"detectable_effect,omitempty"`
-	DiffDetectable float64  `json:"detectable_difference,omitempty"`
-	ErrorDF        float64  `json:"error_df"`
-	Notes          []string `json:"notes,omitempty"`
+	Detectable     float64 `json:"detectable_effect,omitempty"`
+	DiffDetectable float64 `json:"detectable_difference,omitempty"`
+	ErrorDF        float64 `json:"error_df"`
+	// Covariate marks a planned baseline covariate with correlation
+	// CovariateR.
+	Covariate  bool     `json:"covariate,omitempty"`
+	CovariateR float64  `json:"covariate_r,omitempty"`
+	Notes      []string `json:"notes,omitempty"`
 	// Warnings name the risk of an extreme setting (alpha above 0.2,
 	// attrition of half or more, target power of 0.995 or more).
 	Warnings []string `json:"warnings,omitempty"`
@@ -307,7 +316,13 @@ func (r Request) effectsGiven() []string {
 
 // design builds the Design of the request.
 func (r Request) design() (Design, error) {
-	d := Design{Blocked: r.Blocked, Ratios: r.Ratios, Term: r.Term}
+	d := Design{Blocked: r.Blocked, Ratios: r.Ratios, Term: r.Term, Covariate: r.Covariate || r.CovariateR != 0, CovariateR: r.CovariateR}
+	if !(r.CovariateR > -1 && r.CovariateR < 1) {
+		return d, ferr("covariate-r", r.CovariateR, "the correlation must be strictly between -1 and 1 (for example 0.6)")
+	}
+	if d.Covariate && r.Test != TestF {
+		return d, ferr("covariate-r", r.CovariateR, "a baseline covariate is planned for the F test; leave out --compare, --d and --sides 1 (two groups: the F test is the two-sided t test)")
+	}
 	switch {
 	case len(r.Factors) > 0:
 		d.Factors = r.Factors
@@ -711,8 +726,12 @@ func (a *Answer) fTest(r Request, d Design, eff resolved) error {
 	a.DF1, a.DF2, a.Lambda, a.Crit, a.Power = res.DF1, res.DF2, res.Lambda, res.FCrit, res.Power
 	a.ErrorDF = res.DF2
 	// Cohen's f of the answer: λ/N (for means and differences it follows
-	// from the sizes used).
-	a.F = math.Sqrt(res.Lambda / float64(res.Total))
+	// from the sizes used), without the covariate's gain.
+	a.F = math.Sqrt(res.Lambda * (1 - d.CovariateR*d.CovariateR) / float64(res.Total))
+	if d.Covariate {
+		a.Covariate, a.CovariateR = true, d.CovariateR
+		a.Notes = append(a.Notes, fmt.Sprintf("The analysis adjusts for a baseline covariate correlated r = %s with the outcome: the error variance is taken as %s of its value without it (1 − r²) and the covariate's slope uses one error df (Borm, Fransen and Lemmens 2007); measure the covariate before treatment.", trimSig(d.CovariateR, 3), trimSig(1-d.CovariateR*d.CovariateR, 3)))
+	}
 	switch eff.kind {
 	case "means", "diff":
 		a.EffectText += fmt.Sprintf(", Cohen's f = %s", trimSig(a.F, 4))

@@ -372,6 +372,10 @@ func Justification(s Size) string {
 		}
 		fmt.Fprintf(&b, "The groups are of unequal size: %s. ", strings.Join(parts, ", "))
 	}
+	if s.Covariate {
+		fmt.Fprintf(&b, "The analysis will adjust for a baseline measurement taken before treatment, assumed to correlate r = %s with the outcome within groups; this reduces the error variance to %s of its value without it and uses one degree of freedom (analysis of covariance; Borm, Fransen and Lemmens 2007). ",
+			short(s.CovariateR), num(1-s.CovariateR*s.CovariateR, 3))
+	}
 	if s.Dropout > 0 {
 		fmt.Fprintf(&b, "To allow for an expected loss of %s%% of the %s, %d %s (%d %s in total) will be enrolled. ", short(100*s.Dropout), subj, s.NDropout, per, s.TotalDropout, subj)
 	} else {

@@ -76,7 +76,10 @@ Dunnett critical value) or of all pairs (Tukey's studentized range, as
 allot analyze tests them; or Bonferroni), for --diff with --sd (or --d).
 --sides 1 with --direction lower|higher plans a one-sided test in that
 direction (the treatment below or above the control).
---dropout R adds the attrition allowance n/(1−R), rounded up.
+--dropout R adds the attrition allowance n/(1−R), rounded up. --covariate-r R
+plans an analysis of covariance on a baseline measurement (start weight,
+seedling height) correlated R with the outcome within groups: the error
+variance shrinks by 1 − R² and the slope uses one error df.
 
 --resource answers with Mead's resource equation instead of power: the range
 of n whose error df lies within 10–20, for when no effect size or SD can be
@@ -150,6 +153,7 @@ number of --workers; Ctrl-C stops early and prints what is done.` + "\n" + exitH
 	f.Float64Var(&o.req.BlockShare, "block-share", 0, "rcbd: share `R` of the total variance (--sd) explained by blocks")
 	f.StringVar(&o.compare, "compare", "", "plan comparisons: `control` (each group with the control, Bonferroni), dunnett (the same, Dunnett), pairs (all pairs, Tukey) or pairs-bonferroni")
 	f.Float64Var(&o.req.Dropout, "dropout", 0, "expected attrition fraction `R`: also report n/(1−R)")
+	f.Float64Var(&o.req.CovariateR, "covariate-r", 0, "the analysis adjusts for a baseline covariate correlated `R` with the outcome (error variance × (1 − R²), one error df less)")
 	f.BoolVar(&o.json, "json", false, "print one JSON object instead of the summary")
 	f.BoolVar(&o.justify, "justify", false, "also print a paragraph for an ethics or grant application")
 	f.BoolVar(&o.resource, "resource", false, "give the range of n by the resource equation (error df 10–20) instead of power")

@@ -106,6 +106,7 @@ func TestSizeRun(t *testing.T) {
 	}{
 		{"size_oneway", []string{"size", "--groups", "3", "--f", "0.4"}},
 		{"size_pilot_justify", []string{"size", "--means", "12,15,15,18", "--sd", "3", "--pilot-n", "8", "--dropout", "0.15", "--justify"}},
+		{"size_covariate", []string{"size", "--groups", "3", "--means", "30,33,35", "--sd", "4", "--covariate-r", "0.6", "--subjects", "animals", "--justify"}},
 		{"size_rcbd_power", []string{"size", "--design", "rcbd", "--groups", "5", "--f", "0.6", "--blocks", "6"}},
 		{"size_ttest_detect", []string{"size", "--groups", "2", "--sides", "1", "--n", "10", "--detect", "--sd", "4"}},
 		{"size_factorial_json", []string{"size", "--factor", "dose=3", "--factor", "diet=chow,fat", "--term", "dose,diet", "--f", "0.3", "--json"}},

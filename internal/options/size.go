@@ -42,6 +42,7 @@ func (s Size) Request() (power.Request, report.Study, error) {
 	for _, name := range []string{"alpha", "power", "sides", "n", "pilot-conf"} { // an explicit zero is refused
 		r.Explicit[name] = s.Given[name]
 	}
+	r.Covariate = s.Given["covariate-r"]
 	if s.Given["groups"] && r.Groups > power.MaxCells {
 		return r, st, errorf("groups", "--groups %d: at most %d groups are supported", r.Groups, power.MaxCells)
 	}
