@@ -39,6 +39,7 @@ type sizeOptions struct {
 	force    bool
 	command  string
 	sim      simOptions
+	glm      glmSizeFlags
 }
 
 func newSizeCmd(s *streams, runF func(*sizeOptions) error) *cobra.Command {
@@ -121,6 +122,16 @@ number of --workers; Ctrl-C stops early and prints what is done.` + "\n" + exitH
 		Args: cobra.NoArgs,
 		RunE: func(c *cobra.Command, args []string) error {
 			o.command = commandLine(c)
+			if o.glm.on() {
+				p, err := o.glmPlan(c)
+				if err != nil {
+					return err
+				}
+				if runF != nil {
+					return runF(o)
+				}
+				return glmSizeRun(s, o, p)
+			}
 			if err := o.resolve(c); err != nil {
 				return err
 			}
@@ -130,6 +141,7 @@ number of --workers; Ctrl-C stops early and prints what is done.` + "\n" + exitH
 			return sizeRun(s, o)
 		},
 	}
+	o.glm.add(cmd)
 	f := cmd.Flags()
 	f.IntVar(&o.req.Groups, "groups", 0, fmt.Sprintf("number of groups `K` of a one-way layout (2 to %d)", power.MaxCells))
 	f.StringArrayVar(&o.factors, "factor", nil, "factor `NAME=LEVELS` (a count or a comma list); repeat for a factorial")
