@@ -136,6 +136,9 @@ func (p Plan) validateSplitPlot() error {
 			return errf("whole_plot_name", "the whole-plot name %q is also a response's name; the workbook needs a column for each", p.WholePlotName)
 		}
 	}
+	if len(p.Reps) > 0 && p.Blocks > 1 && p.Reps[0] != 1 {
+		return errf("reps", "replication %d: in blocks, each %s holds one %s of each whole-plot treatment; give more blocks instead", p.Reps[0], p.BlockName, p.MainPlotWord())
+	}
 	if len(p.Reps) > 0 && p.Blocks == 1 && p.Reps[0] < 2 {
 		return errf("reps", "%d %s per whole-plot treatment: a split plot without blocks needs at least 2, or there is no error to test the whole-plot factor against", p.Reps[0], Plural(p.MainPlotWord()))
 	}

@@ -153,6 +153,9 @@ type job struct {
 
 func analyzeRun(s *streams, o *analyzeOptions) error {
 	jobs, plan, check, err := o.jobs()
+	if sw, ok := err.(*strataWorkbook); ok {
+		return analyzeStrata(s, o, sw.fl) // split plots and Latin squares: analyze_strata.go
+	}
 	if err != nil {
 		return err
 	}
@@ -248,6 +251,9 @@ func (o *analyzeOptions) jobs() ([]job, *design.Plan, []string, error) {
 		return nil, nil, nil, inputErr(fmt.Errorf("%s: the workbook is blind; give its --key to unblind it for analysis", o.read.file))
 	}
 	p := fl.Layout.Plan
+	if p.Strata() {
+		return nil, nil, nil, &strataWorkbook{fl: fl}
+	}
 	var out []job
 	for k, r := range fl.Responses {
 		if o.response != "" && r != o.response {

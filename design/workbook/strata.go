@@ -80,3 +80,6 @@ func comboNames(fs []design.Factor) []string {
 	}
 	return out
 }
+
+// TreatmentLevels returns the plan's treatment names in plan order.
+func TreatmentLevels(p design.Plan) []string { return comboNames(p.Factors) }
