@@ -193,3 +193,93 @@ func atoi(t *testing.T, s string) int {
 	}
 	return n
 }
+
+// TestAnalyzeLatinReference lays out the 4 × 4 square of seed 7 (the square
+// testdata/reference/allot_pcg_v1.py derives), fills in the data of
+// latin_layout.json and compares allot analyze with statsmodels' OLS
+// (gen_latin_layout.py), complete and with two cells missing.
+func TestAnalyzeLatinReference(t *testing.T) {
+	b, err := os.ReadFile("../../testdata/reference/latin_layout.json")
+	if err != nil {
+		t.Fatal(err)
+	}
+	var ref struct {
+		Y     []string
+		Cases []struct {
+			Name    string
+			Missing []int
+			Row     struct{ DF, F, P float64 }
+			Column  struct{ DF, F, P float64 }
+			Feed    struct{ DF, F, P float64 }
+			ResidDF float64 `json:"resid_df"`
+		}
+	}
+	if err := json.Unmarshal(b, &ref); err != nil {
+		t.Fatal(err)
+	}
+	dir := t.TempDir()
+	lay, csvPath := filepath.Join(dir, "plan.json"), filepath.Join(dir, "data.csv")
+	args := []string{"layout", "--design", "latin", "--factor", "feed=T0,T1,T2,T3", "--response", "gain", "--seed", "7"}
+	for _, out := range []string{lay, csvPath} {
+		if code, _, errs := runArgs(t, append(args, "-o", out)...); code != 0 {
+			t.Fatalf("layout: exit %d: %s", code, errs)
+		}
+	}
+	blank, _ := os.ReadFile(csvPath)
+	for _, c := range ref.Cases {
+		t.Run(c.Name, func(t *testing.T) {
+			rows, err := csv.NewReader(strings.NewReader(string(blank))).ReadAll()
+			if err != nil {
+				t.Fatal(err)
+			}
+			miss := map[int]bool{}
+			for _, m := range c.Missing {
+				miss[m] = true
+			}
+			for i, r := range rows[1:] {
+				if !miss[i+1] {
+					r[5] = ref.Y[i] // the gain column
+				}
+			}
+			var sb strings.Builder
+			w := csv.NewWriter(&sb)
+			w.WriteAll(rows)
+			os.WriteFile(csvPath, []byte(sb.String()), 0o644)
+			code, out, errs := runArgs(t, "analyze", csvPath, "--plan", lay, "--json")
+			if code != 0 {
+				t.Fatalf("analyze: exit %d: %s", code, errs)
+			}
+			var got struct {
+				Latin struct {
+					Terms []struct {
+						Source string
+						DF     int
+						F, P   float64
+					}
+					Residual struct{ DF int }
+					Missing  int `json:"missing_cells"`
+				}
+			}
+			if err := json.Unmarshal([]byte(out), &got); err != nil {
+				t.Fatal(err)
+			}
+			want := map[string]struct{ DF, F, P float64 }{"row": c.Row, "column": c.Column, "feed": c.Feed}
+			for _, tm := range got.Latin.Terms {
+				w, ok := want[tm.Source]
+				if !ok {
+					t.Errorf("unexpected term %q", tm.Source)
+					continue
+				}
+				delete(want, tm.Source)
+				if float64(tm.DF) != w.DF {
+					t.Errorf("%s df %d, reference %g", tm.Source, tm.DF, w.DF)
+				}
+				near(t, tm.Source+" F", tm.F, w.F, 1e-9)
+				near(t, tm.Source+" p", tm.P, w.P, 1e-8)
+			}
+			if len(want) > 0 || float64(got.Latin.Residual.DF) != c.ResidDF || got.Latin.Missing != len(c.Missing) {
+				t.Errorf("terms left %v, residual df %d (reference %g), missing %d", want, got.Latin.Residual.DF, c.ResidDF, got.Latin.Missing)
+			}
+		})
+	}
+}

@@ -30,6 +30,7 @@ type sizeOptions struct {
 	force   bool
 	command string
 	sim     simOptions
+	split   *splitPlotSize // --design split-plot (size_strata.go)
 }
 
 func newSizeCmd(s *streams, runF func(*sizeOptions) error) *cobra.Command {
@@ -99,7 +100,7 @@ number of --workers; Ctrl-C stops early and prints what is done.` + "\n" + exitH
 	f.IntVar(&o.req.Groups, "groups", 0, "number of groups `K` of a one-way layout")
 	f.StringArrayVar(&o.factors, "factor", nil, "factor `NAME=LEVELS` (a count or a comma list); repeat for a factorial")
 	f.StringVar(&o.term, "term", "", "effect to plan for in a factorial: `NAME` or NAME1,NAME2 for an interaction")
-	f.StringVar(&o.design, "design", "crd", "`crd` (completely randomised) or rcbd (randomised complete blocks)")
+	f.StringVar(&o.design, "design", "crd", "`crd` (completely randomised), rcbd (randomised complete blocks) or split-plot")
 	f.IntVar(&o.blocks, "blocks", 0, "evaluate `B` blocks (implies --design rcbd and --n B)")
 	f.StringVar(&o.ratios, "ratios", "", "unequal allocation, one `RATIO` per group, for example 2,1,1")
 	f.Float64Var(&o.req.Alpha, "alpha", 0.05, "significance level `A`")
@@ -123,12 +124,16 @@ number of --workers; Ctrl-C stops early and prints what is done.` + "\n" + exitH
 	f.StringVar(&o.curve, "curve", "", "write a power curve to `FILE` (.svg or .png)")
 	f.BoolVar(&o.force, "force", false, "overwrite an existing --curve file")
 	o.addSimFlags(f)
+	addSplitPlotSizeFlags(f, o)
 	return cmd
 }
 
 // resolve turns the flag strings into the request.
 func (o *sizeOptions) resolve(c *cobra.Command) error {
 	r := &o.req
+	if o.design == "split-plot" {
+		return o.resolveSplitPlot(c)
+	}
 	switch o.design {
 	case "crd":
 	case "rcbd":
@@ -255,6 +260,9 @@ func floatList(flag, s string) ([]float64, error) {
 }
 
 func sizeRun(s *streams, o *sizeOptions) error {
+	if o.design == "split-plot" {
+		return splitPlotSizeRun(s, o)
+	}
 	if o.sim.on {
 		return simulateRun(s, o)
 	}
