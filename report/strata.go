@@ -51,8 +51,8 @@ func (a StrataAnalysis) sections() []strataSection {
 		out = append(out, strataSection{title: "Two-stratum analysis of variance: " + a.Response, tb: tb, notes: []string{
 			fmt.Sprintf("%s is tested against error (a), the variation between %s treated alike (MS %s on %d df); %s and the interaction against error (b), the variation between sub-plots within %s (MS %s on %d df).",
 				r.Whole, plural2(a.MainPlot), num(r.MSa, 5), r.DFa, r.Sub, plural2(a.MainPlot), num(r.MSb, 5), r.DFb),
-			fmt.Sprintf("For comparison only: treating every sub-plot as randomised on its own would test %s against the pooled residual and give p = %s. That test is wrong for this design: the %s, not the sub-plots, were randomised to %s.",
-				r.Whole, pval(r.NaiveWholeP), plural2(a.MainPlot), r.Whole),
+			fmt.Sprintf("For comparison only: treating every sub-plot as randomised on its own would test %s against the pooled residual and give p %s. That test is wrong for this design: the %s, not the sub-plots, were randomised to %s.",
+				r.Whole, pvalPhrase(r.NaiveWholeP), plural2(a.MainPlot), r.Whole),
 		}})
 		se := table{head: []string{"difference between", "SE of the difference", "df"}, right: []bool{false, true, true}}
 		for _, d := range r.Diffs {

@@ -283,3 +283,43 @@ func TestAnalyzeLatinReference(t *testing.T) {
 		})
 	}
 }
+
+// TestAnalyzeSplitPlotWorkbook: a filled .xlsx with two pots lost runs the
+// REML mixed model and says why; complete, the two-stratum table.
+func TestAnalyzeSplitPlotWorkbook(t *testing.T) {
+	dir := t.TempDir()
+	wb := filepath.Join(dir, "trial.xlsx")
+	if code, _, errs := runArgs(t, "layout", "--design", "split-plot", "--whole-plot", "light=low,high", "--sub-plot", "variety=V1,V2,V3",
+		"--blocks", "3", "--block-name", "room", "--whole-plot-name", "chamber", "--response", "dry_g", "--seed", "5", "-o", wb); code != 0 {
+		t.Fatal(errs)
+	}
+	for _, lost := range []int{0, 2} {
+		vals := make([]float64, 18)
+		for i := range vals {
+			// Test inputs: a room, chamber and pot pattern without a scenario.
+			vals[i] = 10 + float64(i/6) + 0.7*float64((i*7)%5) + 0.3*float64((i*3)%4)
+		}
+		for k := 0; k < lost; k++ {
+			vals[4+7*k] = math.NaN()
+		}
+		filled := filepath.Join(dir, fmt.Sprintf("filled%d.xlsx", lost))
+		if err := workbookFill(wb, filled, vals); err != nil {
+			t.Fatal(err)
+		}
+		code, out, errs := runArgs(t, "analyze", filled)
+		if code != 0 {
+			t.Fatalf("exit %d: %s", code, errs)
+		}
+		want := "two-stratum analysis of variance"
+		if lost > 0 {
+			want = "2 sub-plot value(s) are missing, so the two-stratum ANOVA (which needs every sub-plot) does not apply: a linear mixed model fitted by REML"
+		}
+		if !strings.Contains(strings.ToLower(strings.Join(strings.Fields(out), " ")), strings.ToLower(want)) {
+			t.Errorf("lost %d: output lacks %q:\n%s", lost, want, out)
+		}
+	}
+	code, _, errs := runArgs(t, "analyze", wb, "--report", filepath.Join(dir, "r.html"))
+	if code != exitUsage || !strings.Contains(errs, "--report and --plots are not available") {
+		t.Errorf("--report: exit %d %s", code, errs)
+	}
+}
