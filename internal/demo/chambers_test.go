@@ -23,7 +23,7 @@ func TestChambersEndToEnd(t *testing.T) {
 	}
 	// The replication is the least reaching the target for the whole-plot test.
 	plan := power.SplitPlotPlan{A: 2, B: 3, Means: s.PlanMeans, SDMain: s.PlanSDMain, SDSub: s.PlanSD, Alpha: s.Alpha}
-	if res.R < 2 || plan.Evaluate(res.R)[0].Power < s.Power || res.R > 2 && plan.Evaluate(res.R-1)[0].Power >= s.Power {
+	if res.R < 2 || plan.Evaluate(res.R)[0].Power < s.Power || res.R > 2 && plan.Evaluate(res.R - 1)[0].Power >= s.Power {
 		t.Errorf("r = %d chambers per regime", res.R)
 	}
 	// Each chamber holds one regime and every variety once.
