@@ -6,6 +6,7 @@ import (
 	"strings"
 
 	"github.com/allotproject/allot/power"
+	"github.com/allotproject/allot/power/sim"
 )
 
 // SplitPlotSize is the power of a balanced split plot at R replicates
@@ -22,6 +23,12 @@ type SplitPlotSize struct {
 	Term    *int                  `json:"solved_for,omitempty"`
 	Tests   []power.SplitPlotTest `json:"tests"`
 	MainFor string                `json:"main_plot_name,omitempty"`
+	// Simulated, when set, is the Monte-Carlo power of the same tests with
+	// allot's own analysis (sim.RunSplitPlot), at SimDropout losses and
+	// seed SimSeed.
+	Simulated  *sim.Result `json:"simulated,omitempty"`
+	SimDropout float64     `json:"simulated_dropout,omitempty"`
+	SimSeed    uint64      `json:"simulated_seed,omitempty"`
 	Command string                `json:"command,omitempty"`
 }
 
@@ -60,6 +67,24 @@ func SplitPlotSizeText(w io.Writer, s SplitPlotSize) error {
 		tb.rows = append(tb.rows, []string{t.Term, short(t.DF1), short(t.DF2), num(t.Lambda, 4), num(t.FCrit, 4), fixed(t.Power, 3), t.ErrorSrc})
 	}
 	b.WriteString("\n" + tb.text("  "))
+	if m := s.Simulated; m != nil {
+		fmt.Fprintf(&b, "\nSimulated: %d data sets (seed %d), each analysed as allot analyze would (two-stratum ANOVA; REML mixed model when sub-plots are lost)", m.Sims, s.SimSeed)
+		if s.SimDropout > 0 {
+			fmt.Fprintf(&b, ", each sub-plot lost with probability %s (%.2f lost per data set on average)", short(s.SimDropout), m.MeanLost)
+		}
+		b.WriteString("\n")
+		st := table{head: []string{"test", "exact power", "simulated", "MC SE", "95% interval"}, right: []bool{false, true, true, true, false}}
+		for i, e := range m.Terms {
+			st.rows = append(st.rows, []string{s.Tests[i].Term, fixed(s.Tests[i].Power, 3), fixed(e.P, 4), fixed(e.SE, 4), fmt.Sprintf("[%s, %s]", fixed(e.Lower, 3), fixed(e.Upper, 3))})
+		}
+		b.WriteString(st.text("  "))
+		if m.Failed > 0 {
+			fmt.Fprintf(&b, "  %d data set(s) could not be analysed; counted as not rejecting.\n", m.Failed)
+		}
+		if m.Cancelled {
+			b.WriteString("  Stopped early: the estimates use the data sets done.\n")
+		}
+	}
 	b.WriteString(wrap(fmt.Sprintf("Exact noncentral F for each test of the balanced two-stratum analysis, from the expected mean squares (Cochran and Cox 1957, section 7.14): the whole-plot factor is tested against the variation between %s, so its power depends on the number of %s and on the SD between them, not on the number of sub-plots.", mps, mps), 78, "  "))
 	b.WriteString(wrap("Caution: "+Caution, 78, "  "))
 	_, err := io.WriteString(w, b.String())

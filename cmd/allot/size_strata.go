@@ -1,11 +1,17 @@
 package main
 
 import (
+	"context"
 	"errors"
+	"fmt"
+	"os"
+	"os/signal"
 	"strconv"
 	"strings"
 
 	"github.com/allotproject/allot/power"
+	"github.com/allotproject/allot/power/sim"
+	"github.com/allotproject/allot/randomize"
 	"github.com/allotproject/allot/report"
 
 	"github.com/spf13/cobra"
@@ -38,7 +44,7 @@ func addSplitPlotSizeFlags(f *pflag.FlagSet, o *sizeOptions) {
 // resolveSplitPlot checks the flags of allot size --design split-plot.
 func (o *sizeOptions) resolveSplitPlot(c *cobra.Command) error {
 	sp := o.split
-	for _, name := range []string{"groups", "factor", "f", "eta2", "diff", "d", "compare", "ratios", "curve", "simulate", "pilot-n", "block-share", "sd", "justify"} {
+	for _, name := range []string{"groups", "factor", "f", "eta2", "diff", "d", "compare", "ratios", "curve", "pilot-n", "sds", "block-sd", "subsamples", "subsample-sd", "posthoc", "block-share", "sd", "justify"} {
 		if c.Flags().Changed(name) {
 			return usagef("--%s is not available with --design split-plot: give --whole-plot, --sub-plot, --means (the whole-plot × sub-plot cell means), --sd-main and --sd-sub", name)
 		}
@@ -89,6 +95,12 @@ func (o *sizeOptions) resolveSplitPlot(c *cobra.Command) error {
 	if err := sp.plan.Validate(); err != nil {
 		return usagef("--design split-plot: %v", err)
 	}
+	if o.sim.on && o.sim.sims < 1 {
+		return usagef("--sims %d: give at least 1", o.sim.sims)
+	}
+	if !(o.req.Dropout >= 0 && o.req.Dropout < 1) {
+		return usagef("--dropout %g: give a fraction from 0 to below 1", o.req.Dropout)
+	}
 	return nil
 }
 
@@ -127,8 +139,38 @@ func splitPlotSizeRun(s *streams, o *sizeOptions) error {
 		term := sp.term
 		rep.R, rep.Tests, rep.Term, rep.Target = r, tests, &term, o.req.Power
 	}
+	if o.sim.on {
+		seed, err := simSeed(s, o.sim.seed)
+		if err != nil {
+			return err
+		}
+		ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt)
+		defer stop()
+		res, err := sim.RunSplitPlot(ctx, sim.SplitPlotSpec{Plan: sp.plan, R: rep.R, Dropout: o.req.Dropout, Sims: o.sim.sims, Seed: seed})
+		if err != nil {
+			return usagef("--simulate: %v", err)
+		}
+		rep.Simulated, rep.SimDropout, rep.SimSeed = &res, o.req.Dropout, seed
+	}
 	if o.json {
 		return report.SplitPlotSizeJSON(s.Out, rep)
 	}
 	return report.SplitPlotSizeText(s.Out, rep)
+}
+
+// simSeed parses --seed, or draws one and says so.
+func simSeed(s *streams, text string) (uint64, error) {
+	if text == "" {
+		v, err := randomize.NewSeed()
+		if err != nil {
+			return 0, err
+		}
+		fmt.Fprintf(s.Err, "allot size: no --seed given; drew seed %d (give --seed %d to repeat this simulation)\n", v, v)
+		return v, nil
+	}
+	v, err := strconv.ParseUint(strings.TrimSpace(text), 10, 64)
+	if err != nil {
+		return 0, usagef("--seed %s: must be an unsigned whole number", text)
+	}
+	return v, nil
 }

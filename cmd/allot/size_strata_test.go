@@ -3,6 +3,7 @@ package main
 import (
 	"encoding/json"
 	"fmt"
+	"math"
 	"os"
 	"strings"
 	"testing"
@@ -102,5 +103,42 @@ func TestSizeSplitPlotBadInput(t *testing.T) {
 				t.Errorf("exit %d, %q; want 2 and %q", code, errs, tt.want)
 			}
 		})
+	}
+}
+
+// TestSizeSplitPlotSimulate: without losses the simulated power of each
+// test (allot's own analysis on simulated split plots) is within 3 MC SE of
+// the exact noncentral-F power.
+func TestSizeSplitPlotSimulate(t *testing.T) {
+	sims := "2000"
+	if testing.Short() {
+		sims = "400"
+	}
+	code, out, errs := runArgs(t, "size", "--design", "split-plot", "--whole-plot", "light=2", "--sub-plot", "variety=3",
+		"--means", "20,22,21,23.5,25.5,24", "--sd-main", "1", "--sd-sub", "1.2", "--n", "3", "--simulate", "--sims", sims, "--seed", "11", "--json")
+	if code != 0 {
+		t.Fatalf("exit %d: %s", code, errs)
+	}
+	var got struct {
+		Tests     []struct{ Power float64 }
+		Simulated struct {
+			Sims  int
+			Terms []struct {
+				P  float64 `json:"power"`
+				SE float64 `json:"mc_se"`
+			}
+		}
+	}
+	if err := json.Unmarshal([]byte(out), &got); err != nil {
+		t.Fatal(err)
+	}
+	if len(got.Simulated.Terms) != 3 || fmt.Sprint(got.Simulated.Sims) != sims {
+		t.Fatalf("simulated %+v", got.Simulated)
+	}
+	for i, e := range got.Simulated.Terms {
+		se := math.Max(e.SE, 0.005)
+		if math.Abs(e.P-got.Tests[i].Power) > 3*se {
+			t.Errorf("test %d: simulated %.4f ± %.4f, exact %.4f", i, e.P, e.SE, got.Tests[i].Power)
+		}
 	}
 }
