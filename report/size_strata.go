@@ -29,7 +29,7 @@ type SplitPlotSize struct {
 	Simulated  *sim.Result `json:"simulated,omitempty"`
 	SimDropout float64     `json:"simulated_dropout,omitempty"`
 	SimSeed    uint64      `json:"simulated_seed,omitempty"`
-	Command string                `json:"command,omitempty"`
+	Command    string      `json:"command,omitempty"`
 }
 
 func (s SplitPlotSize) mainWord() string {
