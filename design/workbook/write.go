@@ -507,7 +507,7 @@ func writeMap(f *excelize.File, l design.Layout) error {
 		f.SetCellStyle(SheetMap, cell(2, 4), cell(width+1, p.Blocks+3), wrap)
 	}
 	f.SetColWidth(SheetMap, "A", "A", 12)
-	return nil
+	return outlineMainPlots(f, l) // split plots (strata.go)
 }
 
 func writeData(f *excelize.File, l design.Layout) error {
