@@ -89,3 +89,21 @@ func TestStrataPlanShape(t *testing.T) {
 		t.Errorf("rcbd canonical JSON has split-plot keys: %s", s)
 	}
 }
+
+func TestStrataSpecFile(t *testing.T) {
+	sp, err := ParseSpec("trial.toml", []byte("design = \"split-plot\"\nwhole_plot = [\"diet=D1,D2\"]\nsub_plot = [\"sex=F,M\"]\nwhole_plot_name = \"cage\"\nreps = \"3\"\nseed = 4\n"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	p, err := sp.Resolve(nil)
+	if err != nil || p.WholePlotName != "cage" || p.WholePlotFactors != 1 || p.NumUnits() != 12 {
+		t.Fatalf("%v %+v", err, p)
+	}
+	sp, err = ParseSpec("sq.toml", []byte("design = \"latin\"\nfactor = [\"feed=A,B,C\"]\nsquares = 2\nseed = 4\n"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if p, err = sp.Resolve(nil); err != nil || p.Blocks != 2 || p.NumUnits() != 18 {
+		t.Fatalf("%v %+v", err, p)
+	}
+}

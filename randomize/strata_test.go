@@ -18,7 +18,7 @@ func levels(prefix string, n int) []string {
 }
 
 // strataPlan builds a split-plot or Latin plan as design.Spec.Resolve does.
-func strataPlan(t *testing.T, kind design.Kind, whole, sub, reps, blocks, latinT int, order bool, seed uint64) design.Plan {
+func strataPlan(t testing.TB, kind design.Kind, whole, sub, reps, blocks, latinT int, order bool, seed uint64) design.Plan {
 	t.Helper()
 	s := design.Spec{Design: string(kind), Seed: &seed, Order: order, Response: []string{"y"}}
 	if kind == design.Latin {
@@ -158,5 +158,26 @@ func TestSplitPlotStreamsIndependent(t *testing.T) {
 	b.Units[0].MainPlot = 2
 	if err := b.Check(); err == nil {
 		t.Error("Check accepts a unit in the wrong main plot")
+	}
+}
+
+// BenchmarkAssignSplitPlot lays out 100 blocks of 10 main plots with 10
+// sub-plots each (10,000 units).
+func BenchmarkAssignSplitPlot(b *testing.B) {
+	p := strataPlan(b, design.SplitPlot, 10, 10, 1, 100, 0, false, 1)
+	for b.Loop() {
+		if _, err := Assign(p); err != nil {
+			b.Fatal(err)
+		}
+	}
+}
+
+// BenchmarkAssignLatin lays out 10 squares of 30 × 30 (9,000 units).
+func BenchmarkAssignLatin(b *testing.B) {
+	p := strataPlan(b, design.Latin, 0, 0, 0, 10, 30, false, 1)
+	for b.Loop() {
+		if _, err := Assign(p); err != nil {
+			b.Fatal(err)
+		}
 	}
 }
