@@ -21,6 +21,9 @@ type StrataAnalysis struct {
 	SplitPlot *analyze.SplitPlotResult `json:"split_plot,omitempty"`
 	REML      *analyze.REMLResult      `json:"mixed_model,omitempty"`
 	Latin     *analyze.LatinResult     `json:"latin,omitempty"`
+	// Comparisons are the Tukey HSD comparisons of a balanced split plot,
+	// each with its stratum's error (analyze.SplitPlotTukey).
+	Comparisons []*analyze.PostHoc `json:"comparisons,omitempty"`
 	// MainPlot is what a main plot is called (chamber, cage).
 	MainPlot  string  `json:"main_plot_name,omitempty"`
 	Missing   int     `json:"missing"`
@@ -65,6 +68,18 @@ func (a StrataAnalysis) sections() []strataSection {
 		out = append(out, strataSection{title: "Standard errors of differences between means", tb: se, notes: []string{
 			"Each kind of comparison has its own error: use its SE and df for a t test or a least significant difference (t at the df times the SE). The last combines both errors, with Satterthwaite's df (Gomez and Gomez 1984, Table 3.8).",
 		}})
+		for _, ph := range a.Comparisons {
+			title := "Means of " + ph.Term
+			if ph.Within != "" {
+				title += " within " + ph.Within
+			}
+			out = append(out, strataSection{title: title, tb: groupTable(ph.Groups, nil)},
+				strataSection{title: postHocTitle(ph), tb: pairTable(ph)})
+		}
+		if len(a.Comparisons) > 0 {
+			out[len(out)-1].notes = []string{fmt.Sprintf("Each set of comparisons uses its own error: %s means error (a), %s means and %s means within a %s level error (b). Two %s means at one %s level combine both errors; compare them with the SE table above (Satterthwaite df).",
+				r.Whole, r.Sub, r.Sub, r.Whole, r.Whole, r.Sub)}
+		}
 	case a.REML != nil:
 		r := a.REML
 		tb := table{head: []string{"source of variation", "df", "denominator df", "F", "p"}, right: []bool{false, true, true, true, true}}

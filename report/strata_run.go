@@ -10,11 +10,12 @@ import (
 	"github.com/allotproject/allot/design/workbook"
 )
 
-// RunStrata chooses and runs the analysis of one response: the
+// RunStrata chooses and runs the analysis of one response (comparisons at
+// level alpha): the
 // two-stratum ANOVA of a complete split plot, a mixed model by REML when
 // sub-plots are missing, or the Latin-square ANOVA.
-func RunStrata(p design.Plan, response string, obs workbook.StrataObservations) (StrataAnalysis, error) {
-	a := StrataAnalysis{Response: response, Design: p.DesignName(), MainPlot: p.MainPlotWord(), Missing: obs.Total - len(obs.Values)}
+func RunStrata(p design.Plan, response string, obs workbook.StrataObservations, alpha float64) (StrataAnalysis, error) {
+	a := StrataAnalysis{Response: response, Design: p.DesignName(), MainPlot: p.MainPlotWord(), Missing: obs.Total - len(obs.Values), Alpha: alpha}
 	if p.Design == design.Latin {
 		d := analyze.LatinData{Response: response, Values: obs.Values, Units: obs.Units,
 			Row: analyze.Column{Name: "row", Values: obs.Rows}, Col: analyze.Column{Name: "column", Values: obs.Cols},
@@ -46,6 +47,9 @@ func RunStrata(p design.Plan, response string, obs workbook.StrataObservations) 
 	if a.Missing == 0 {
 		res, err := analyze.SplitPlotANOVA(d)
 		if err == nil {
+			if a.Comparisons, err = analyze.SplitPlotTukey(d, res, alpha); err != nil {
+				return a, err
+			}
 			a.SplitPlot = res
 			a.Method = fmt.Sprintf("the classical two-stratum ANOVA of a balanced split plot (every %s complete)", p.MainPlotWord())
 			return a, nil

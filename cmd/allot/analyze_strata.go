@@ -33,7 +33,7 @@ func analyzeStrata(s *streams, o *analyzeOptions, fl *workbook.Filled) error {
 		if len(obs.Values) == 0 {
 			return inputErr(fmt.Errorf("%s: response %q has no values yet; fill it in first", o.read.file, r))
 		}
-		a, err := report.RunStrata(p, r, obs)
+		a, err := report.RunStrata(p, r, obs, o.alpha)
 		if err != nil {
 			return &failedError{err: fmt.Errorf("%s: response %q: %w", o.read.file, r, err)}
 		}

@@ -155,7 +155,7 @@ func RunChambers(s Chambers, o Options) (*ChambersResult, error) {
 	if n := fl.Errors(); n > 0 {
 		return nil, fmt.Errorf("the filled demo workbook has %d error(s)", n)
 	}
-	a, err := report.RunStrata(p, s.Response.Name, fl.StrataObservations(0))
+	a, err := report.RunStrata(p, s.Response.Name, fl.StrataObservations(0), s.Alpha)
 	if err != nil {
 		return nil, err
 	}
