@@ -135,6 +135,13 @@ func TestAnalyzeSplitPlotReference(t *testing.T) {
 			w := csv.NewWriter(&sb)
 			w.WriteAll(rows)
 			os.WriteFile(csvPath, []byte(sb.String()), 0o644)
+			for _, format := range []string{"text", "markdown"} {
+				code, out, errs := runArgs(t, "analyze", csvPath, "--plan", lay, "--format", format)
+				if code != 0 {
+					t.Fatalf("analyze --format %s: exit %d: %s", format, code, errs)
+				}
+				golden(t, fmt.Sprintf("analyze_split_plot_%d_%s", ci+1, format), out)
+			}
 			code, out, errs := runArgs(t, "analyze", csvPath, "--plan", lay, "--json")
 			if code != 0 {
 				t.Fatalf("analyze: exit %d: %s", code, errs)
