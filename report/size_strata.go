@@ -13,7 +13,7 @@ import (
 // (blocks, or main plots per whole-plot level), solved for one test or
 // evaluated at a given R.
 type SplitPlotSize struct {
-	Plan power.SplitPlotPlan `json:"plan"`
+	Plan power.SplitPlotPlan `json:"-"`
 	// R is the replication: blocks (Plan.Blocked) or main plots per
 	// whole-plot level.
 	R int `json:"replicates"`
@@ -93,8 +93,21 @@ func SplitPlotSizeText(w io.Writer, s SplitPlotSize) error {
 
 // SplitPlotSizeJSON writes the split-plot power as JSON.
 func SplitPlotSizeJSON(w io.Writer, s SplitPlotSize) error {
+	p := s.Plan
+	type plan struct {
+		Whole    string    `json:"whole_plot_factor"`
+		WholeN   int       `json:"whole_plot_levels"`
+		Sub      string    `json:"sub_plot_factor"`
+		SubN     int       `json:"sub_plot_levels"`
+		Means    []float64 `json:"cell_means"`
+		SDMain   float64   `json:"sd_main"`
+		SDSub    float64   `json:"sd_sub"`
+		InBlocks bool      `json:"in_blocks"`
+		Alpha    float64   `json:"alpha"`
+	}
 	return writeJSON(w, struct {
+		Plan plan `json:"plan"`
 		SplitPlotSize
 		Caution string `json:"caution"`
-	}{s, Caution})
+	}{plan{p.WholeName, p.A, p.SubName, p.B, p.Means, p.SDMain, p.SDSub, p.Blocked, p.Alpha}, s, Caution})
 }
