@@ -27,7 +27,7 @@ func TestResolveErrors(t *testing.T) {
 		{"control not a level", func(s *Spec) { s.Control = "Z" }, nil, "control", `control "Z" is not a level`},
 		{"rcbd without blocks", func(s *Spec) { s.Design = "rcbd" }, nil, "blocks", "at least 2 blocks"},
 		{"crd with blocks", func(s *Spec) { s.Design, s.Blocks = "crd", 3 }, nil, "blocks", "has no blocks"},
-		{"bad design", func(s *Spec) { s.Design = "latin" }, nil, "design", `design "latin"`},
+		{"bad design", func(s *Spec) { s.Design = "lattice" }, nil, "design", `design "lattice"`},
 		{"reps unknown treatment", func(s *Spec) { s.Reps = "Q=3,default=2" }, nil, "reps", `names "Q"`},
 		{"reps missing default", func(s *Spec) { s.Reps = "A=3" }, nil, "reps", `no count for treatment "B"`},
 		{"reps zero", func(s *Spec) { s.Reps = "0" }, nil, "reps", "at least 1"},

@@ -21,6 +21,9 @@ type Unit struct {
 	Order int `json:"order,omitempty"`
 	// Code is the unit's blind code (blind plans with a BlindMode).
 	Code string `json:"code,omitempty"`
+	// MainPlot is the number of the unit's main plot in a split plot
+	// (1, 2, … across all blocks; 0 in other designs).
+	MainPlot int `json:"main_plot,omitempty"`
 }
 
 // Spare is a unit of a unit list that the plan does not use (PerBlock):
@@ -151,6 +154,9 @@ func (l Layout) Check() error {
 					return fmt.Errorf("block %d has treatment %d %d times, plan says %d to %d", b, t, c, lo, hi)
 				}
 			}
+		}
+		if err := l.checkStrata(); err != nil {
+			return err
 		}
 	}
 	return l.checkCodes()

@@ -32,6 +32,14 @@ const (
 	// RCBD is the randomised complete block design: every block holds each
 	// treatment Reps times, randomised separately within each block.
 	RCBD Kind = "rcbd"
+	// SplitPlot is the split-plot design: whole-plot treatments assigned to
+	// main plots (chambers, benches, cages), in a completely randomised
+	// design (Blocks = 1) or in blocks, and sub-plot treatments to the
+	// sub-plots (pots, animals) within each main plot (see strata.go).
+	SplitPlot Kind = "split-plot"
+	// Latin is the Latin square: t treatments on a t × t grid, each once in
+	// every row and column; Blocks independent squares (see strata.go).
+	Latin Kind = "latin"
 )
 
 // MaxUnits is the most units a plan may have: one worksheet row each below
@@ -113,6 +121,11 @@ type Plan struct {
 	// on a plant, pups in a litter-housed cage): 0 or 1 for one. They are
 	// recorded on their own rows and averaged to the unit for analysis.
 	Subsamples int `json:"subsamples,omitempty"`
+	// WholePlotFactors, in a split plot, is the number of leading Factors
+	// applied to whole main plots; the others are sub-plot factors.
+	WholePlotFactors int `json:"whole_plot_factors,omitempty"`
+	// WholePlotName is what a main plot is called (chamber, bench, cage).
+	WholePlotName string `json:"whole_plot_name,omitempty"`
 }
 
 // UnitSpec is one unit of a given unit list.
@@ -322,7 +335,7 @@ func ParsePlan(b []byte) (Plan, error) {
 // Error is a problem with a plan, naming the field it concerns so that a
 // command can name its flag.
 type Error struct {
-	Field string // factor, control, reps, blocks, block_name, response, design, units, grid, blind, per_block, expect_n, title, subsamples
+	Field string // factor, control, reps, blocks, block_name, response, design, units, grid, blind, per_block, expect_n, title, subsamples, whole_plot, sub_plot, whole_plot_name, squares
 	Msg   string
 }
 
@@ -340,7 +353,7 @@ func (p Plan) Validate() error {
 	for _, check := range []func() error{
 		p.validateKind, p.validateNames, p.validateFactors, p.validateControl,
 		p.validateReps, p.validateBlocks, p.validateSize, p.validateGrid,
-		p.validateResponses, p.validateBlind,
+		p.validateResponses, p.validateBlind, p.validateStrata,
 	} {
 		if err := check(); err != nil {
 			return err
@@ -351,10 +364,10 @@ func (p Plan) Validate() error {
 
 func (p Plan) validateKind() error {
 	switch p.Design {
-	case CRD, RCBD:
+	case CRD, RCBD, SplitPlot, Latin:
 		return nil
 	}
-	return errf("design", "design %q: must be %q (completely randomised) or %q (randomised complete blocks)", p.Design, CRD, RCBD)
+	return errf("design", "design %q: must be %q (completely randomised), %q (randomised complete blocks), %q or %q", p.Design, CRD, RCBD, SplitPlot, Latin)
 }
 
 // validateNames checks the free texts of the plan: title and block name.
@@ -740,6 +753,9 @@ func (p Plan) Generalised() bool {
 // design with unequal replication" (every treatment in every block, some
 // more often than others).
 func (p Plan) DesignName() string {
+	if n := p.strataName(); n != "" {
+		return n
+	}
 	if p.Design != RCBD {
 		return "completely randomised design"
 	}

@@ -57,6 +57,11 @@ type Spec struct {
 	// ExpectN is the number of units justified (by allot size, say): the
 	// plan is refused when it uses another number.
 	ExpectN int `toml:"expect_n"`
+	// Split plots and Latin squares (strata_spec.go).
+	WholePlot     []string `toml:"whole_plot"` // NAME=L1,L2,...
+	SubPlot       []string `toml:"sub_plot"`
+	WholePlotName string   `toml:"whole_plot_name"`
+	Squares       int      `toml:"squares"`
 }
 
 // BlindChoice is the blinding asked for: "" (none), BlindTreatment or
@@ -532,6 +537,12 @@ func BlocksByMatching(rows []UnitRow, size int, covName string) ([]UnitSpec, int
 // the number of treatments, needs PerBlock or AllowUnequal. Blocks (or a
 // block column, or matching) without a design mean randomised blocks.
 func (s Spec) Resolve(units []UnitRow) (Plan, error) {
+	if s.strata() {
+		return s.resolveStrata(units)
+	}
+	if err := s.refuseStrataKeys(); err != nil {
+		return Plan{}, err
+	}
 	p, err := s.basePlan()
 	if err != nil {
 		return Plan{}, err

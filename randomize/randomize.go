@@ -20,13 +20,16 @@
 //     rotr64(hi ⊕ lo, hi >> 58), hi and lo the state's upper and lower words.
 //     testdata/reference/allot_pcg_v1.py re-implements the whole algorithm
 //     from this description, and the tests compare the two.
+//
 //  2. Bounded integers. A uniform integer in [0, n) is drawn by rejection:
 //     with t = 2^64 mod n, draw 64-bit x until x ≥ t, then return x mod n
 //     (no modulo bias).
+//
 //  3. Shuffle. The block's treatment list is built in plan order, treatment
 //     i repeated Reps[i] times. For i from len−1 down to 1, draw j uniform in
 //     [0, i] and swap entries i and j (Fisher and Yates; Durstenfeld 1964,
 //     CACM 7(7) 420). Entry k then goes to position k+1 of the block.
+//
 //  4. Unit lists. A block of a given unit list holds its units in list
 //     order (position k+1 is the block's k-th unit). For a randomised
 //     complete block design with nt treatments and a block of s = q·nt + r
@@ -34,9 +37,11 @@
 //     followed by the first r entries of a Fisher–Yates shuffle of
 //     0..nt−1 drawn from the block's stream; the list is then shuffled by
 //     step 3, continuing the same stream.
+//
 //  5. Measurement order (Plan.Order). Block b's order comes from stream
 //     2^32 + b: the list 1..s is shuffled by step 3 and entry k is the rank
 //     in which the unit at position k+1 is measured.
+//
 //  6. Blind codes (Plan.Blind). Plans with a BlindMode draw them from a
 //     keyed stream: 64-bit words, read little-endian, of the successive
 //     HMAC-SHA256 (RFC 2104) values under the plan's secret (32 bytes from
@@ -58,6 +63,7 @@
 //     Plans without a BlindMode (written by earlier versions) took L = 3
 //     codes, one per treatment, from stream 2^33 instead of the keyed
 //     stream; Codes reproduces them.
+//
 //  7. Spares (Plan.PerBlock = K, a unit list in blocks). A block with s > K
 //     units shuffles the list 0..s−1 by step 3 with stream 2^34 + b; the
 //     units at the first K entries are laid out, in list order (position
@@ -65,12 +71,50 @@
 //     row. The choice depends on the seed alone, is made before and
 //     independently of the allocation, and every K-subset is equally
 //     likely. Steps 3 and 4 then treat the block as one of K units.
+//
 //  8. Grids with more places than units (Grid.Placement "random"). A block
 //     of s units on a grid of P > s places shuffles the places 1..P by step
 //     3 with stream 2^35 + b and takes the first s, in ascending order:
 //     position k+1 goes to the k-th smallest of them, which the numbering
 //     (rows or serpentine) turns into a row and column. Every s-subset of
 //     places is equally likely. Without Placement, position k is place k.
+//
+//  9. Split plots (design "split-plot"; a documented extension of this
+//     generator: it applies only to this design kind, so the layouts of
+//     every earlier plan are unchanged). With a whole-plot treatments
+//     (the full factorial of the whole-plot factors, first varying
+//     slowest), c sub-plot treatments and r main plots per whole-plot
+//     treatment in each block, block b (one block without blocks) has
+//     m = a·r main plots. Its whole-plot list, whole-plot treatment i
+//     repeated r times in plan order, is shuffled by step 3 with the
+//     block's stream b; main plot k (1-based within the block, number
+//     g = (b−1)·m + k overall) receives entry k−1. Then, for each main plot
+//     in turn, the list 0..c−1 of sub-plot treatments is shuffled by step 3
+//     with its own stream 2^36 + g, and entry j goes to the main plot's
+//     sub-plot j+1, which is position (k−1)·c + j + 1 of the block; the
+//     unit's treatment is i·c + (sub-plot treatment). The streams of
+//     different main plots are independent, so the sub-plot layout of one
+//     main plot does not depend on any other's. A measurement order
+//     (step 5) follows as for any block.
+//
+//  10. Latin squares (design "latin", likewise an extension that applies
+//     only to this kind). Square b (one block per square) with t treatments
+//     draws, from its stream b and in this order, three shuffles (step 3)
+//     of 0..t−1: R for the rows, C for the columns and S for the symbols.
+//     The cell in row i and column j (0-based) receives treatment
+//     S[(R[i] + C[j]) mod t]: the cyclic square with its rows, columns and
+//     symbols permuted at random. Position k+1 of the square is row
+//     ⌊k/t⌋+1, column (k mod t)+1. Each square isotopic to the cyclic one
+//     is equally likely (the three permutations are uniform and
+//     independent, so the draw is uniform over the orbit of the cyclic
+//     square under row, column and symbol permutations). For t ≤ 3 that
+//     orbit is every Latin square; for t ≥ 4 it is not: squares that are
+//     not isotopic to a cyclic group's table (for t = 4, those from the
+//     table of the Klein four-group) are never drawn. The method is NOT
+//     uniform over all Latin squares for t ≥ 4; for the analysis only the
+//     randomisation of rows, columns and treatment labels matters
+//     (Fisher and Yates, Statistical Tables, 1938, introduction; Bailey
+//     2008, Design of Comparative Experiments, section 6.3).
 //
 // Rejected alternatives: one stream for all blocks would make each block's
 // layout depend on the sizes of the blocks before it, so a plan with one
@@ -219,7 +263,10 @@ func AssignSecret(p design.Plan, secret []byte) (design.Layout, error) {
 	}
 	l := design.Layout{Plan: p, Units: make([]design.Unit, 0, p.NumUnits())}
 	sizes := p.BlockSizes()
-	for b := 1; b <= p.Blocks; b++ {
+	for b := 1; b <= p.Blocks && p.Strata(); b++ {
+		l.Units = append(l.Units, assignStrata(p, b)...) // steps 9 and 10
+	}
+	for b := 1; b <= p.Blocks && !p.Strata(); b++ {
 		var used []design.UnitSpec
 		if p.Units != nil {
 			var spares []design.UnitSpec

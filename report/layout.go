@@ -21,6 +21,9 @@ const MaxMapUnits = 240
 func LayoutText(w io.Writer, l design.Layout) error {
 	l = l.Sealed()
 	p := l.Plan
+	if p.Strata() {
+		return strataLayoutText(w, l)
+	}
 	var b strings.Builder
 	tr := p.Treatments()
 	labels := p.BlockLabels()

@@ -200,7 +200,7 @@ func TestSizeInvalidField(t *testing.T) {
 		{"factor", "dose", []string{"f", "0.25"}, "NAME=LEVELS"},
 		{"factor", "dose=1", []string{"f", "0.25"}, "at least 2 levels"},
 		{"term", "x", []string{"groups", "3", "f", "0.25"}, "no factor"},
-		{"design", "latin", []string{"groups", "3", "f", "0.25"}, "crd"},
+		{"design", "sideways", []string{"groups", "3", "f", "0.25"}, "crd"},
 		{"blocks", "1", []string{"groups", "3", "f", "0.25"}, "at least 2 blocks"},
 		{"ratios", "2,x", []string{"groups", "2", "f", "0.25"}, "not a number"},
 		{"means", "12,abc", []string{"sd", "3"}, "not a number"},
@@ -498,7 +498,7 @@ func TestLayoutInvalidField(t *testing.T) {
 	s := newServer(t, Config{})
 	cases := []struct{ field, value, want string }{
 		{"factor", "feed", "NAME=LEVEL1"},
-		{"design", "latin", "must be"},
+		{"design", "sideways", "must be"},
 		{"blocks", "three", "not a whole number"},
 		{"blocks", "1", "at least 2 blocks"},
 		{"reps", "0", "at least 1"},

@@ -141,6 +141,9 @@ func (o *analyzeOptions) settings() options.Analysis {
 
 func analyzeRun(s *streams, o *analyzeOptions) error {
 	jobs, plan, check, err := o.jobs()
+	if sw, ok := err.(*strataWorkbook); ok {
+		return analyzeStrata(s, o, sw.fl) // split plots and Latin squares: analyze_strata.go
+	}
 	if err != nil {
 		return err
 	}
@@ -216,6 +219,11 @@ func (o *analyzeOptions) jobs() ([]job, *design.Plan, []string, error) {
 	fl, err := readFilled(&o.read)
 	if err != nil {
 		return nil, nil, nil, err
+	}
+	if fl.Layout.Plan.Strata() {
+		// Split plots and Latin squares have analyses of their own
+		// (analyze_strata.go).
+		return nil, nil, nil, &strataWorkbook{fl: fl}
 	}
 	out, plan, check, err := options.WorkbookJobs(fl, o.read.file, o.response)
 	var cf *options.CheckFailedError

@@ -52,6 +52,15 @@ Treatments are the levels of one --factor, or the full factorial of 2–4.
 each of --blocks blocks, every block holding each treatment --reps times.
 --block-name names the blocks (bench, litter, day, rack) in every output.
 
+--design split-plot applies the whole-plot treatments (--whole-plot
+NAME=L1,L2, repeatable for a factorial) to main plots called
+--whole-plot-name (chamber, bench, cage), --reps R of each per block, either
+completely randomised or within --blocks B, and the sub-plot treatments
+(--sub-plot NAME=L1,L2, repeatable) to the sub-plots of each main plot, each
+main plot on its own random stream. --design latin lays t treatments on a
+t × t grid, each once in every row and column (--squares S for S
+independent squares).
+
 Units are numbered block × 100 + position (101, 102, …, 201, …) unless
 --units FILE.csv lists them (an ID column, and for blocks either
 --block-column litter, or --match-on weight to sort on a covariate and cut
@@ -124,7 +133,7 @@ file (keys are these flag names, with _ for -); flags override it.` + "\n" + exi
 	f := cmd.Flags()
 	f.StringVar(&o.specFile, "spec", "", "read the plan from `FILE.toml`; flags override it")
 	f.StringVar(&o.spec.Title, "title", "", "the experiment's `TITLE`")
-	f.StringVar(&o.spec.Design, "design", "", "`crd` (completely randomised, the default) or rcbd (randomised complete blocks)")
+	f.StringVar(&o.spec.Design, "design", "", "`crd` (completely randomised, the default), rcbd (randomised complete blocks), split-plot or latin")
 	f.StringArrayVar(&o.spec.Factor, "factor", nil, "treatment factor `NAME=L1,L2,...`; repeat for a factorial (2–4 factors)")
 	f.StringVar(&o.spec.Control, "control", "", "the control `LEVEL` (one-factor plans)")
 	f.StringVar(&o.spec.Reps, "reps", "", "replication `R` (per block for rcbd), or TREATMENT=R,...,default=R")
@@ -146,6 +155,7 @@ file (keys are these flag names, with _ for -); flags override it.` + "\n" + exi
 	f.StringVar(&o.key, "key", "", "write the blinding key to `FILE` (with --blind)")
 	f.BoolVar(&o.spec.Order, "order", false, "add a randomised measurement order within each block")
 	f.IntVar(&o.spec.Subsamples, "subsamples", 0, "record `N` measurements per unit, one row each (averaged to the unit for analysis)")
+	addStrataFlags(f, &o.spec)
 	f.StringVarP(&o.out, "out", "o", "", "write the layout to `FILE` (.xlsx workbook, .csv or .json)")
 	f.StringVar(&o.mapFile, "map", "", "draw the bench map (each block as its grid) to `FILE.svg` or .png, for printing on A4")
 	f.BoolVar(&o.json, "json", false, "print the resolved plan and assignment as JSON")
@@ -214,6 +224,7 @@ func (o *layoutOptions) resolveSpec(c *cobra.Command) error {
 		if changed("subsamples") {
 			sp.Subsamples = flags.Subsamples
 		}
+		mergeStrataFlags(changed, &sp, flags)
 		o.spec = sp
 	}
 	if o.from != "" {
@@ -269,7 +280,7 @@ func planError(err error) error {
 			"block_name": "block-name", "response": "response", "design": "design", "units": "units", "grid": "grid", "seed": "seed", "subsamples": "subsamples",
 			"per_block": "per-block", "expect_n": "expect-n", "blind": "blind", "title": "title"}[de.Field]
 		if flag == "" {
-			flag = de.Field
+			flag = strings.ReplaceAll(de.Field, "_", "-")
 		}
 		return inputErr(fmt.Errorf("--%s: %s", flag, de.Msg))
 	}

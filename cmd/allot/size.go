@@ -40,6 +40,7 @@ type sizeOptions struct {
 	command  string
 	sim      simOptions
 	glm      glmSizeFlags
+	split    *splitPlotSize // --design split-plot (size_strata.go)
 }
 
 func newSizeCmd(s *streams, runF func(*sizeOptions) error) *cobra.Command {
@@ -146,7 +147,7 @@ number of --workers; Ctrl-C stops early and prints what is done.` + "\n" + exitH
 	f.IntVar(&o.req.Groups, "groups", 0, fmt.Sprintf("number of groups `K` of a one-way layout (2 to %d)", power.MaxCells))
 	f.StringArrayVar(&o.factors, "factor", nil, "factor `NAME=LEVELS` (a count or a comma list); repeat for a factorial")
 	f.StringVar(&o.term, "term", "", "effect to plan for in a factorial: `NAME` or NAME1,NAME2 for an interaction")
-	f.StringVar(&o.design, "design", "crd", "`crd` (completely randomised) or rcbd (randomised complete blocks)")
+	f.StringVar(&o.design, "design", "crd", "`crd` (completely randomised), rcbd (randomised complete blocks) or split-plot")
 	f.IntVar(&o.blocks, "blocks", 0, "evaluate `B` blocks (implies --design rcbd and --n B)")
 	f.StringVar(&o.ratios, "ratios", "", "unequal allocation, one `RATIO` per group, for example 2,1,1")
 	f.Float64Var(&o.req.Alpha, "alpha", 0.05, "significance level `A`")
@@ -184,12 +185,16 @@ number of --workers; Ctrl-C stops early and prints what is done.` + "\n" + exitH
 	f.StringVar(&o.study.BlockName, "block-name", "", "what a block is called, `NAME` such as litter, bench, day")
 	f.StringVar(&o.study.EffectReason, "effect-reason", "", "why this effect matters, `TEXT`")
 	o.addSimFlags(f)
+	addSplitPlotSizeFlags(f, o)
 	return cmd
 }
 
 // resolve turns the flag strings into the request (package options does
 // the work, shared with the web pages of allot serve).
 func (o *sizeOptions) resolve(c *cobra.Command) error {
+	if o.design == "split-plot" {
+		return o.resolveSplitPlot(c)
+	}
 	given := map[string]bool{}
 	c.Flags().Visit(func(f *pflag.Flag) { given[f.Name] = true })
 	req, study, err := options.Size{Req: o.req, Study: o.study, Factors: o.factors, Term: o.term, Design: o.design,
@@ -256,6 +261,9 @@ func floatList(flag, s string) ([]float64, error) {
 }
 
 func sizeRun(s *streams, o *sizeOptions) error {
+	if o.design == "split-plot" {
+		return splitPlotSizeRun(s, o)
+	}
 	if o.sim.on {
 		return simulateRun(s, o)
 	}

@@ -23,6 +23,7 @@ type Meta struct {
 // columns describes the Entry sheet's columns for a plan.
 type columns struct {
 	block      bool
+	mainPlot   bool // a split plot's main plot, after the block (strata.go)
 	grid       bool // Row and Column after Position
 	factors    bool
 	order      bool
@@ -32,7 +33,7 @@ type columns struct {
 }
 
 func layoutColumns(p design.Plan) columns {
-	return columns{block: p.Design == design.RCBD, grid: p.Grid != nil, factors: len(p.Factors) > 1 && !p.Blind, order: p.Order, blind: p.Blind, subsamples: p.Subsamples, responses: p.Responses}
+	return columns{block: p.Design == design.RCBD || p.Strata() && p.Blocks > 1, mainPlot: p.Design == design.SplitPlot, grid: p.Grid != nil, factors: len(p.Factors) > 1 && !p.Blind, order: p.Order, blind: p.Blind, subsamples: p.Subsamples, responses: p.Responses}
 }
 
 // rowsPer returns the number of Entry rows of a unit.
@@ -43,6 +44,9 @@ func (c columns) headers(p design.Plan) []string {
 	h := []string{headUnit}
 	if c.block {
 		h = append(h, blockHeader(p))
+	}
+	if c.mainPlot {
+		h = append(h, mainPlotHeader(p))
 	}
 	h = append(h, headPosition)
 	if c.grid {
@@ -76,6 +80,9 @@ func (c columns) designCount(p design.Plan) int {
 	if c.block {
 		n++
 	}
+	if c.mainPlot {
+		n++
+	}
 	if c.grid {
 		n += 2
 	}
@@ -106,6 +113,9 @@ func designCells(c columns, u design.Unit, sub int, label string, tr []design.Tr
 	row := []string{u.ID}
 	if c.block {
 		row = append(row, strconv.Itoa(u.Block))
+	}
+	if c.mainPlot {
+		row = append(row, strconv.Itoa(u.MainPlot))
 	}
 	row = append(row, strconv.Itoa(u.Position))
 	if c.grid {
@@ -431,6 +441,9 @@ func (c columns) numericCount() int {
 	if c.block {
 		n++
 	}
+	if c.mainPlot {
+		n++
+	}
 	if c.grid {
 		n += 2
 	}
@@ -500,7 +513,7 @@ func writeMap(f *excelize.File, l design.Layout) error {
 		f.SetCellStyle(SheetMap, cell(2, 4), cell(width+1, p.Blocks+3), wrap)
 	}
 	f.SetColWidth(SheetMap, "A", "A", 12)
-	return nil
+	return outlineMainPlots(f, l) // split plots (strata.go)
 }
 
 func writeData(f *excelize.File, l design.Layout) error {

@@ -446,14 +446,20 @@ func prepareOut(dir string, force bool) error {
 }
 
 func (r *runner) writeFile(name, content string) error {
-	p := filepath.Join(r.o.Out, name)
+	return writeFile(r.o.Out, name, content, r.res)
+}
+
+// writeFile writes content to dir/name (replacing it: the demo folder was
+// checked before the run) and records the file in res.
+func writeFile(dir, name, content string, res *Result) error {
+	p := filepath.Join(dir, name)
 	if err := atomicfile.Write(p, true, func(w io.Writer) error {
 		_, err := io.WriteString(w, content)
 		return err
 	}); err != nil {
 		return err
 	}
-	r.res.Files = append(r.res.Files, p)
+	res.Files = append(res.Files, p)
 	return nil
 }
 

@@ -7,7 +7,9 @@ to show that the description suffices to re-derive a layout.
 
 Writes layouts_pcg_v1.json beside itself: for a few plans, each unit's
 block, position and treatment index (and measurement order, and blind
-codes), which randomize's tests compare with the Go implementation.
+codes), which randomize's tests compare with the Go implementation; and
+layouts_strata.json: split plots (step 9) and Latin squares (step 10), with
+each unit's main plot, or row and column.
 """
 import hashlib
 import hmac
@@ -170,6 +172,66 @@ def layout(seed, reps, blocks, order=False, block_sizes=None, per_block=0, grid=
     return units, spares
 
 
+def split_plot(seed, a, c, r, blocks, order=False):
+    """Step 9: a whole-plot treatments, c sub-plot treatments, r main plots
+    per whole-plot treatment in each of blocks blocks."""
+    m = a * r
+    units = []
+    for b in range(1, blocks + 1):
+        whole = [i for i in range(a) for _ in range(r)]
+        shuffle(stream(seed, b), whole)
+        block = []
+        for k, i in enumerate(whole):
+            g = (b - 1) * m + k + 1
+            sub = list(range(c))
+            shuffle(stream(seed, (1 << 36) + g), sub)
+            for j, sp in enumerate(sub):
+                block.append({"block": b, "position": k * c + j + 1, "treatment": i * c + sp, "main_plot": g})
+        add_order(seed, b, block, order)
+        units += block
+    return units
+
+
+def latin(seed, t, squares, order=False):
+    """Step 10: the cyclic square with rows, columns and symbols permuted."""
+    units = []
+    for b in range(1, squares + 1):
+        src = stream(seed, b)
+        perms = []
+        for _ in range(3):
+            p = list(range(t))
+            shuffle(src, p)
+            perms.append(p)
+        rows, cols, syms = perms
+        block = [{"block": b, "position": i * t + j + 1, "row": i + 1, "col": j + 1,
+                  "treatment": syms[(rows[i] + cols[j]) % t]} for i in range(t) for j in range(t)]
+        add_order(seed, b, block, order)
+        units += block
+    return units
+
+
+def add_order(seed, b, block, order):
+    ords = list(range(1, len(block) + 1))
+    if order:
+        shuffle(stream(seed, (1 << 32) + b), ords)
+    for u, o in zip(block, ords):
+        u["order"] = o if order else 0
+
+
+STRATA_CASES = [
+    {"name": "split plot 2 light x 3 variety, 3 chambers each, seed 42", "seed": 42, "design": "split-plot",
+     "whole": 2, "sub": 3, "reps": 3, "blocks": 1},
+    {"name": "split plot in 4 blocks, 3 x 4, with order, seed 20261201", "seed": 20261201, "design": "split-plot",
+     "whole": 3, "sub": 4, "reps": 1, "blocks": 4, "order": True},
+    {"name": "split plot 4 whole x 2 sub, 2 cages each, seed 18446744073709551615",
+     "seed": 18446744073709551615, "design": "split-plot", "whole": 4, "sub": 2, "reps": 2, "blocks": 1},
+    {"name": "latin 4 x 4, seed 7", "seed": 7, "design": "latin", "t": 4, "squares": 1},
+    {"name": "latin 5 x 5, 3 squares, with order, seed 2027", "seed": 2027, "design": "latin", "t": 5, "squares": 3,
+     "order": True},
+    {"name": "latin 3 x 3, seed 1", "seed": 1, "design": "latin", "t": 3, "squares": 2},
+]
+
+
 CASES = [
     {"name": "rcbd 3x2 seed 42", "seed": 42, "reps": [1, 1, 1], "blocks": 2},
     {"name": "crd unequal seed 3", "seed": 3, "reps": [4, 3, 3], "blocks": 1},
@@ -214,6 +276,17 @@ def main():
     with open(os.path.join(os.path.dirname(os.path.abspath(__file__)), "layouts_pcg_v1.json"), "w") as f:
         json.dump({"source": "allot_pcg_v1.py, an implementation from the documentation", "cases": out}, f, indent=1)
     print("%d layouts" % len(out))
+    strata = []
+    for c in STRATA_CASES:
+        if c["design"] == "latin":
+            units = latin(c["seed"], c["t"], c["squares"], c.get("order", False))
+        else:
+            units = split_plot(c["seed"], c["whole"], c["sub"], c["reps"], c["blocks"], c.get("order", False))
+        strata.append(dict(c, units=units))
+    with open(os.path.join(os.path.dirname(os.path.abspath(__file__)), "layouts_strata.json"), "w") as f:
+        json.dump({"source": "allot_pcg_v1.py, an implementation from the documentation (steps 9 and 10)",
+                   "cases": strata}, f, indent=1)
+    print("%d split-plot and Latin layouts" % len(strata))
 
 
 if __name__ == "__main__":

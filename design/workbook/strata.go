@@ -1,0 +1,132 @@
+package workbook
+
+import (
+	"fmt"
+	"strconv"
+	"strings"
+
+	"github.com/allotproject/allot/design"
+
+	"github.com/xuri/excelize/v2"
+)
+
+// mainPlotHeader is the Entry heading of a split plot's main-plot column:
+// the whole-plot name, capitalised ("Chamber", "Main plot").
+func mainPlotHeader(p design.Plan) string {
+	n := p.MainPlotWord()
+	return strings.ToUpper(n[:1]) + n[1:]
+}
+
+// StrataObservations holds one response of a split plot or Latin square
+// for analysis: for each unit with a value, its factor levels and the
+// strata it belongs to, read back from the workbook's verified layout (the
+// Entry sheet's design cells are checked against it by Read).
+type StrataObservations struct {
+	Observations
+	// MainPlots holds each observation's main plot number (split plot).
+	MainPlots []string
+	// Whole and Sub hold each observation's whole-plot and sub-plot
+	// treatment (the factor levels joined by " × "; one factor's level
+	// when there is one).
+	Whole, Sub []string
+	// Rows, Cols and Squares place each observation of a Latin plan;
+	// Treatments holds its treatment name.
+	Rows, Cols, Squares, Treatments []string
+	// Total is the number of units of the plan (with and without values).
+	Total int
+}
+
+// StrataObservations collects the non-missing values of response r of a
+// split-plot or Latin workbook. It panics for a sealed workbook or another
+// design.
+func (fl *Filled) StrataObservations(r int) StrataObservations {
+	p := fl.Layout.Plan
+	if !p.Strata() {
+		panic("workbook: StrataObservations of a " + string(p.Design) + " plan")
+	}
+	o := StrataObservations{Observations: fl.Observations(r), Total: len(fl.Layout.Units)}
+	tr := p.Treatments()
+	for i, u := range fl.Layout.Units {
+		if fl.Values[r][i].Missing {
+			continue
+		}
+		levels := tr[u.Treatment].Levels
+		if p.Blocks > 1 {
+			o.Blocks = append(o.Blocks, p.BlockLabel(u.Block))
+		}
+		switch p.Design {
+		case design.SplitPlot:
+			o.MainPlots = append(o.MainPlots, strconv.Itoa(u.MainPlot))
+			o.Whole = append(o.Whole, strings.Join(levels[:p.WholePlotFactors], " × "))
+			o.Sub = append(o.Sub, strings.Join(levels[p.WholePlotFactors:], " × "))
+		case design.Latin:
+			o.Rows = append(o.Rows, strconv.Itoa(u.Row))
+			o.Cols = append(o.Cols, strconv.Itoa(u.Col))
+			o.Squares = append(o.Squares, p.BlockLabel(u.Block))
+			o.Treatments = append(o.Treatments, tr[u.Treatment].Name)
+		}
+	}
+	return o
+}
+
+// WholeLevels and SubLevels return the whole-plot and sub-plot treatments
+// of a split plot in plan order, named as StrataObservations names them.
+func WholeLevels(p design.Plan) []string { return comboNames(p.Factors[:p.WholePlotFactors]) }
+
+// SubLevels: see WholeLevels.
+func SubLevels(p design.Plan) []string { return comboNames(p.Factors[p.WholePlotFactors:]) }
+
+func comboNames(fs []design.Factor) []string {
+	var out []string
+	for _, t := range (design.Plan{Factors: fs}).Treatments() {
+		out = append(out, t.Name)
+	}
+	return out
+}
+
+// TreatmentLevels returns the plan's treatment names in plan order.
+func TreatmentLevels(p design.Plan) []string { return comboNames(p.Factors) }
+
+// outlineMainPlots draws a thick outline around the sub-plots of each main
+// plot of a split plot on the Map sheet (one row per block, positions left
+// to right), and says so in row 2. Other designs are left as they are.
+func outlineMainPlots(f *excelize.File, l design.Layout) error {
+	p := l.Plan
+	if p.Design != design.SplitPlot {
+		return nil
+	}
+	thin := func(side string) excelize.Border { return excelize.Border{Type: side, Color: "808080", Style: 1} }
+	thick := func(side string) excelize.Border { return excelize.Border{Type: side, Color: "000000", Style: 5} }
+	style := func(left, right bool) (int, error) {
+		b := []excelize.Border{thick("top"), thick("bottom"), thin("left"), thin("right")}
+		if left {
+			b[2] = thick("left")
+		}
+		if right {
+			b[3] = thick("right")
+		}
+		return f.NewStyle(&excelize.Style{Alignment: &excelize.Alignment{WrapText: true, Vertical: "top"}, Border: b})
+	}
+	first, err := style(true, false)
+	if err != nil {
+		return err
+	}
+	middle, _ := style(false, false)
+	last, _ := style(false, true)
+	nb := p.SubPlotTreatments()
+	for _, u := range l.Units {
+		st := middle
+		switch k := (u.Position - 1) % nb; {
+		case k == 0:
+			st = first
+		case k == nb-1:
+			st = last
+		}
+		ref := cell(u.Position+1, u.Block+3)
+		if err := f.SetCellStyle(SheetMap, ref, ref, st); err != nil {
+			return err
+		}
+	}
+	mp := p.MainPlotWord()
+	return f.SetCellStr(SheetMap, "A2", fmt.Sprintf("Thick outlines group the %d sub-plots of each %s; every %s holds one %s treatment (%s).", nb, mp, mp, "whole-plot", strings.Join(WholeLevels(p), ", ")))
+}

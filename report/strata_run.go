@@ -1,0 +1,87 @@
+package report
+
+import (
+	"errors"
+	"fmt"
+	"strings"
+
+	"github.com/allotproject/allot/analyze"
+	"github.com/allotproject/allot/design"
+	"github.com/allotproject/allot/design/workbook"
+)
+
+// RunStrata chooses and runs the analysis of one response (comparisons at
+// level alpha): the
+// two-stratum ANOVA of a complete split plot, a mixed model by REML when
+// sub-plots are missing, or the Latin-square ANOVA.
+func RunStrata(p design.Plan, response string, obs workbook.StrataObservations, alpha float64) (StrataAnalysis, error) {
+	a := StrataAnalysis{Response: response, Design: p.DesignName(), MainPlot: p.MainPlotWord(), Missing: obs.Total - len(obs.Values), Alpha: alpha}
+	if p.Design == design.Latin {
+		d := analyze.LatinData{Response: response, Values: obs.Values, Units: obs.Units,
+			Row: analyze.Column{Name: "row", Values: obs.Rows}, Col: analyze.Column{Name: "column", Values: obs.Cols},
+			Treatment: analyze.Column{Name: treatmentName(p.Factors), Values: obs.Treatments, Levels: workbook.TreatmentLevels(p)}}
+		if p.Blocks > 1 {
+			d.Square = &analyze.Column{Name: p.BlockName, Values: obs.Squares}
+		}
+		res, err := analyze.LatinSquareANOVA(d)
+		if err != nil {
+			return a, err
+		}
+		a.Latin = res
+		a.Method = "least-squares ANOVA with rows, columns and treatments"
+		if p.Blocks > 1 {
+			a.Method = fmt.Sprintf("least-squares ANOVA with %s, rows and columns within %s, and treatments", design.Plural(p.BlockName), design.Plural(p.BlockName))
+		}
+		if a.Missing > 0 {
+			a.Method += fmt.Sprintf("; %d missing cell(s) handled by least squares with the df adjusted", a.Missing)
+		}
+		return a, nil
+	}
+	d := analyze.SplitPlot{Response: response, Values: obs.Values, Units: obs.Units,
+		Whole:    analyze.Column{Name: treatmentName(p.Factors[:p.WholePlotFactors]), Values: obs.Whole, Levels: workbook.WholeLevels(p)},
+		Sub:      analyze.Column{Name: treatmentName(p.Factors[p.WholePlotFactors:]), Values: obs.Sub, Levels: workbook.SubLevels(p)},
+		MainPlot: analyze.Column{Name: p.MainPlotWord(), Values: obs.MainPlots}}
+	if p.Blocks > 1 {
+		d.Block = &analyze.Column{Name: p.BlockName, Values: obs.Blocks}
+	}
+	if a.Missing == 0 {
+		res, err := analyze.SplitPlotANOVA(d)
+		if err == nil {
+			if a.Comparisons, err = analyze.SplitPlotTukey(d, res, alpha); err != nil {
+				return a, err
+			}
+			a.SplitPlot = res
+			a.Method = fmt.Sprintf("the classical two-stratum ANOVA of a balanced split plot (every %s complete)", p.MainPlotWord())
+			return a, nil
+		}
+		if !errors.Is(err, analyze.ErrUnbalanced) {
+			return a, err
+		}
+	}
+	res, err := analyze.SplitPlotREML(d)
+	if err != nil {
+		return a, err
+	}
+	a.REML = res
+	a.Method = fmt.Sprintf("%d sub-plot value(s) are missing, so the two-stratum ANOVA (which needs every sub-plot) does not apply: a linear mixed model fitted by REML, %s fixed, %s random, F tests with %s df",
+		a.Missing, fixedTerms(d), design.Plural(p.MainPlotWord()), res.DFName)
+	return a, nil
+}
+
+func fixedTerms(d analyze.SplitPlot) string {
+	t := d.Whole.Name + ", " + d.Sub.Name + " and their interaction"
+	if d.Block != nil {
+		t = d.Block.Name + ", " + t
+	}
+	return t
+}
+
+// treatmentName names the factors of one stratum: the factor's name, or
+// the names joined by " × " for a factorial.
+func treatmentName(fs []design.Factor) string {
+	var n []string
+	for _, f := range fs {
+		n = append(n, f.Name)
+	}
+	return strings.Join(n, " × ")
+}
