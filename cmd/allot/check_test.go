@@ -1,6 +1,7 @@
 package main
 
 import (
+	"archive/zip"
 	"bytes"
 	"os"
 	"path/filepath"
@@ -64,9 +65,20 @@ func TestCheckRun(t *testing.T) {
 	}
 	os.WriteFile(csvPath, []byte(strings.Join(lines, "\n")+"\n"), 0o644)
 	code, out, _ = runArgs(t, "check", csvPath, "--plan", filepath.Join(dir, "trial.json"))
-	if code != 0 {
-		// "12,5" split by the CSV reader into two fields: 12 in height_cm, 5 in Notes.
+	if code != exitFailed || !strings.Contains(out, "line 2 has 9 fields where the header has 8") {
+		// "12,5" unquoted in a comma-separated file is two fields: a
+		// ragged row, reported by its line.
 		t.Errorf("csv: exit %d\n%s", code, out)
+	}
+	// The same values in the semicolon dialect of decimal-comma locales,
+	// with a byte-order mark and CRLF line ends.
+	for i := range lines {
+		lines[i] = strings.Replace(strings.ReplaceAll(strings.Replace(lines[i], ",12,5,", ",12|5,", 1), ",", ";"), "|", ",", 1)
+	}
+	os.WriteFile(csvPath, []byte("\xEF\xBB\xBF"+strings.Join(lines, "\r\n")+"\r\n"), 0o644)
+	code, out, _ = runArgs(t, "check", csvPath, "--plan", filepath.Join(dir, "trial.json"), "--decimal-comma")
+	if code != 0 || !strings.Contains(out, "height_cm: 6 of 6 units have a value") {
+		t.Errorf("semicolon csv: exit %d\n%s", code, out)
 	}
 	code, out, _ = runArgs(t, "check", csvPath)
 	if code != exitUsage {
@@ -78,14 +90,27 @@ func TestCheckBadInput(t *testing.T) {
 	dir := t.TempDir()
 	junk := filepath.Join(dir, "junk.xlsx")
 	os.WriteFile(junk, []byte("not a workbook"), 0o644)
+	// An OpenDocument file: a zip whose "mimetype" names the format.
+	ods := filepath.Join(dir, "x.ods")
+	{
+		out, _ := os.Create(ods)
+		zw := zip.NewWriter(out)
+		w, _ := zw.Create("mimetype")
+		w.Write([]byte("application/vnd.oasis.opendocument.spreadsheet"))
+		zw.Close()
+		out.Close()
+	}
 	tests := []struct {
 		args []string
 		want string
 	}{
 		{[]string{junk}, "cannot be read as an .xlsx workbook"},
-		{[]string{filepath.Join(dir, "x.ods")}, "give a workbook (.xlsx) or a CSV file"},
+		{[]string{filepath.Join(dir, "x.txt")}, "give a workbook (.xlsx) or a CSV file"},
+		{[]string{ods}, "is an OpenDocument spreadsheet (.ods); allot reads .xlsx: save a copy as Excel 2007-365 (.xlsx)"},
+		{[]string{dir}, "is a directory, not a workbook"},
 		{[]string{}, "check takes one FILE"},
-		{[]string{junk, "--plan", "p.json"}, "--plan p.json: a workbook carries its plan"},
+		{[]string{junk, "--plan", "p.json"}, "--plan p.json: open p.json"},
+		{[]string{junk, "--range", "h=5..1"}, "--range \"h=5..1\": the range is empty"},
 	}
 	for _, tt := range tests {
 		code, _, errs := runArgs(t, append([]string{"check"}, tt.args...)...)

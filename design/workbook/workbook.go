@@ -9,8 +9,12 @@
 //     seed, fingerprint, allot version, created time) and instructions.
 //   - "Entry": one row per unit below a frozen header row: Unit, the block
 //     column (RCBD), Position, Treatment, one column per factor (factorial
-//     plans), one column per response, Notes. Design columns are locked by
-//     sheet protection without a password; response and Notes cells are not.
+//     plans), one column per response, Status (empty, measured, lost or
+//     excluded), Reason, Notes. The header has a filter; the sheet is not
+//     protected (sorting a protected sheet fails in spreadsheet programs):
+//     the check compares every design cell with the stored plan instead.
+//     Unit IDs are numbers only when a spreadsheet keeps them exactly
+//     ("101"); "007", "+1" and the like are text.
 //   - "Map": each block as a row of positions with unit IDs and treatments.
 //   - "allot-data" (hidden): cell B1 the plan fingerprint, B2 the SHA-256 of
 //     the stored document, B3 the number of chunks, and from A4 down the
@@ -18,7 +22,9 @@
 //     characters (a cell holds 32,767). For a blind plan the document holds
 //     the plan without its seed, units without their treatment (−1) and
 //     "labels", each unit's code; B1 is the full plan's fingerprint, which
-//     a key file must reproduce. Another program may re-save the
+//     a key file must reproduce. A workbook filled by a simulation carries
+//     "simulated", its notice. Chunks are cut between characters (at most
+//     30,000 UTF-16 code units each), never inside one. Another program may re-save the
 //     sheet as merely hidden; reading does not depend on how hidden it is.
 package workbook
 
@@ -42,6 +48,8 @@ const (
 	headOrder     = "Measure order"
 	headSubsample = "Subsample"
 	headNotes     = "Notes"
+	headStatus    = "Status"
+	headReason    = "Reason"
 
 	chunkSize = 30000
 )
@@ -59,6 +67,10 @@ type stored struct {
 	Units json.RawMessage `json:"units"`
 	// Labels holds each unit's blind code (blind plans only).
 	Labels []string `json:"labels,omitempty"`
+	// Simulated is the notice of a workbook filled by a simulation (the
+	// demo), kept here under the checksum so that clearing the visible
+	// notice cannot make simulated values pass for measurements.
+	Simulated string `json:"simulated,omitempty"`
 }
 
 func digest(b []byte) string {

@@ -138,7 +138,7 @@ func TestMutations(t *testing.T) {
 		{name: "decimal comma accepted", opt: ReadOptions{DecimalComma: true}, clean: true, mutate: func(f *excelize.File) { f.SetCellStr(SheetEntry, "E5", "12,5") }},
 		{name: "number stored as text", mutate: func(f *excelize.File) { f.SetCellStr(SheetEntry, "E5", "12.5") }, sev: Warning, cell: "E5", msg: "number stored as text"},
 		{name: "out of range", mutate: func(f *excelize.File) { f.SetCellFloat(SheetEntry, "E5", 999, -1, 64) }, sev: Error, cell: "E5", msg: "outside the declared range 0..200"},
-		{name: "blank response", mutate: func(f *excelize.File) { f.SetCellValue(SheetEntry, "E5", nil) }, sev: Warning, msg: "1 unit(s) of treatment"},
+		{name: "blank response", mutate: func(f *excelize.File) { f.SetCellValue(SheetEntry, "E5", nil) }, sev: Warning, msg: "1 unit of treatment"},
 		{name: "unknown unit", mutate: func(f *excelize.File) { f.SetCellInt(SheetEntry, "A4", 999) }, sev: Error, cell: "A4", msg: `unit "999" is not in the plan`},
 		{name: "moved column", mutate: func(f *excelize.File) { f.SetCellStr(SheetEntry, "E1", "mass_g") }, fatal: `cell E1: header "mass_g" where "height_cm" belongs`},
 		{name: "plan sheet deleted", mutate: func(f *excelize.File) { f.DeleteSheet(SheetData) }, fatal: "hidden plan sheet is missing"},
@@ -412,7 +412,7 @@ func TestEntryHygiene(t *testing.T) {
 		t.Fatal(err)
 	}
 	dvs, err := f.GetDataValidations(SheetEntry)
-	if err != nil || len(dvs) != 2 || dvs[0].Sqref != "E2:E10" || dvs[0].Type != "decimal" {
+	if err != nil || len(dvs) != 3 || dvs[0].Sqref != "E2:E10" || dvs[0].Type != "decimal" || dvs[2].Type != "list" || dvs[2].Sqref != "G2:G10" {
 		t.Errorf("validations %+v %v", dvs, err)
 	}
 	panes, err := f.GetPanes(SheetEntry)
@@ -434,10 +434,15 @@ func TestEntryHygiene(t *testing.T) {
 			sheets += b.String()
 		}
 	}
-	for _, want := range []string{"<sheetProtection", `orientation="landscape"`, `fitToWidth="1"`} {
+	// Printing: one page wide, A4, header and footer; a filter on the
+	// header row and no protection (a protected sheet cannot be sorted).
+	for _, want := range []string{`<autoFilter ref="$A$1:$I$10"`, `fitToPage="true"`, `paperSize="9"`, `fitToWidth="1"`, `fitToHeight="0"`, "&amp;P of &amp;N", "Plan " + l.Plan.Fingerprint()[:12], `customHeight="1"`} {
 		if !strings.Contains(sheets, want) {
 			t.Errorf("worksheets lack %s", want)
 		}
+	}
+	if strings.Contains(sheets, "<sheetProtection") {
+		t.Error("a sheet is protected: sorting would fail")
 	}
 	vis, _ := f.GetSheetVisible(SheetData)
 	if vis {

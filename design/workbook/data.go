@@ -1,0 +1,214 @@
+package workbook
+
+import (
+	"encoding/json"
+	"fmt"
+	"strconv"
+	"unicode/utf8"
+
+	"github.com/allotproject/allot/design"
+
+	"github.com/xuri/excelize/v2"
+)
+
+// maxChunks bounds the chunk count read from cell B3 of the hidden sheet:
+// a document of this many full chunks is larger than any worksheet the
+// reader opens (UnzipXMLSizeLimit), so a larger count means an edited sheet.
+const maxChunks = UnzipXMLSizeLimit / chunkSize
+
+// chunks splits doc into pieces of at most limit UTF-16 code units (the
+// unit a spreadsheet cell's 32,767-character limit counts), cutting only
+// between characters, never inside a UTF-8 sequence or a surrogate pair.
+func chunks(doc string, limit int) []string {
+	var out []string
+	start, units := 0, 0
+	for i, r := range doc {
+		n := 1
+		if r >= 0x10000 {
+			n = 2
+		}
+		if units+n > limit {
+			out = append(out, doc[start:i])
+			start, units = i, 0
+		}
+		units += n
+	}
+	return append(out, doc[start:])
+}
+
+// storedDoc returns the hidden sheet's document for layout l: for a blind
+// plan the sealed plan, units without treatments and their codes.
+func storedDoc(l design.Layout, simulated string) ([]byte, error) {
+	st := stored{Plan: l.Plan.Canonical(), Simulated: simulated}
+	units := l.Units
+	if l.Plan.Blind {
+		// Keep the seed and the meaning of the codes out of the workbook:
+		// the key file has them.
+		st.Plan = l.Plan.Sealed().Canonical()
+		units = make([]design.Unit, len(l.Units))
+		for i, u := range l.Units {
+			u.Treatment = -1
+			units[i] = u
+			st.Labels = append(st.Labels, l.Label(l.Units[i]))
+		}
+	}
+	ub, err := json.Marshal(units)
+	if err != nil {
+		return nil, err
+	}
+	st.Units = ub
+	return json.Marshal(st)
+}
+
+func writeData(f *excelize.File, l design.Layout, simulated string) error {
+	doc, err := storedDoc(l, simulated)
+	if err != nil {
+		return err
+	}
+	return putDoc(f, l.Plan.Fingerprint(), doc, 0)
+}
+
+// putDoc writes the document, its checksum and its chunks to the hidden
+// sheet, clearing the old chunks beyond the new ones (old is their count).
+func putDoc(f *excelize.File, fingerprint string, doc []byte, old int) error {
+	w := &sheetWriter{f: f, sheet: SheetData}
+	cs := chunks(string(doc), chunkSize)
+	w.str(1, 1, "plan fingerprint")
+	w.str(2, 1, fingerprint)
+	w.str(1, 2, "document sha256")
+	w.str(2, 2, digest(doc))
+	w.str(1, 3, "chunks")
+	w.do(f.SetCellInt(SheetData, "B3", int64(len(cs))))
+	for i, c := range cs {
+		w.str(1, 4+i, c)
+	}
+	for i := len(cs); i < old; i++ {
+		w.do(f.SetCellValue(SheetData, cell(1, 4+i), nil))
+	}
+	return w.err
+}
+
+// dataSheet is what the hidden sheet holds, as read.
+type dataSheet struct {
+	layout design.Layout
+	labels []string // blind codes per unit (blind plans), else nil
+	st     stored
+	chunks int
+	// fromPlan is set when the hidden sheet was missing and the layout
+	// came from ReadOptions.Layout.
+	fromPlan bool
+}
+
+// readData reads the hidden sheet. It returns the layout and, for blind
+// plans, each unit's code; with a key the layout is unblinded (treatments
+// and seed restored) after the key is checked against the fingerprint.
+// When the sheet is missing, opt.Layout (the layout file the workbook was
+// made from) stands in for it.
+func readData(f *excelize.File, path string, opt ReadOptions) (dataSheet, error) {
+	fail := func(cell, msg string) error {
+		return &FileError{Path: path, Sheet: SheetData, Cell: cell, Msg: msg}
+	}
+	if idx, err := f.GetSheetIndex(SheetData); err != nil || idx < 0 {
+		if opt.Layout != nil {
+			return fromLayout(*opt.Layout, opt.Key)
+		}
+		return dataSheet{}, fail("", "the hidden plan sheet is missing (was the data pasted into a new workbook?), so the workbook cannot be matched to its plan; give the layout it was made from: allot check "+path+" --plan layout.json (written by allot layout -o layout.json)")
+	}
+	get := func(c string) (string, error) {
+		return f.GetCellValue(SheetData, c, excelize.Options{RawCellValue: true})
+	}
+	fp, err := get("B1")
+	if err != nil {
+		return dataSheet{}, fail("B1", "unreadable: "+err.Error())
+	}
+	sum, _ := get("B2")
+	b3, _ := get("B3")
+	n, err := strconv.Atoi(b3)
+	if err != nil || n < 1 || n > maxChunks {
+		return dataSheet{}, fail("B3", fmt.Sprintf("the chunk count %q is not a whole number from 1 to %d: the plan sheet was edited; use an unedited copy of the workbook", b3, maxChunks))
+	}
+	var doc []byte
+	for i := 0; i < n; i++ {
+		v, err := get(cell(1, 4+i))
+		if err != nil {
+			return dataSheet{}, fail(cell(1, 4+i), "unreadable: "+err.Error())
+		}
+		doc = append(doc, v...)
+	}
+	if digest(doc) != sum {
+		return dataSheet{}, fail("A4", "the stored plan does not match its checksum in B2: the plan sheet was edited; use an unedited copy of the workbook")
+	}
+	if !utf8.Valid(doc) {
+		return dataSheet{}, fail("A4", "the stored plan is not valid UTF-8 text: the plan sheet was damaged; use an unedited copy")
+	}
+	var st stored
+	if err := json.Unmarshal(doc, &st); err != nil {
+		return dataSheet{}, fail("A4", "the stored plan is not valid JSON: "+err.Error())
+	}
+	p, err := design.ParsePlan(st.Plan)
+	if err != nil {
+		return dataSheet{}, fail("A4", "the stored plan is not valid: "+err.Error())
+	}
+	var units []design.Unit
+	if err := json.Unmarshal(st.Units, &units); err != nil {
+		return dataSheet{}, fail("A4", "the stored units are not valid JSON: "+err.Error())
+	}
+	ds := dataSheet{st: st, chunks: n}
+	l := design.Layout{Plan: p, Units: units}
+	if opt.Layout != nil && opt.Layout.Plan.Fingerprint() != fp {
+		return dataSheet{}, fail("B1", fmt.Sprintf("the workbook's plan (fingerprint %.12s) is not the one in --plan (%.12s); give the layout this workbook was written from, or leave --plan out", fp, opt.Layout.Plan.Fingerprint()))
+	}
+	if !p.Blind {
+		if p.Fingerprint() != fp {
+			return dataSheet{}, fail("B1", "the plan fingerprint does not match the stored plan: the plan sheet was edited")
+		}
+		if err := l.Check(); err != nil {
+			return dataSheet{}, fail("A4", "the stored layout is inconsistent: "+err.Error())
+		}
+		ds.layout = l
+		return ds, nil
+	}
+	if len(st.Labels) != len(units) {
+		return dataSheet{}, fail("A4", "the stored blind codes do not match the units: the plan sheet was edited")
+	}
+	ds.labels = st.Labels
+	if opt.Key == nil {
+		ds.layout = l
+		return ds, nil
+	}
+	key := opt.Key
+	// Unblind: the key's seed must reproduce the full plan's fingerprint.
+	full := p
+	full.Seed = key.Seed
+	if key.Fingerprint != fp || full.Fingerprint() != fp {
+		return dataSheet{}, fail("B1", "the key belongs to another plan (its fingerprint and seed do not reproduce this workbook's); give the key file written with this layout")
+	}
+	byCode := map[string]int{}
+	for t, c := range key.Codes {
+		byCode[c] = t
+	}
+	for i := range units {
+		t, ok := byCode[st.Labels[i]]
+		if !ok {
+			return dataSheet{}, fail("A4", fmt.Sprintf("unit %s has code %q, which the key does not know", units[i].ID, st.Labels[i]))
+		}
+		units[i].Treatment = t
+	}
+	l = design.Layout{Plan: full, Units: units, Codes: key.Codes}
+	if err := l.Check(); err != nil {
+		return dataSheet{}, fail("A4", "the unblinded layout is inconsistent: "+err.Error())
+	}
+	ds.layout = l
+	return ds, nil
+}
+
+// fromLayout stands a layout file in for a lost hidden sheet.
+func fromLayout(l design.Layout, key *design.Key) (dataSheet, error) {
+	ds := dataSheet{layout: l, fromPlan: true}
+	if l.Plan.Blind {
+		for _, u := range l.Units {
+			ds.labels = append(ds.labels, l.Label(u))
+		}
+	}
+	return ds, nil
+}
