@@ -54,11 +54,18 @@ func build(l design.Layout, meta Meta) (*excelize.File, error) {
 		}
 	}
 	steps := []func() error{
+		// Hide the plan sheet first: SetSheetVisible reads every sheet in,
+		// which for the streamed Entry sheet would mean parsing it again.
+		func() error { return f.SetSheetVisible(SheetData, false, true) },
+		func() error {
+			idx, err := f.GetSheetIndex(SheetEntry)
+			f.SetActiveSheet(idx)
+			return err
+		},
 		func() error { return writeStudy(f, l, meta, pg) },
 		func() error { return writeEntry(f, l, meta, pg) },
 		func() error { return writeMap(f, l, meta, pg) },
 		func() error { return writeData(f, l, "") },
-		func() error { return f.SetSheetVisible(SheetData, false, true) },
 	}
 	for _, step := range steps {
 		if err := step(); err != nil {
@@ -66,12 +73,6 @@ func build(l design.Layout, meta Meta) (*excelize.File, error) {
 			return nil, fmt.Errorf("workbook: %w", err)
 		}
 	}
-	idx, err := f.GetSheetIndex(SheetEntry)
-	if err != nil {
-		f.Close()
-		return nil, fmt.Errorf("workbook: %w", err)
-	}
-	f.SetActiveSheet(idx)
 	return f, nil
 }
 
