@@ -142,6 +142,42 @@ func TestMutations(t *testing.T) {
 		{name: "unknown unit", mutate: func(f *excelize.File) { f.SetCellInt(SheetEntry, "A4", 999) }, sev: Error, cell: "A4", msg: `unit "999" is not in the plan`},
 		{name: "moved column", mutate: func(f *excelize.File) { f.SetCellStr(SheetEntry, "E1", "mass_g") }, fatal: `cell E1: header "mass_g" where "height_cm" belongs`},
 		{name: "plan sheet deleted", mutate: func(f *excelize.File) { f.DeleteSheet(SheetData) }, fatal: "hidden plan sheet is missing"},
+		{name: "date cell", mutate: func(f *excelize.File) {
+			st, _ := f.NewStyle(&excelize.Style{NumFmt: 14})
+			f.SetCellFloat(SheetEntry, "E5", 45000, -1, 64)
+			f.SetCellStyle(SheetEntry, "E5", "E5", st)
+		}, sev: Error, cell: "E5", msg: "formatted as a date"},
+		{name: "custom date format", mutate: func(f *excelize.File) {
+			code := `dd"."mm"."yyyy`
+			st, _ := f.NewStyle(&excelize.Style{CustomNumFmt: &code})
+			f.SetCellStyle(SheetEntry, "E5", "E5", st)
+		}, sev: Error, cell: "E5", msg: "formatted as a date"},
+		{name: "formula without a saved result", mutate: func(f *excelize.File) {
+			f.SetCellValue(SheetEntry, "E5", nil)
+			f.SetCellFormula(SheetEntry, "E5", "E4*2")
+		}, sev: Error, cell: "E5", msg: "formula =E4*2 without a saved result"},
+		{name: "TRUE/FALSE cell", mutate: func(f *excelize.File) { f.SetCellBool(SheetEntry, "E5", true) }, sev: Error, cell: "E5", msg: "TRUE/FALSE cell"},
+		{name: "NaN text", mutate: func(f *excelize.File) { f.SetCellStr(SheetEntry, "E5", "NaN") }, sev: Error, cell: "E5", msg: "is NaN"},
+		{name: "Inf text", mutate: func(f *excelize.File) { f.SetCellStr(SheetEntry, "E5", "-Inf") }, sev: Error, cell: "E5", msg: "is an infinity"},
+		{name: "hex text", mutate: func(f *excelize.File) { f.SetCellStr(SheetEntry, "E5", "0x10") }, sev: Error, cell: "E5", msg: "hexadecimal"},
+		{name: "range given on check", opt: ReadOptions{Ranges: map[string]Range{"height_cm": {Min: f64(0), Max: f64(1000)}}}, mutate: func(f *excelize.File) { f.SetCellFloat(SheetEntry, "E5", 999, -1, 64) }, sev: Warning, msg: "checked against the range 0..1000 given with --range, not the plan's 0..200"},
+		{name: "status lost with a reason", mutate: func(f *excelize.File) {
+			f.SetCellValue(SheetEntry, "E5", nil)
+			f.SetCellValue(SheetEntry, "F5", nil)
+			f.SetCellStr(SheetEntry, "G5", "lost")
+			f.SetCellStr(SheetEntry, "H5", "pot knocked over")
+		}, sev: Warning, msg: "Status: 1 unit lost and 0 units excluded"},
+		{name: "status lost without a reason", mutate: func(f *excelize.File) {
+			f.SetCellValue(SheetEntry, "E5", nil)
+			f.SetCellValue(SheetEntry, "F5", nil)
+			f.SetCellStr(SheetEntry, "G5", "Lost")
+		}, sev: Error, cell: "H5", msg: "is lost but the Reason is empty"},
+		{name: "status lost with a value", mutate: func(f *excelize.File) {
+			f.SetCellStr(SheetEntry, "G5", "lost")
+			f.SetCellStr(SheetEntry, "H5", "died")
+		}, sev: Error, cell: "E5", msg: "is lost but has the value"},
+		{name: "status unknown word", mutate: func(f *excelize.File) { f.SetCellStr(SheetEntry, "G5", "dead") }, sev: Error, cell: "G5", msg: `Status "dead": must be empty, measured, lost or excluded`},
+		{name: "chunk count huge", mutate: func(f *excelize.File) { f.SetCellStr(SheetData, "B3", "1000000000000") }, fatal: "is not a whole number from 1 to"},
 		{name: "plan JSON edited", mutate: func(f *excelize.File) {
 			v, _ := f.GetCellValue(SheetData, "A4")
 			f.SetCellStr(SheetData, "A4", strings.Replace(v, `"seed":17`, `"seed":18`, 1))
