@@ -3,6 +3,7 @@ package main
 import (
 	"archive/zip"
 	"bytes"
+	"encoding/json"
 	"os"
 	"path/filepath"
 	"strings"
@@ -14,11 +15,12 @@ import (
 func TestCheckParse(t *testing.T) {
 	var got *checkOptions
 	cmd := newCheckCmd(&streams{Out: &bytes.Buffer{}, Err: &bytes.Buffer{}}, func(o *checkOptions) error { got = o; return nil })
-	cmd.SetArgs([]string{"data.csv", "--plan", "layout.json", "--decimal-comma", "--key", "k.json", "--json"})
+	cmd.SetArgs([]string{"data.csv", "--plan", "layout.json", "--decimal-comma", "--key", "k.json", "--json", "--range", "h=0..300", "--range", "w=1..", "--convert"})
 	if err := cmd.Execute(); err != nil {
 		t.Fatal(err)
 	}
-	if got.file != "data.csv" || got.plan != "layout.json" || !got.decimalComma || got.key != "k.json" || !got.json {
+	if got.file != "data.csv" || got.plan != "layout.json" || !got.decimalComma || got.key != "k.json" || !got.json ||
+		strings.Join(got.ranges, " ") != "h=0..300 w=1.." || !got.convert {
 		t.Errorf("%+v", got)
 	}
 }
@@ -117,5 +119,53 @@ func TestCheckBadInput(t *testing.T) {
 		if code != exitUsage || !strings.Contains(errs, tt.want) {
 			t.Errorf("%v: exit %d, %q; want 2 and %q", tt.args, code, errs, tt.want)
 		}
+	}
+}
+
+// TestCheckRecovery: a workbook that lost its plan sheet is checked against
+// --plan; a value outside the range is accepted with --range, and the JSON
+// names its format.
+func TestCheckRecovery(t *testing.T) {
+	dir := t.TempDir()
+	layoutFiles(t, dir)
+	wb := filepath.Join(dir, "trial.xlsx")
+	f, err := excelize.OpenFile(wb)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for r := 2; r <= 7; r++ {
+		f.SetCellFloat("Entry", "E"+string(rune('0'+r)), float64(10*r)+0.5, -1, 64)
+	}
+	f.SetCellFloat("Entry", "E3", 150, -1, 64) // the plan's range is 0..100
+	f.DeleteSheet("allot-data")
+	f.SaveAs(wb)
+	code, _, errs := runArgs(t, "check", wb)
+	if code != exitUsage || !strings.Contains(errs, "--plan layout.json") {
+		t.Errorf("without --plan: exit %d %s", code, errs)
+	}
+	plan := filepath.Join(dir, "trial.json")
+	code, out, _ := runArgs(t, "check", wb, "--plan", plan)
+	if code != exitFailed || !strings.Contains(out, `the hidden plan sheet "allot-data" is missing`) || !strings.Contains(out, "--range height_cm=MIN..MAX") {
+		t.Errorf("with --plan: exit %d\n%s", code, out)
+	}
+	code, out, _ = runArgs(t, "check", wb, "--plan", plan, "--range", "height_cm=0..200", "--json")
+	var m map[string]any
+	if code != 0 || json.Unmarshal([]byte(out), &m) != nil || m["format"] != "allot.check/v1" || m["errors"] != 0.0 {
+		t.Errorf("with --range: exit %d\n%s", code, out)
+	}
+	if !strings.Contains(out, "given with --range, not the plan's 0..100") {
+		t.Errorf("the override is not reported:\n%s", out)
+	}
+	code, _, errs = runArgs(t, "check", wb, "--plan", plan, "--range", "nosuch=0..1")
+	if code != exitUsage || !strings.Contains(errs, "--range nosuch: the plan has no such response") {
+		t.Errorf("unknown --range: exit %d %s", code, errs)
+	}
+	key := filepath.Join(dir, "key.json")
+	if code, _, errs := runArgs(t, "layout", "--factor", "feed=F0,F1", "--blind", "--key", key, "--reps", "2", "--seed", "3"); code != 0 {
+		t.Fatal(errs)
+	}
+	code, _, errs = runArgs(t, "check", wb, "--plan", plan, "--key", key)
+	if code != exitUsage || !strings.Contains(errs, "is not blind, so it has no key") {
+		t.Errorf("--key on an open layout: exit %d %s", code, errs)
 	}
 }

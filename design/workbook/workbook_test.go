@@ -285,10 +285,7 @@ func TestNotAWorkbook(t *testing.T) {
 // TestLibreOfficeRoundTrip re-saves a filled workbook in another
 // spreadsheet program and reads it back: the data must be identical.
 func TestLibreOfficeRoundTrip(t *testing.T) {
-	lo, err := exec.LookPath("libreoffice")
-	if err != nil {
-		t.Skip("libreoffice not installed (Debian package libreoffice-calc-nogui; .ci/run installs it): skipping the re-save check")
-	}
+	lo := needLibreOffice(t)
 	l := testLayout(t, false)
 	path, f := filled(t, l)
 	save(t, f, path)
