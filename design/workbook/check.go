@@ -28,6 +28,7 @@ type checker struct {
 	// cellInfo tells what a cell holds besides its text (nil for CSV,
 	// where every cell is text and a number in text is normal).
 	cellInfo func(ref string) cellInfo
+	label    func(design.Unit) string
 	out      *Filled
 }
 
@@ -36,6 +37,7 @@ func newChecker(path, sheet string, l design.Layout, labels []string, opt ReadOp
 	k := &checker{path: path, sheet: sheet, l: l, labels: labels, opt: opt, c: layoutColumns(p), tr: p.Treatments(),
 		index: make(map[string]int, len(l.Units)), seen: make(map[string]string, len(l.Units)), out: &Filled{Layout: l}}
 	k.nd = k.c.designCount(p)
+	k.label = labeller(l)
 	for i, u := range l.Units {
 		k.index[u.ID] = i
 	}
@@ -228,7 +230,7 @@ func (k *checker) designCells(ui, sub int, at func(int) string, ref func(int) st
 	if k.labels != nil {
 		label = k.labels[ui]
 	} else {
-		label = k.l.Label(u)
+		label = k.label(u)
 	}
 	want := designCells(k.c, u, sub, label, k.tr)
 	for j := 1; j < len(want); j++ {

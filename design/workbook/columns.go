@@ -198,3 +198,19 @@ func wide(r rune) bool {
 		(r >= 0xF900 && r <= 0xFAFF) || (r >= 0xFE30 && r <= 0xFE4F) || (r >= 0xFF00 && r <= 0xFF60) ||
 		(r >= 0xFFE0 && r <= 0xFFE6) || (r >= 0x1F300 && r <= 0x1FAFF) || (r >= 0x20000 && r <= 0x3FFFD))
 }
+
+// labeller returns what each unit's row shows as its treatment (the name,
+// or the blind code), without rebuilding the plan's treatments per unit as
+// Layout.Label does.
+func labeller(l design.Layout) func(design.Unit) string {
+	if l.Plan.Blind {
+		return l.Label
+	}
+	tr := l.Plan.Treatments()
+	return func(u design.Unit) string {
+		if u.Treatment < 0 || u.Treatment >= len(tr) {
+			return ""
+		}
+		return tr[u.Treatment].Name
+	}
+}

@@ -32,10 +32,11 @@ func WriteCSV(w io.Writer, l design.Layout) error {
 		return err
 	}
 	tr := p.Treatments()
+	label := labeller(l)
 	blank := make([]string, len(head)-c.designCount(p))
 	for _, u := range l.Units {
 		for sub := 1; sub <= c.rowsPer(); sub++ {
-			row := append(designCells(c, u, sub, l.Label(u), tr), blank...)
+			row := append(designCells(c, u, sub, label(u), tr), blank...)
 			if err := cw.Write(escapeRow(row)); err != nil {
 				return err
 			}

@@ -125,3 +125,32 @@ func TestPrintedPages(t *testing.T) {
 	}
 	os.Remove(pdf)
 }
+
+// TestConvert saves a filled workbook as .ods with LibreOffice, as a user of
+// another spreadsheet program would, and reads it back through Convert.
+func TestConvert(t *testing.T) {
+	lo := needLibreOffice(t)
+	l := testLayout(t, false)
+	path, f := filled(t, l)
+	save(t, f, path)
+	dir := t.TempDir()
+	cmd := exec.Command(lo, "--headless", "--norestore", "-env:UserInstallation=file://"+t.TempDir(), "--convert-to", "ods", "--outdir", dir, path)
+	if b, err := cmd.CombinedOutput(); err != nil {
+		t.Fatalf("libreoffice: %v\n%s", err, b)
+	}
+	ods := filepath.Join(dir, "trial.ods")
+	if _, err := Read(ods, ReadOptions{}); err == nil || !strings.Contains(err.Error(), "--convert") {
+		t.Fatalf("reading .ods: %v", err)
+	}
+	xlsx, err := Convert(ods, t.TempDir())
+	if err != nil {
+		t.Fatal(err)
+	}
+	fl, err := Read(xlsx, ReadOptions{})
+	if err != nil || len(fl.Problems) != 0 {
+		t.Fatalf("%v %v", err, fl.Problems)
+	}
+	if fl.Values[1][2].Text != "1000000000002.4" {
+		t.Errorf("mass of unit 3 after .ods and back: %q", fl.Values[1][2].Text)
+	}
+}

@@ -40,8 +40,9 @@ func writeMap(f *excelize.File, l design.Layout, meta Meta, pg page) error {
 			tint[t] = w.newStyle(&excelize.Style{Alignment: align, Border: border, Fill: excelize.Fill{Type: "pattern", Pattern: 1, Color: []string{mapTints[t]}}})
 		}
 	}
+	label := labeller(l)
 	text := func(u design.Unit) string {
-		s := u.ID + "\n" + l.Label(u)
+		s := u.ID + "\n" + label(u)
 		if u.Order > 0 {
 			s += fmt.Sprintf("\n#%d", u.Order)
 		}

@@ -247,8 +247,9 @@ func entryWidths(l design.Layout, c columns, heads []string) []float64 {
 		w[i] = min(textWidth(h)+3, 24)
 	}
 	tr := p.Treatments()
+	label := labeller(l)
 	for _, u := range l.Units {
-		for j, v := range designCells(c, u, 1, l.Label(u), tr) {
+		for j, v := range designCells(c, u, 1, label(u), tr) {
 			w[j] = max(w[j], textWidth(v)+3)
 		}
 	}
@@ -349,13 +350,14 @@ func writeEntry(f *excelize.File, l design.Layout, meta Meta, pg page) error {
 		return err
 	}
 	tr := p.Treatments()
+	label := labeller(l)
 	row := 1
 	vals := make([]any, len(heads))
 	nr := nd + len(p.Responses)
 	for _, u := range l.Units {
 		for sub := 1; sub <= c.rowsPer(); sub++ {
 			row++
-			for j, v := range designCells(c, u, sub, l.Label(u), tr) {
+			for j, v := range designCells(c, u, sub, label(u), tr) {
 				// Numbers where a spreadsheet keeps them exactly; IDs such
 				// as 007 and all names are text.
 				if n, ok := integerText(v); ok && c.numeric(j, nd) {
