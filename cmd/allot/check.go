@@ -42,8 +42,11 @@ func newCheckCmd(s *streams, runF func(*checkOptions) error) *cobra.Command {
 		Long: `Read a filled data-entry workbook, verify its embedded plan against its
 fingerprint, match rows by unit ID (sorting and filtering are harmless) and
 report, by sheet and cell: missing, duplicated or unknown units, edited design
-cells, text in a response cell, numbers stored as text, decimal commas,
-values outside the declared range and blank responses. The file is only read.
+cells, text in a response cell (NaN, Inf, hexadecimal numbers, TRUE/FALSE),
+cells formatted as dates, formulas without a saved result, numbers stored as
+text, decimal commas, values outside the declared range, blank responses, and
+the Status column (measured, lost or excluded; lost and excluded need a
+Reason). The file is only read.
 
 A CSV export needs the layout it came from: --plan layout.json; so does a
 workbook whose hidden plan sheet was lost (data pasted into a new workbook).
