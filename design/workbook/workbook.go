@@ -10,12 +10,19 @@
 //   - "Entry": one row per unit below a frozen header row: Unit, the block
 //     column (RCBD), Position, Treatment, one column per factor (factorial
 //     plans), one column per response, Status (empty, measured, lost or
-//     excluded), Reason, Notes. The header has a filter; the sheet is not
+//     excluded; with subsamples, a Status on any of a unit's rows is the
+//     unit's), Reason, Notes. The header has a filter; the sheet is not
 //     protected (sorting a protected sheet fails in spreadsheet programs):
 //     the check compares every design cell with the stored plan instead.
 //     Unit IDs are numbers only when a spreadsheet keeps them exactly
 //     ("101"); "007", "+1" and the like are text.
-//   - "Map": each block as a row of positions with unit IDs and treatments.
+//   - "Map": a legend, then each block as its grid (or a row of positions)
+//     with unit IDs and treatments (or codes), tinted by treatment unless
+//     blind, rows tall enough to show both lines.
+//
+// Every visible sheet is set up to print (see setupPrint): A4 or letter,
+// one page wide, landscape when the columns need it, the title and plan ID
+// in the page header and page numbers in the footer.
 //   - "allot-data" (hidden): cell B1 the plan fingerprint, B2 the SHA-256 of
 //     the stored document, B3 the number of chunks, and from A4 down the
 //     JSON document {"plan":…, "units":…} in chunks of at most 30,000

@@ -482,3 +482,57 @@ func TestEntryHygiene(t *testing.T) {
 		t.Error("the plan sheet is visible")
 	}
 }
+
+// TestMapAndStudySheets: the Map sheet shows each place's unit ID and
+// treatment in rows tall enough for both lines, with a legend; the Study
+// sheet wraps its long lines.
+func TestMapAndStudySheets(t *testing.T) {
+	l := testLayout(t, false)
+	path := filepath.Join(t.TempDir(), "m.xlsx")
+	if err := Write(path, l, Meta{Version: "test", Paper: PaperLetter}, false); err != nil {
+		t.Fatal(err)
+	}
+	f, err := excelize.OpenFile(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	rows, _ := f.GetRows(SheetMap)
+	var legend []string
+	for r, row := range rows {
+		if len(row) > 1 && row[0] == "Legend" {
+			for k := r; k < len(rows) && len(rows[k]) > 1 && rows[k][1] != ""; k++ {
+				legend = append(legend, rows[k][1])
+			}
+		}
+	}
+	places := 0
+	for r, row := range rows {
+		for _, v := range row {
+			if strings.Contains(v, "\n") {
+				places++
+				h, _ := f.GetRowHeight(SheetMap, r+1)
+				if h < 30 {
+					t.Errorf("Map row %d is %v pt high: the treatment under the ID is hidden", r+1, h)
+				}
+			}
+		}
+	}
+	if places != len(l.Units) {
+		t.Errorf("%d places on the Map sheet for %d units", places, len(l.Units))
+	}
+	if strings.Join(legend, " ") != "F0 F1 F2" {
+		t.Errorf("legend %q", legend)
+	}
+	ps, _ := f.GetPageLayout(SheetMap)
+	if ps.Size == nil || *ps.Size != 1 || ps.FitToWidth == nil || *ps.FitToWidth != 1 {
+		t.Errorf("Map page setup %+v: want letter (1), one page wide", ps)
+	}
+	st, _ := f.GetCellStyle(SheetStudy, "B4")
+	if s, _ := f.GetStyle(st); s == nil || s.Alignment == nil || !s.Alignment.WrapText {
+		t.Error("Study text does not wrap")
+	}
+	head, _ := f.GetCellValue(SheetStudy, "B4")
+	if head != "randomised complete block design, 3 benches" {
+		t.Errorf("Study design line %q", head)
+	}
+}
