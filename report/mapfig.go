@@ -2,6 +2,8 @@ package report
 
 import (
 	"bytes"
+	"encoding/binary"
+	"hash/crc32"
 	"fmt"
 	"image"
 	"image/color"
@@ -422,11 +424,34 @@ func renderPages(figs []Figure, format string) ([]byte, error) {
 		}
 		c := vgimg.NewWith(vgimg.UseWH(figs[0].w, figs[0].h), vgimg.UseDPI(dpi))
 		figs[0].paint(draw.New(c))
-		_, err = vgimg.PngCanvas{Canvas: c}.WriteTo(&b)
+		if _, err = (vgimg.PngCanvas{Canvas: c}).WriteTo(&b); err == nil {
+			return withDPI(b.Bytes(), dpi), nil
+		}
 	default:
 		return nil, fmt.Errorf("report: unknown figure format %q", format)
 	}
 	return b.Bytes(), err
+}
+
+// withDPI adds a pHYs chunk (PNG specification, 11.3.5.3) saying the
+// image has dpi pixels per inch, so that it prints at its size; the chunk
+// goes right after IHDR, which fills bytes 8 to 33.
+func withDPI(png []byte, dpi int) []byte {
+	if len(png) < 33 || string(png[12:16]) != "IHDR" {
+		return png
+	}
+	ppm := uint32(float64(dpi)/0.0254 + 0.5)
+	chunk := make([]byte, 0, 21)
+	chunk = binary.BigEndian.AppendUint32(chunk, 9)
+	chunk = append(chunk, "pHYs"...)
+	chunk = binary.BigEndian.AppendUint32(chunk, ppm)
+	chunk = binary.BigEndian.AppendUint32(chunk, ppm)
+	chunk = append(chunk, 1) // unit: metre
+	chunk = binary.BigEndian.AppendUint32(chunk, crc32.ChecksumIEEE(chunk[4:]))
+	out := make([]byte, 0, len(png)+len(chunk))
+	out = append(out, png[:33]...)
+	out = append(out, chunk...)
+	return append(out, png[33:]...)
 }
 
 // flipped returns img upside down: vgpdf places an image with its first

@@ -91,6 +91,10 @@ func TestMapPNGAt300DPI(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
+	// pHYs: 11811 pixels per metre (300 dpi) both ways, unit metre.
+	if i := bytes.Index(b, []byte("pHYs")); i < 0 || !bytes.Equal(b[i+4:i+13], []byte{0, 0, 0x2e, 0x23, 0, 0, 0x2e, 0x23, 1}) {
+		t.Error("PNG does not say 300 dpi (pHYs chunk)")
+	}
 	// A4 is 8.27 × 11.69 in: 2480 × 3508 pixels at 300 dpi.
 	if r := img.Bounds(); r.Dx() != 2480 || r.Dy() != 3508 {
 		t.Errorf("PNG %d × %d pixels, want 2480 × 3508 (A4 at 300 dpi)", r.Dx(), r.Dy())
