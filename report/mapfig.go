@@ -3,8 +3,8 @@ package report
 import (
 	"bytes"
 	"encoding/binary"
-	"hash/crc32"
 	"fmt"
+	"hash/crc32"
 	"image"
 	"image/color"
 	"io"
