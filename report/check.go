@@ -62,8 +62,15 @@ const CheckFormat = "allot.check/v1"
 // CheckJSON writes the check result as JSON: "format" (CheckFormat), the
 // file, the plan's fingerprint, units, whether the workbook is blind and
 // sealed, the error count, every problem, values and missing per response,
-// the units marked lost and excluded, and whether the data are simulated.
+// the counts of units marked lost and excluded and each of them ("losses":
+// unit, status, reason, cell), and whether the data are simulated.
 func CheckJSON(w io.Writer, path string, fl *workbook.Filled) error {
+	type loss struct {
+		Unit   string `json:"unit"`
+		Status string `json:"status"`
+		Reason string `json:"reason"`
+		Cell   string `json:"cell"`
+	}
 	type resp struct {
 		Name    string `json:"name"`
 		Values  int    `json:"values"`
@@ -80,6 +87,7 @@ func CheckJSON(w io.Writer, path string, fl *workbook.Filled) error {
 		Responses   []resp             `json:"responses"`
 		Lost        int                `json:"lost"`
 		Excluded    int                `json:"excluded"`
+		Losses      []loss             `json:"losses"`
 		Simulated   bool               `json:"simulated"`
 	}{Format: CheckFormat, File: path, Simulated: fl.Simulated(), Fingerprint: fl.Layout.Plan.Fingerprint(), Units: len(fl.Layout.Units), Sealed: fl.Sealed, Errors: fl.Errors(), Problems: fl.Problems}
 	if out.Problems == nil {
@@ -96,13 +104,17 @@ func CheckJSON(w io.Writer, path string, fl *workbook.Filled) error {
 		}
 		out.Responses = append(out.Responses, rr)
 	}
-	for _, st := range fl.Status {
+	out.Losses = []loss{}
+	for i, st := range fl.Status {
 		switch st.Status {
 		case workbook.StatusLost:
 			out.Lost++
 		case workbook.StatusExcluded:
 			out.Excluded++
+		default:
+			continue
 		}
+		out.Losses = append(out.Losses, loss{Unit: fl.Layout.Units[i].ID, Status: st.Status, Reason: st.Reason, Cell: st.Cell})
 	}
 	enc := json.NewEncoder(w)
 	enc.SetIndent("", "  ")

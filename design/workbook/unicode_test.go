@@ -244,3 +244,14 @@ func FuzzReadCSV(f *testing.F) {
 		}
 	})
 }
+
+func TestInvalidTextRefused(t *testing.T) {
+	for _, id := range []string{"a\xffb", "bell\x07"} {
+		l := testLayout(t, false)
+		l.Units[0].ID = id
+		err := Write(filepath.Join(t.TempDir(), "x.xlsx"), l, meta, false)
+		if err == nil || !strings.Contains(err.Error(), "unit ID") {
+			t.Errorf("%q: got %v", id, err)
+		}
+	}
+}

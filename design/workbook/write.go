@@ -6,6 +6,7 @@ import (
 	"strconv"
 	"strings"
 	"time"
+	"unicode/utf8"
 
 	"github.com/allotproject/allot/design"
 	"github.com/allotproject/allot/internal/atomicfile"
@@ -44,6 +45,9 @@ func build(l design.Layout, meta Meta) (*excelize.File, error) {
 	if err != nil {
 		return nil, err
 	}
+	if err := checkText(l); err != nil {
+		return nil, err
+	}
 	f := excelize.NewFile()
 	if err := f.SetSheetName("Sheet1", SheetStudy); err != nil {
 		return nil, err
@@ -74,6 +78,55 @@ func build(l design.Layout, meta Meta) (*excelize.File, error) {
 		}
 	}
 	return f, nil
+}
+
+// checkText refuses names a sheet cannot hold: text that is not UTF-8, or
+// that has control characters other than tab and line break (XML 1.0 has
+// no way to write them).
+func checkText(l design.Layout) error {
+	p := l.Plan
+	bad := func(s string) bool {
+		if !utf8.ValidString(s) {
+			return true
+		}
+		for _, r := range s {
+			if r < 0x20 && r != '\t' && r != '\n' || r == 0xFFFE || r == 0xFFFF {
+				return true
+			}
+		}
+		return false
+	}
+	check := func(what, s string) error {
+		if bad(s) {
+			return fmt.Errorf("workbook: %s %q is not valid text (not UTF-8, or a control character); correct it in the plan", what, s)
+		}
+		return nil
+	}
+	texts := [][2]string{{"the title", p.Title}, {"the block name", p.BlockName}, {"the control", p.Control}}
+	for _, f := range p.Factors {
+		texts = append(texts, [2]string{"factor", f.Name})
+		for _, lv := range f.Levels {
+			texts = append(texts, [2]string{"level", lv})
+		}
+	}
+	for _, r := range p.Responses {
+		texts = append(texts, [2]string{"response", r.Name})
+	}
+	for _, c := range l.Codes {
+		texts = append(texts, [2]string{"blind code", c})
+	}
+	for _, u := range p.Units {
+		texts = append(texts, [2]string{"block label", u.BlockLabel})
+	}
+	for _, u := range l.Units {
+		texts = append(texts, [2]string{"unit ID", u.ID})
+	}
+	for _, t := range texts {
+		if err := check(t[0], t[1]); err != nil {
+			return err
+		}
+	}
+	return nil
 }
 
 // sheetWriter collects the first error of a run of excelize calls, so that
