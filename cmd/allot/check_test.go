@@ -137,6 +137,9 @@ func TestCheckRecovery(t *testing.T) {
 		f.SetCellFloat("Entry", "E"+string(rune('0'+r)), float64(10*r)+0.5, -1, 64)
 	}
 	f.SetCellFloat("Entry", "E3", 150, -1, 64) // the plan's range is 0..100
+	f.SetCellValue("Entry", "E4", nil)
+	f.SetCellStr("Entry", "F4", "lost")
+	f.SetCellStr("Entry", "G4", "tray dropped")
 	f.DeleteSheet("allot-data")
 	f.SaveAs(wb)
 	code, _, errs := runArgs(t, "check", wb)
@@ -152,6 +155,9 @@ func TestCheckRecovery(t *testing.T) {
 	var m map[string]any
 	if code != 0 || json.Unmarshal([]byte(out), &m) != nil || m["format"] != "allot.check/v1" || m["errors"] != 0.0 {
 		t.Errorf("with --range: exit %d\n%s", code, out)
+	}
+	if m["lost"] != 1.0 || !strings.Contains(out, `"reason": "tray dropped"`) || !strings.Contains(out, `"cell": "Entry!F4"`) {
+		t.Errorf("losses not in the JSON:\n%s", out)
 	}
 	if !strings.Contains(out, "given with --range, not the plan's 0..100") {
 		t.Errorf("the override is not reported:\n%s", out)
