@@ -176,30 +176,43 @@ func readData(f *excelize.File, path string, opt ReadOptions) (dataSheet, error)
 		ds.layout = l
 		return ds, nil
 	}
-	key := opt.Key
-	// Unblind: the key's seed must reproduce the full plan's fingerprint.
-	full := p
+	if ds.layout, err = unblind(l, st.Labels, fp, opt.Key); err != nil {
+		return dataSheet{}, &FileError{Path: path, Sheet: SheetData, Cell: err.(*cellError).cell, Msg: err.Error()}
+	}
+	return ds, nil
+}
+
+// cellError is an error found in a cell of the hidden sheet.
+type cellError struct{ cell, msg string }
+
+func (e *cellError) Error() string { return e.msg }
+
+// unblind restores the treatments and seed of a blind layout l (codes per
+// unit in labels, full-plan fingerprint fp) from its key.
+func unblind(l design.Layout, labels []string, fp string, key *design.Key) (design.Layout, error) {
+	// The key's seed must reproduce the full plan's fingerprint.
+	full := l.Plan
 	full.Seed = key.Seed
 	if key.Fingerprint != fp || full.Fingerprint() != fp {
-		return dataSheet{}, fail("B1", "the key belongs to another plan (its fingerprint and seed do not reproduce this workbook's); give the key file written with this layout")
+		return design.Layout{}, &cellError{"B1", "the key belongs to another plan (its fingerprint and seed do not reproduce this workbook's); give the key file written with this layout"}
 	}
 	byCode := map[string]int{}
 	for t, c := range key.Codes {
 		byCode[c] = t
 	}
+	units := l.Units
 	for i := range units {
-		t, ok := byCode[st.Labels[i]]
+		t, ok := byCode[labels[i]]
 		if !ok {
-			return dataSheet{}, fail("A4", fmt.Sprintf("unit %s has code %q, which the key does not know", units[i].ID, st.Labels[i]))
+			return design.Layout{}, &cellError{"A4", fmt.Sprintf("unit %s has code %q, which the key does not know", units[i].ID, labels[i])}
 		}
 		units[i].Treatment = t
 	}
-	l = design.Layout{Plan: full, Units: units, Codes: key.Codes}
-	if err := l.Check(); err != nil {
-		return dataSheet{}, fail("A4", "the unblinded layout is inconsistent: "+err.Error())
+	out := design.Layout{Plan: full, Units: units, Codes: key.Codes}
+	if err := out.Check(); err != nil {
+		return design.Layout{}, &cellError{"A4", "the unblinded layout is inconsistent: " + err.Error()}
 	}
-	ds.layout = l
-	return ds, nil
+	return out, nil
 }
 
 // fromLayout stands a layout file in for a lost hidden sheet.

@@ -18,6 +18,63 @@ var mapTints = []string{"FBE3B5", "CDE7F7", "BFE8DC", "FAF5BF", "BFD9EC", "F5D3B
 // mapLineHeight is the height of one text line of a Map cell, in points.
 const mapLineHeight = 15
 
+// mapSheet holds what writing the Map sheet needs: its styles, each
+// place's text and the row height that shows it.
+type mapSheet struct {
+	*sheetWriter
+	l           design.Layout
+	bold, plain int
+	tint        []int // style per treatment
+	label       func(design.Unit) string
+	rowH        float64
+}
+
+func newMapSheet(f *excelize.File, l design.Layout) *mapSheet {
+	p := l.Plan
+	m := &mapSheet{sheetWriter: &sheetWriter{f: f, sheet: SheetMap}, l: l, label: labeller(l)}
+	m.bold = m.newStyle(&excelize.Style{Font: &excelize.Font{Bold: true}})
+	border := []excelize.Border{{Type: "left", Color: "404040", Style: 1}, {Type: "right", Color: "404040", Style: 1},
+		{Type: "top", Color: "404040", Style: 1}, {Type: "bottom", Color: "404040", Style: 1}}
+	align := &excelize.Alignment{WrapText: true, Vertical: "center", Horizontal: "center"}
+	m.plain = m.newStyle(&excelize.Style{Alignment: align, Border: border})
+	tr := p.Treatments()
+	m.tint = make([]int, len(tr))
+	colour := !p.Blind && len(tr) <= len(mapTints)
+	for t := range tr {
+		m.tint[t] = m.plain
+		if colour {
+			m.tint[t] = m.newStyle(&excelize.Style{Alignment: align, Border: border, Fill: excelize.Fill{Type: "pattern", Pattern: 1, Color: []string{mapTints[t]}}})
+		}
+	}
+	lines := 2
+	if p.Order {
+		lines = 3
+	}
+	m.rowH = float64(mapLineHeight*lines + 6)
+	return m
+}
+
+func (m *mapSheet) text(u design.Unit) string {
+	s := u.ID + "\n" + m.label(u)
+	if u.Order > 0 {
+		s += fmt.Sprintf("\n#%d", u.Order)
+	}
+	return s
+}
+
+func (m *mapSheet) styleOf(u design.Unit) int {
+	if u.Treatment < 0 || m.l.Plan.Blind {
+		return m.plain
+	}
+	return m.tint[u.Treatment]
+}
+
+// place writes unit u's text at (col, row).
+func (m *mapSheet) place(col, row int, u design.Unit) {
+	m.str(col, row, m.text(u))
+	m.style(col, row, col, row, m.styleOf(u))
+}
+
 // writeMap writes the Map sheet: a legend, then each block as its grid (or
 // a row of positions), each place with unit ID and treatment (or code) and
 // the measurement order, with row heights and column widths that show all
@@ -25,81 +82,16 @@ const mapLineHeight = 15
 // breaks between blocks, with the plan's title and fingerprint on every page.
 func writeMap(f *excelize.File, l design.Layout, meta Meta, pg page) error {
 	p := l.Plan
-	w := &sheetWriter{f: f, sheet: SheetMap}
-	bold := w.newStyle(&excelize.Style{Font: &excelize.Font{Bold: true}})
-	border := []excelize.Border{{Type: "left", Color: "404040", Style: 1}, {Type: "right", Color: "404040", Style: 1},
-		{Type: "top", Color: "404040", Style: 1}, {Type: "bottom", Color: "404040", Style: 1}}
-	align := &excelize.Alignment{WrapText: true, Vertical: "center", Horizontal: "center"}
-	plain := w.newStyle(&excelize.Style{Alignment: align, Border: border})
-	tr := p.Treatments()
-	tint := make([]int, len(tr))
-	colour := !p.Blind && len(tr) <= len(mapTints)
-	for t := range tr {
-		tint[t] = plain
-		if colour {
-			tint[t] = w.newStyle(&excelize.Style{Alignment: align, Border: border, Fill: excelize.Fill{Type: "pattern", Pattern: 1, Color: []string{mapTints[t]}}})
-		}
-	}
-	label := labeller(l)
-	text := func(u design.Unit) string {
-		s := u.ID + "\n" + label(u)
-		if u.Order > 0 {
-			s += fmt.Sprintf("\n#%d", u.Order)
-		}
-		return s
-	}
-	styleOf := func(u design.Unit) int {
-		if u.Treatment < 0 || p.Blind {
-			return plain
-		}
-		return tint[u.Treatment]
-	}
-	lines := 2
-	if p.Order {
-		lines = 3
-	}
-	rowH := float64(mapLineHeight*lines + 6)
-
-	// Title and legend.
-	what := "unit ID and " + strings.ToLower(treatmentWord(p))
-	if p.Order {
-		what += ", then #measurement order"
-	}
-	g := p.Grid
+	m := newMapSheet(f, l)
 	rows, cols := 1, p.MaxBlockSize()
-	if g != nil {
+	if g := p.Grid; g != nil {
 		rows, cols = g.Rows, g.Cols
-		w.str(1, 1, fmt.Sprintf("Map: each %s as its %d × %d grid (%s numbering); each place shows %s", blockName(p), g.Rows, g.Cols, g.Numbering, what))
-	} else {
-		w.str(1, 1, "Map: each row is a "+blockName(p)+", positions left to right; each place shows "+what)
 	}
-	w.style(1, 1, 1, 1, bold)
-	r := 3
-	w.str(1, r, "Legend")
-	w.style(1, r, 1, r, bold)
-	if p.Blind {
-		w.str(2, r, fmt.Sprintf("blind codes %s: which treatment a code stands for is in the key, kept apart", strings.Join(l.Codes, ", ")))
-		r++
-	} else {
-		for t, tt := range tr {
-			w.str(2, r, tt.Name)
-			w.style(2, r, 2, r, tint[t])
-			if len(p.Factors) > 1 {
-				var parts []string
-				for i, fa := range p.Factors {
-					parts = append(parts, fa.Name+" "+tt.Levels[i])
-				}
-				w.str(3, r, strings.Join(parts, ", "))
-			}
-			r++
-		}
-	}
-	r++
-
+	r := m.legend()
 	// Column widths: wide enough for the longest line of any place.
 	width := 10.0
 	for _, u := range l.Units {
-		width = max(width, textWidth(text(u))+2)
+		width = max(width, textWidth(m.text(u))+2)
 	}
 	width = min(width, 40)
 	total := 12 + width*float64(cols)
@@ -110,68 +102,106 @@ func writeMap(f *excelize.File, l design.Layout, meta Meta, pg page) error {
 	}
 	// Fit to width shrinks everything by the same factor.
 	scale := min(1, printW/total)
-	used := float64(r-1) * 15 * scale // the title and legend on page 1
+	m.blocks(r, rows, cols, scale, printH)
+	m.do(f.SetColWidth(SheetMap, "A", "A", 12))
+	if cols > 0 {
+		m.do(f.SetColWidth(SheetMap, "B", colName(cols+1), width))
+	}
+	if m.err != nil {
+		return m.err
+	}
+	return setupPrint(f, SheetMap, l, meta, pg, landscape)
+}
 
+// legend writes the title line and the legend, and returns the first row
+// after them.
+func (m *mapSheet) legend() int {
+	p := m.l.Plan
+	what := "unit ID and " + strings.ToLower(treatmentWord(p))
+	if p.Order {
+		what += ", then #measurement order"
+	}
+	if g := p.Grid; g != nil {
+		m.str(1, 1, fmt.Sprintf("Map: each %s as its %d × %d grid (%s numbering); each place shows %s", blockName(p), g.Rows, g.Cols, g.Numbering, what))
+	} else {
+		m.str(1, 1, "Map: each row is a "+blockName(p)+", positions left to right; each place shows "+what)
+	}
+	m.style(1, 1, 1, 1, m.bold)
+	r := 3
+	m.str(1, r, "Legend")
+	m.style(1, r, 1, r, m.bold)
+	if p.Blind {
+		m.str(2, r, fmt.Sprintf("blind codes %s: which treatment a code stands for is in the key, kept apart", strings.Join(m.l.Codes, ", ")))
+		return r + 2
+	}
+	for t, tt := range p.Treatments() {
+		m.str(2, r, tt.Name)
+		m.style(2, r, 2, r, m.tint[t])
+		if len(p.Factors) > 1 {
+			var parts []string
+			for i, fa := range p.Factors {
+				parts = append(parts, fa.Name+" "+tt.Levels[i])
+			}
+			m.str(3, r, strings.Join(parts, ", "))
+		}
+		r++
+	}
+	return r + 1
+}
+
+// blocks writes the blocks from row r on, with a page break before a block
+// that would not fit on the page (printH points high, at scale).
+func (m *mapSheet) blocks(r, rows, cols int, scale, printH float64) {
+	p := m.l.Plan
+	g := p.Grid
+	used := float64(r-1) * 15 * scale // the title and legend on page 1
 	byBlock := make([][]design.Unit, p.Blocks+1)
-	for _, u := range l.Units {
+	for _, u := range m.l.Units {
 		if u.Block >= 1 && u.Block <= p.Blocks {
 			byBlock[u.Block] = append(byBlock[u.Block], u)
 		}
 	}
 	// Each block takes a heading row and its grid rows (a row map's
 	// heading is the position numbers, written once).
-	blockH := (15 + float64(rows)*rowH + 15) * scale
+	blockH := (15 + float64(rows)*m.rowH + 15) * scale
 	if g == nil {
 		for i := 1; i <= cols; i++ {
-			w.do(f.SetCellInt(SheetMap, cell(i+1, r), int64(i)))
+			m.do(m.f.SetCellInt(SheetMap, cell(i+1, r), int64(i)))
 		}
-		w.style(2, r, cols+1, r, bold)
+		m.style(2, r, cols+1, r, m.bold)
 		r++
 		used += 15 * scale
-		blockH = rowH * scale
+		blockH = m.rowH * scale
 	}
 	for b := 1; b <= p.Blocks; b++ {
 		if used+blockH > printH && used > 0 {
-			w.do(f.InsertPageBreak(SheetMap, cell(1, r)))
+			m.do(m.f.InsertPageBreak(SheetMap, cell(1, r)))
 			used = 0
 		}
 		used += blockH
-		name := blockHeader(p) + " " + p.BlockLabel(b)
+		m.str(1, r, blockHeader(p)+" "+p.BlockLabel(b))
+		m.style(1, r, 1, r, m.bold)
 		if g == nil {
-			w.str(1, r, name)
-			w.style(1, r, 1, r, bold)
 			for _, u := range byBlock[b] {
-				w.str(u.Position+1, r, text(u))
-				w.style(u.Position+1, r, u.Position+1, r, styleOf(u))
+				m.place(u.Position+1, r, u)
 			}
-			w.do(f.SetRowHeight(SheetMap, r, rowH))
+			m.do(m.f.SetRowHeight(SheetMap, r, m.rowH))
 			r++
 			continue
 		}
-		w.str(1, r, name)
-		w.style(1, r, 1, r, bold)
 		for c := 1; c <= g.Cols; c++ {
-			w.str(c+1, r, fmt.Sprintf("col %d", c))
+			m.str(c+1, r, fmt.Sprintf("col %d", c))
 		}
 		for k := 1; k <= g.Rows; k++ {
-			w.str(1, r+k, fmt.Sprintf("row %d", k))
-			w.style(2, r+k, g.Cols+1, r+k, plain)
-			w.do(f.SetRowHeight(SheetMap, r+k, rowH))
+			m.str(1, r+k, fmt.Sprintf("row %d", k))
+			m.style(2, r+k, g.Cols+1, r+k, m.plain)
+			m.do(m.f.SetRowHeight(SheetMap, r+k, m.rowH))
 		}
 		for _, u := range byBlock[b] {
-			w.str(u.Col+1, r+u.Row, text(u))
-			w.style(u.Col+1, r+u.Row, u.Col+1, r+u.Row, styleOf(u))
+			m.place(u.Col+1, r+u.Row, u)
 		}
 		r += g.Rows + 2
 	}
-	w.do(f.SetColWidth(SheetMap, "A", "A", 12))
-	if cols > 0 {
-		w.do(f.SetColWidth(SheetMap, "B", colName(cols+1), width))
-	}
-	if w.err != nil {
-		return w.err
-	}
-	return setupPrint(f, SheetMap, l, meta, pg, landscape)
 }
 
 func colName(c int) string {

@@ -348,39 +348,9 @@ func writeEntry(f *excelize.File, l design.Layout, meta Meta, pg page) error {
 	if w.err != nil {
 		return w.err
 	}
-	// Validation, filter and print setup go on the sheet before the rows
-	// are streamed: the stream writer appends these parts as it found them.
 	nd := c.designCount(p)
-	last := max(len(l.Units)*c.rowsPer()+1, 2)
-	for k, r := range p.Responses {
-		if err := addRangeValidation(f, r, nd+1+k, last); err != nil {
-			return err
-		}
-	}
-	if sc := c.statusCol(p); sc >= 0 {
-		dv := excelize.NewDataValidation(true)
-		dv.SetSqref(cell(sc+1, 2) + ":" + cell(sc+1, last))
-		if err := dv.SetDropList([]string{StatusMeasured, StatusLost, StatusExcluded}); err != nil {
-			return err
-		}
-		dv.SetInput(headStatus, "Empty or measured: a value was taken. lost: none could be. excluded: a value exists but must not be analysed. Give the Reason for lost and excluded.")
-		dv.SetError(excelize.DataValidationErrorStyleStop, headStatus, "Status is measured, lost or excluded (or empty).")
-		if err := f.AddDataValidation(SheetEntry, dv); err != nil {
-			return err
-		}
-	}
 	widths := entryWidths(l, c, heads)
-	total := 0.0
-	for _, x := range widths {
-		total += x
-	}
-	if err := f.SetDefinedName(&excelize.DefinedName{Name: "_xlnm.Print_Titles", RefersTo: "'" + SheetEntry + "'!$1:$1", Scope: SheetEntry}); err != nil {
-		return err
-	}
-	if err := f.AutoFilter(SheetEntry, "A1:"+cell(len(heads), last), nil); err != nil {
-		return err
-	}
-	if err := setupPrint(f, SheetEntry, l, meta, pg, total > pg.portrait); err != nil {
+	if err := entrySetup(f, l, c, widths, meta, pg); err != nil {
 		return err
 	}
 	sw, err := f.NewStreamWriter(SheetEntry)
@@ -431,6 +401,43 @@ func writeEntry(f *excelize.File, l design.Layout, meta Meta, pg page) error {
 		}
 	}
 	return sw.Flush()
+}
+
+// entrySetup adds the Entry sheet's validation, filter and print setup.
+// They go on the sheet before the rows are streamed: the stream writer
+// appends these parts as it found them.
+func entrySetup(f *excelize.File, l design.Layout, c columns, widths []float64, meta Meta, pg page) error {
+	p := l.Plan
+	nd := c.designCount(p)
+	last := max(len(l.Units)*c.rowsPer()+1, 2)
+	for k, r := range p.Responses {
+		if err := addRangeValidation(f, r, nd+1+k, last); err != nil {
+			return err
+		}
+	}
+	if sc := c.statusCol(p); sc >= 0 {
+		dv := excelize.NewDataValidation(true)
+		dv.SetSqref(cell(sc+1, 2) + ":" + cell(sc+1, last))
+		if err := dv.SetDropList([]string{StatusMeasured, StatusLost, StatusExcluded}); err != nil {
+			return err
+		}
+		dv.SetInput(headStatus, "Empty or measured: a value was taken. lost: none could be. excluded: a value exists but must not be analysed. Give the Reason for lost and excluded.")
+		dv.SetError(excelize.DataValidationErrorStyleStop, headStatus, "Status is measured, lost or excluded (or empty).")
+		if err := f.AddDataValidation(SheetEntry, dv); err != nil {
+			return err
+		}
+	}
+	total := 0.0
+	for _, x := range widths {
+		total += x
+	}
+	if err := f.SetDefinedName(&excelize.DefinedName{Name: "_xlnm.Print_Titles", RefersTo: "'" + SheetEntry + "'!$1:$1", Scope: SheetEntry}); err != nil {
+		return err
+	}
+	if err := f.AutoFilter(SheetEntry, "A1:"+cell(len(widths), last), nil); err != nil {
+		return err
+	}
+	return setupPrint(f, SheetEntry, l, meta, pg, total > pg.portrait)
 }
 
 // addRangeValidation lets column col (1-based) of rows 2..last take only a
