@@ -328,6 +328,13 @@ func FuzzReadWorkbook(f *testing.F) {
 	}
 	valid, _ := os.ReadFile(path)
 	f.Add(valid)
+	// A non-ASCII plan, so that mutations reach multi-byte text.
+	upath := filepath.Join(dir, "unicode.xlsx")
+	if err := Write(upath, unicodeLayout(f, 2), meta, false); err != nil {
+		f.Fatal(err)
+	}
+	uvalid, _ := os.ReadFile(upath)
+	f.Add(uvalid)
 	f.Add([]byte("PK\x03\x04 not really a zip"))
 	f.Add([]byte{})
 	f.Fuzz(func(t *testing.T, b []byte) {
