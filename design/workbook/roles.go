@@ -1,13 +1,15 @@
 package workbook
 
 import (
-	"github.com/allotproject/allot/design"
-
+	"bytes"
 	"encoding/csv"
+	"errors"
 	"fmt"
 	"io"
-	"strconv"
 	"strings"
+
+	"github.com/allotproject/allot/design"
+	"github.com/allotproject/allot/internal/decimal"
 )
 
 // Roles names the columns of a plain CSV table (one that allot did not
@@ -24,8 +26,13 @@ type Roles struct {
 // counted in missing). A non-numeric response, or an empty factor or block
 // cell, is an error naming its line and column.
 func ReadRoles(r io.Reader, path string, roles Roles, decimalComma bool) (obs Observations, missing int, err error) {
-	cr := csv.NewReader(r)
+	b, dialect, err := sniffCSV(r, path)
+	if err != nil {
+		return obs, 0, &design.CSVError{File: path, Msg: err.(*FileError).Msg}
+	}
+	cr := csv.NewReader(bytes.NewReader(b))
 	cr.FieldsPerRecord = -1
+	cr.Comma = dialect.sep
 	head, err := cr.Read()
 	if err != nil {
 		return obs, 0, &design.CSVError{File: path, Msg: "no header row: " + err.Error()}
@@ -74,6 +81,9 @@ func ReadRoles(r io.Reader, path string, roles Roles, decimalComma bool) (obs Ob
 			return obs, 0, &design.CSVError{File: path, Msg: err.Error()}
 		}
 		line, _ := cr.FieldPos(0)
+		if len(rec) != len(head) {
+			return obs, 0, &design.CSVError{File: path, Line: line, Msg: fmt.Sprintf("%d fields where the header has %d (the file is %s): a separator is missing or extra; correct the line", len(rec), len(head), dialect)}
+		}
 		get := func(i int) string {
 			if i < len(rec) {
 				return strings.TrimSpace(UnescapeCell(rec[i]))
@@ -85,12 +95,12 @@ func ReadRoles(r io.Reader, path string, roles Roles, decimalComma bool) (obs Ob
 			missing++
 			continue
 		}
-		if decimalComma && decimalCommaRE.MatchString(v) {
-			v = strings.Replace(v, ",", ".", 1)
+		if t, ok := decimal.FromComma(v); ok && decimalComma {
+			v = t
 		}
-		if _, err := strconv.ParseFloat(v, 64); err != nil {
-			msg := fmt.Sprintf("%q is not a number; correct it or leave it empty", v)
-			if decimalCommaRE.MatchString(v) {
+		if err := decimal.Check(v); err != nil {
+			msg := fmt.Sprintf("%q %v; correct it or leave it empty", v, err)
+			if errors.Is(err, decimal.ErrComma) {
 				msg = fmt.Sprintf("%q has a decimal comma; run again with --decimal-comma", v)
 			}
 			return obs, 0, &design.CSVError{File: path, Line: line, Column: roles.Response, Msg: msg}
