@@ -97,6 +97,10 @@ type dataSheet struct {
 	st     stored
 	chunks int
 	fp     string // cell B1: the fingerprint a key must match
+	// sst is the workbook's shared strings as scanned for the plan sheet
+	// (sstOK), for the Entry sheet's scan to reuse.
+	sst   []string
+	sstOK bool
 
 	// fromPlan is set when the hidden sheet was missing and the layout
 	// came from ReadOptions.Layout.
@@ -121,9 +125,12 @@ func readData(f *excelize.File, path string, opt ReadOptions) (dataSheet, error)
 	get := func(c string) (string, error) {
 		return f.GetCellValue(SheetData, c, excelize.Options{RawCellValue: true})
 	}
-	if sc, ok := scanSheet(f, SheetData, scanLimits{cols: maxColumns, rows: maxChunks + 3}); ok && sc.wide == "" && sc.many == 0 {
-		// One streaming pass instead of excelize's in-memory sheet.
-		get = func(c string) (string, error) { return sc.value(c), nil }
+	sst, sstOK := sharedStrings(f)
+	if sstOK {
+		if sc, ok := scanSheetWith(f, SheetData, sst, scanLimits{cols: maxColumns, rows: maxChunks + 3}); ok && sc.wide == "" && sc.many == 0 {
+			// One streaming pass instead of excelize's in-memory sheet.
+			get = func(c string) (string, error) { return sc.value(c), nil }
+		}
 	}
 	fp, err := get("B1")
 	if err != nil {
@@ -161,7 +168,7 @@ func readData(f *excelize.File, path string, opt ReadOptions) (dataSheet, error)
 	if err := json.Unmarshal(st.Units, &units); err != nil {
 		return dataSheet{}, fail("A4", "the stored units are not valid JSON: "+err.Error())
 	}
-	ds := dataSheet{st: st, chunks: n, fp: fp}
+	ds := dataSheet{st: st, chunks: n, fp: fp, sst: sst, sstOK: sstOK}
 	l := design.Layout{Plan: p, Units: units, Spares: st.Spares}
 	if opt.Layout != nil && opt.Layout.Plan.Fingerprint() != fp {
 		return dataSheet{}, fail("B1", fmt.Sprintf("the workbook's plan (fingerprint %.12s) is not the one in --plan (%.12s); give the layout this workbook was written from, or leave --plan out", fp, opt.Layout.Plan.Fingerprint()))

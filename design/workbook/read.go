@@ -233,7 +233,7 @@ func Read(path string, opt ReadOptions) (*Filled, error) {
 	if opt.Key != nil && !ds.layout.Plan.Blind && !ds.fromPlan {
 		return nil, &FileError{Path: path, Msg: "the workbook is not blind, so it has no key; leave --key out"}
 	}
-	rows, info, err := entryRows(f, path, ds.layout)
+	rows, info, err := entryRows(f, path, ds)
 	if err != nil {
 		return nil, err
 	}
@@ -283,11 +283,19 @@ func open(path string, unzip int64) (*excelize.File, error) {
 // (scanSheet), which also gives every cell's type, style and formula; the
 // date formats are looked up per style in the workbook's styles. Where
 // that pass does not apply, excelize reads the rows (entryRowsExcelize).
-func entryRows(f *excelize.File, path string, l design.Layout) ([]sheetRow, func(string) cellInfo, error) {
+func entryRows(f *excelize.File, path string, ds dataSheet) ([]sheetRow, func(string) cellInfo, error) {
+	l := ds.layout
 	c := layoutColumns(l.Plan)
 	keep := len(c.headers(l.Plan))
 	limitRows := len(l.Units)*c.rowsPer() + 1 + extraRows
-	sc, ok := scanSheet(f, SheetEntry, scanLimits{cols: maxColumns, rows: limitRows})
+	sst, ok := ds.sst, ds.sstOK
+	if !ok {
+		sst, ok = sharedStrings(f)
+	}
+	var sc *scannedSheet
+	if ok {
+		sc, ok = scanSheetWith(f, SheetEntry, sst, scanLimits{cols: maxColumns, rows: limitRows})
+	}
 	if !ok {
 		rows, err := entryRowsExcelize(f, path, l)
 		if err != nil {

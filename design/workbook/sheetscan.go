@@ -77,6 +77,26 @@ func (s *scannedSheet) isText(ref string) bool {
 // scanSheet reads sheet name of f; ok is false when the fast path does not
 // apply.
 func scanSheet(f *excelize.File, name string, lim scanLimits) (*scannedSheet, bool) {
+	sst, ok := sharedStrings(f)
+	if !ok {
+		return nil, false
+	}
+	return scanSheetWith(f, name, sst, lim)
+}
+
+// sharedStrings scans the workbook's shared strings (nil without any);
+// ok is false when the fast path does not apply. A check reads two sheets
+// with one table: scan it once.
+func sharedStrings(f *excelize.File) ([]string, bool) {
+	sb, ok := pkgBytes(f, sharedStringsPart(f))
+	if !ok {
+		return nil, true
+	}
+	return scanSharedStrings(sb)
+}
+
+// scanSheetWith is scanSheet with the shared strings already scanned.
+func scanSheetWith(f *excelize.File, name string, sst []string, lim scanLimits) (*scannedSheet, bool) {
 	part, ok := sheetPart(f, name)
 	if !ok {
 		return nil, false
@@ -84,12 +104,6 @@ func scanSheet(f *excelize.File, name string, lim scanLimits) (*scannedSheet, bo
 	b, ok := pkgBytes(f, part)
 	if !ok {
 		return nil, false
-	}
-	var sst []string
-	if sb, ok := pkgBytes(f, sharedStringsPart(f)); ok {
-		if sst, ok = scanSharedStrings(sb); !ok {
-			return nil, false
-		}
 	}
 	return scanWorksheet(b, sst, lim)
 }
@@ -295,9 +309,24 @@ func scanWorksheet(b []byte, sst []string, lim scanLimits) (*scannedSheet, bool)
 				inCell = false
 				continue
 			}
-			ref, typ = sc.attr("r"), sc.attr("t")
+			// The cell's attributes in one pass: reference, type, style.
+			var st []byte
+			ref, typ = nil, nil
+			sc.cellAttrs(func(k, v []byte) bool {
+				if len(k) == 1 {
+					switch k[0] {
+					case 'r':
+						ref = v
+					case 't':
+						typ = v
+					case 's':
+						st = v
+					}
+				}
+				return true
+			})
 			style = 0
-			if st := sc.attr("s"); st != nil {
+			if st != nil {
 				v, err := strconv.Atoi(string(st))
 				if err != nil || v < 0 || v > 1<<30 {
 					return nil, false
@@ -474,33 +503,46 @@ func balancedQuotes(tag []byte) bool {
 
 // attr returns the raw value of attribute key, or nil.
 func (s *xmlScanner) attr(key string) []byte {
+	var out []byte
+	s.cellAttrs(func(k, v []byte) bool {
+		if string(k) == key {
+			out = v
+			return false
+		}
+		return true
+	})
+	return out
+}
+
+// cellAttrs calls fn with each attribute's name and value (entities
+// resolved) until fn returns false.
+func (s *xmlScanner) cellAttrs(fn func(k, v []byte) bool) {
 	a := s.attrs
 	for len(a) > 0 {
 		a = bytes.TrimLeft(a, " \t\r\n")
 		eq := bytes.IndexByte(a, '=')
 		if eq < 0 {
-			return nil
+			return
 		}
 		k := bytes.TrimSpace(a[:eq])
 		a = bytes.TrimLeft(a[eq+1:], " \t\r\n")
 		if len(a) == 0 || a[0] != '"' && a[0] != '\'' {
-			return nil
+			return
 		}
 		q := a[0]
 		e := bytes.IndexByte(a[1:], q)
 		if e < 0 {
-			return nil
+			return
 		}
 		v := a[1 : 1+e]
 		a = a[e+2:]
-		if string(k) == key {
-			if bytes.IndexByte(v, '&') >= 0 {
-				return []byte(unescapeXML(v))
-			}
-			return v
+		if bytes.IndexByte(v, '&') >= 0 {
+			v = []byte(unescapeXML(v))
+		}
+		if !fn(k, v) {
+			return
 		}
 	}
-	return nil
 }
 
 // textBefore returns the character data before the current tag, with
