@@ -159,7 +159,7 @@ func TestGridPlace(t *testing.T) {
 }
 
 func TestPlural(t *testing.T) {
-	for in, want := range map[string]string{"bench": "benches", "litter": "litters", "day": "days", "colony": "colonies", "box": "boxes", "rack": "racks"} {
+	for in, want := range map[string]string{"bench": "benches", "litter": "litters", "day": "days", "colony": "colonies", "box": "boxes", "rack": "racks", "batch": "batches", "mouse": "mice", "cage": "cages"} {
 		if got := Plural(in); got != want {
 			t.Errorf("Plural(%q) = %q, want %q", in, got, want)
 		}

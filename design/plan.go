@@ -649,9 +649,12 @@ func countText(n int) string {
 }
 
 // Plural returns the English plural of a block name: bench → benches,
-// litter → litters, day → days, colony → colonies.
+// litter → litters, day → days, colony → colonies, box → boxes, batch →
+// batches, mouse → mice.
 func Plural(word string) string {
 	switch {
+	case strings.HasSuffix(word, "mouse"):
+		return strings.TrimSuffix(word, "mouse") + "mice"
 	case word == "":
 		return word
 	case strings.HasSuffix(word, "s"), strings.HasSuffix(word, "x"), strings.HasSuffix(word, "z"),

@@ -14,7 +14,10 @@ import (
 func CheckText(w io.Writer, path string, fl *workbook.Filled) error {
 	var b strings.Builder
 	p := fl.Layout.Plan
-	fmt.Fprintf(&b, "%s: plan %q (fingerprint %.12s), %d units, responses: %s\n", path, p.Title, p.Fingerprint(), len(fl.Layout.Units), strings.Join(fl.Responses, ", "))
+	fmt.Fprintf(&b, "%s: plan %q (fingerprint %.12s), %s, responses: %s\n", path, p.Title, p.Fingerprint(), plural(len(fl.Layout.Units), "unit", "units"), strings.Join(fl.Responses, ", "))
+	if fl.Simulated() {
+		b.WriteString("  SIMULATED data (filled in by allot demo), not measurements\n")
+	}
 	if fl.Sealed {
 		b.WriteString("  blind workbook read without its key: treatments stay hidden; give --key to unblind\n")
 	}
@@ -35,7 +38,7 @@ func CheckText(w io.Writer, path string, fl *workbook.Filled) error {
 				have++
 			}
 		}
-		fmt.Fprintf(&b, "  %s: %d of %d units have a value\n", r, have, len(fl.Values[k]))
+		fmt.Fprintf(&b, "  %s: %d of %s %s a value\n", r, have, plural(len(fl.Values[k]), "unit", "units"), map[bool]string{true: "has", false: "have"}[have == 1])
 		total += have
 	}
 	switch {
@@ -52,14 +55,29 @@ func CheckText(w io.Writer, path string, fl *workbook.Filled) error {
 	return err
 }
 
-// CheckJSON writes the check result as JSON.
+// CheckFormat names the layout of CheckJSON's document; it changes only
+// when a key changes meaning or goes away (new keys may be added).
+const CheckFormat = "allot.check/v1"
+
+// CheckJSON writes the check result as JSON: "format" (CheckFormat), the
+// file, the plan's fingerprint, units, whether the workbook is blind and
+// sealed, the error count, every problem, values and missing per response,
+// the counts of units marked lost and excluded and each of them ("losses":
+// unit, status, reason, cell), and whether the data are simulated.
 func CheckJSON(w io.Writer, path string, fl *workbook.Filled) error {
+	type loss struct {
+		Unit   string `json:"unit"`
+		Status string `json:"status"`
+		Reason string `json:"reason"`
+		Cell   string `json:"cell"`
+	}
 	type resp struct {
 		Name    string `json:"name"`
 		Values  int    `json:"values"`
 		Missing int    `json:"missing"`
 	}
 	out := struct {
+		Format      string             `json:"format"`
 		File        string             `json:"file"`
 		Fingerprint string             `json:"plan_fingerprint"`
 		Units       int                `json:"units"`
@@ -67,7 +85,11 @@ func CheckJSON(w io.Writer, path string, fl *workbook.Filled) error {
 		Errors      int                `json:"errors"`
 		Problems    []workbook.Problem `json:"problems"`
 		Responses   []resp             `json:"responses"`
-	}{File: path, Fingerprint: fl.Layout.Plan.Fingerprint(), Units: len(fl.Layout.Units), Sealed: fl.Sealed, Errors: fl.Errors(), Problems: fl.Problems}
+		Lost        int                `json:"lost"`
+		Excluded    int                `json:"excluded"`
+		Losses      []loss             `json:"losses"`
+		Simulated   bool               `json:"simulated"`
+	}{Format: CheckFormat, File: path, Simulated: fl.Simulated(), Fingerprint: fl.Layout.Plan.Fingerprint(), Units: len(fl.Layout.Units), Sealed: fl.Sealed, Errors: fl.Errors(), Problems: fl.Problems}
 	if out.Problems == nil {
 		out.Problems = []workbook.Problem{}
 	}
@@ -81,6 +103,18 @@ func CheckJSON(w io.Writer, path string, fl *workbook.Filled) error {
 			}
 		}
 		out.Responses = append(out.Responses, rr)
+	}
+	out.Losses = []loss{}
+	for i, st := range fl.Status {
+		switch st.Status {
+		case workbook.StatusLost:
+			out.Lost++
+		case workbook.StatusExcluded:
+			out.Excluded++
+		default:
+			continue
+		}
+		out.Losses = append(out.Losses, loss{Unit: fl.Layout.Units[i].ID, Status: st.Status, Reason: st.Reason, Cell: st.Cell})
 	}
 	enc := json.NewEncoder(w)
 	enc.SetIndent("", "  ")

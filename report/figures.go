@@ -11,12 +11,10 @@ import (
 	"sort"
 	"strings"
 
-	"github.com/allotproject/allot/design"
 	"github.com/allotproject/allot/internal/atomicfile"
 
 	"gonum.org/v1/gonum/stat/distuv"
 	"gonum.org/v1/plot"
-	"gonum.org/v1/plot/font"
 	"gonum.org/v1/plot/plotter"
 	"gonum.org/v1/plot/vg"
 	"gonum.org/v1/plot/vg/draw"
@@ -27,11 +25,18 @@ type Figure struct {
 	Name  string // file name without extension
 	Title string
 	plot  *plot.Plot
+	// paint draws the figure instead of plot when set (the bench map),
+	// at dpi dots per inch in PNG.
+	paint func(c draw.Canvas)
+	dpi   int
 	w, h  vg.Length
 }
 
-// Render returns the figure in format "svg" or "png".
+// Render returns the figure in format "svg", "png" or "pdf".
 func (f Figure) Render(format string) ([]byte, error) {
+	if f.paint != nil {
+		return renderPages([]Figure{f}, format)
+	}
 	wt, err := f.plot.WriterTo(f.w, f.h, format)
 	if err != nil {
 		return nil, err
@@ -348,91 +353,6 @@ func ResidualFigures(a Analysis, unit string) ([]Figure, error) {
 	}
 	figs = append(figs, Figure{Name: "normal-quantiles", Title: q.Title.Text, plot: q, w: 6 * vg.Inch, h: 4.5 * vg.Inch})
 	return figs, nil
-}
-
-// mapPlotter draws the blocks of a layout as grids of labelled places.
-type mapPlotter struct {
-	l design.Layout
-}
-
-func (m mapPlotter) geometry() (rows, cols int) {
-	p := m.l.Plan
-	if g := p.Grid; g != nil {
-		return g.Rows, g.Cols
-	}
-	return 1, p.MaxBlockSize()
-}
-
-func (m mapPlotter) Plot(c draw.Canvas, plt *plot.Plot) {
-	tx, ty := plt.Transforms(&c)
-	p := m.l.Plan
-	rows, _ := m.geometry()
-	border := draw.LineStyle{Color: color.Gray{Y: 0x40}, Width: vg.Points(0.8)}
-	big := draw.TextStyle{Color: color.Black, Font: font.From(plot.DefaultFont, 9), Handler: plot.DefaultTextHandler, XAlign: draw.XCenter, YAlign: draw.YCenter}
-	small := big
-	small.Font = font.From(plot.DefaultFont, 7)
-	head := big
-	head.XAlign, head.Font = draw.XLeft, font.From(plot.DefaultFont, 10)
-	for b := 1; b <= p.Blocks; b++ {
-		top := float64(b-1) * (float64(rows) + mapGap)
-		if p.Design == design.RCBD {
-			c.FillText(head, vg.Point{X: tx(0), Y: ty(-top - 0.2)}, fmt.Sprintf("%s %s", strings.ToUpper(p.BlockName[:1])+p.BlockName[1:], p.BlockLabel(b)))
-		}
-	}
-	for _, u := range m.l.Units {
-		r, col := u.Row, u.Col
-		if p.Grid == nil {
-			r, col = 1, u.Position
-		}
-		top := float64(u.Block-1) * (float64(rows) + mapGap)
-		x0, x1 := float64(col-1), float64(col)
-		y0, y1 := -top-float64(r-1)-0.4, -top-float64(r)-0.4
-		// A pale tint per treatment helps find a treatment's places; a
-		// blind map stays uncoloured, since colour would group the codes.
-		light := color.RGBA{R: 0xF7, G: 0xF7, B: 0xF7, A: 0xFF}
-		if !p.Blind && len(p.Reps) <= len(palette)-1 {
-			fill := palette[u.Treatment]
-			light = color.RGBA{R: uint8(255 - (255-int(fill.R))/4), G: uint8(255 - (255-int(fill.G))/4), B: uint8(255 - (255-int(fill.B))/4), A: 255}
-		}
-		pts := []vg.Point{{X: tx(x0), Y: ty(y0)}, {X: tx(x1), Y: ty(y0)}, {X: tx(x1), Y: ty(y1)}, {X: tx(x0), Y: ty(y1)}}
-		c.FillPolygon(light, pts)
-		c.StrokeLines(border, append(pts, pts[0]))
-		mid := vg.Point{X: tx((x0 + x1) / 2), Y: ty((y0 + y1) / 2)}
-		c.FillText(big, vg.Point{X: mid.X, Y: mid.Y + vg.Points(5)}, u.ID)
-		label := m.l.Label(u)
-		if u.Order > 0 {
-			label += fmt.Sprintf("  #%d", u.Order)
-		}
-		c.FillText(small, vg.Point{X: mid.X, Y: mid.Y - vg.Points(6)}, label)
-	}
-}
-
-// mapGap is the space between blocks on the map, in rows: room for the
-// block's name.
-const mapGap = 0.55
-
-func (m mapPlotter) DataRange() (xmin, xmax, ymin, ymax float64) {
-	rows, cols := m.geometry()
-	return 0, float64(cols), -float64(m.l.Plan.Blocks)*(float64(rows)+mapGap) + mapGap - 0.4, 0
-}
-
-// MapFigure draws the layout as a bench map for placing labels: each block
-// as its grid (or a row of positions), each place with its unit ID and
-// treatment (or blind code), sized for an A4 page.
-func MapFigure(l design.Layout) Figure {
-	p := plot.New()
-	p.Title.Text = fmt.Sprintf("Map of %s (seed %d, plan %.12s)", l.Plan.Title, l.Plan.Seed, l.Plan.Fingerprint())
-	if l.Plan.Blind {
-		p.Title.Text = fmt.Sprintf("Map of %s (blind codes; plan %.12s)", l.Plan.Title, l.Plan.Fingerprint())
-	}
-	p.HideAxes()
-	p.Add(mapPlotter{l: l})
-	rows, cols := mapPlotter{l: l}.geometry()
-	// A4 portrait is 210 × 297 mm; a tall layout keeps A4 width and grows.
-	w := 190 * vg.Millimeter
-	h := vg.Length(float64(l.Plan.Blocks)*(float64(rows)+mapGap)) * w / vg.Length(max(cols, 4)) * 0.5
-	h = max(h, 60*vg.Millimeter)
-	return Figure{Name: "map", Title: p.Title.Text, plot: p, w: w, h: h}
 }
 
 // AnalysisFigures returns the figures of one analysis: means (or the

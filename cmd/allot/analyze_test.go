@@ -70,7 +70,7 @@ func TestAnalyzeRun(t *testing.T) {
 func TestAnalyzePlainCSV(t *testing.T) {
 	dir := t.TempDir()
 	p := filepath.Join(dir, "yields.csv")
-	os.WriteFile(p, []byte("plot,variety,field,yield\n1,A,F1,5.1\n2,B,F1,6.0\n3,C,F1,7.2\n4,A,F2,4.8\n5,B,F2,6.3\n6,C,F2,6.9\n7,A,F3,5.3\n8,B,F3,5.9\n9,C,F3,7.4\n10,A,F4,5.0\n11,B,F4,,\n12,C,F4,7.0\n"), 0o644)
+	os.WriteFile(p, []byte("plot,variety,field,yield\n1,A,F1,5.1\n2,B,F1,6.0\n3,C,F1,7.2\n4,A,F2,4.8\n5,B,F2,6.3\n6,C,F2,6.9\n7,A,F3,5.3\n8,B,F3,5.9\n9,C,F3,7.4\n10,A,F4,5.0\n11,B,F4,\n12,C,F4,7.0\n"), 0o644)
 	code, out, errs := runArgs(t, "analyze", p, "--response", "yield", "--factor", "variety", "--block", "field", "--unit-column", "plot")
 	if code != 0 {
 		t.Fatalf("exit %d: %s", code, errs)

@@ -188,7 +188,7 @@ func TestBlindRoundTrip(t *testing.T) {
 	// without the key.
 	edited := filepath.Join(dir, "edited.xlsx")
 	rewriteZip(t, wb, edited, "xl/worksheets/sheet2.xml", func(s string) string {
-		re := regexp.MustCompile(`(<c r="D2" t="inlineStr"><is><t>)([^<]+)(</t>)`)
+		re := regexp.MustCompile(`(<c r="D2"[^>]*t="inlineStr"><is><t>)([^<]+)(</t>)`)
 		if re.FindStringSubmatch(s) == nil {
 			t.Fatal("no code cell D2")
 		}
@@ -236,7 +236,7 @@ func TestVerifyVisibleCells(t *testing.T) {
 	// Edit the Entry sheet's first treatment cell (D2) in the xlsx.
 	edited := filepath.Join(dir, "edited.xlsx")
 	rewriteZip(t, wb, edited, "xl/worksheets/sheet2.xml", func(s string) string {
-		re := regexp.MustCompile(`(<c r="D2" t="inlineStr"><is><t>)F(\d)(</t>)`)
+		re := regexp.MustCompile(`(<c r="D2"[^>]*t="inlineStr"><is><t>)F(\d)(</t>)`)
 		m := re.FindStringSubmatch(s)
 		if m == nil {
 			t.Fatal("no treatment cell D2")

@@ -20,6 +20,8 @@ type checkOptions struct {
 	plan         string
 	key          string
 	decimalComma bool
+	ranges       []string
+	convert      bool
 	json         bool
 	scans        string
 }
@@ -27,9 +29,11 @@ type checkOptions struct {
 // addReadFlags defines the flags that say how a filled file is read; check
 // and analyze share them.
 func (o *checkOptions) addReadFlags(c *cobra.Command) {
-	c.Flags().StringVar(&o.plan, "plan", "", "the layout `FILE.json` (allot layout -o) that a CSV file was made from")
+	c.Flags().StringVar(&o.plan, "plan", "", "the layout `FILE.json` (allot layout -o) that a CSV file, or a workbook that lost its hidden plan sheet, was made from")
 	c.Flags().StringVar(&o.key, "key", "", "the unblinding key `FILE` of a blind layout")
 	c.Flags().BoolVar(&o.decimalComma, "decimal-comma", false, "accept a decimal comma (12,5) in response cells")
+	c.Flags().StringArrayVar(&o.ranges, "range", nil, "check response `NAME=MIN..MAX` against this range instead of the plan's (either side may be empty); repeat for several")
+	c.Flags().BoolVar(&o.convert, "convert", false, "read an .ods or .xls file through an .xlsx copy made by LibreOffice (when installed)")
 }
 
 func newCheckCmd(s *streams, runF func(*checkOptions) error) *cobra.Command {
@@ -40,11 +44,20 @@ func newCheckCmd(s *streams, runF func(*checkOptions) error) *cobra.Command {
 		Long: `Read a filled data-entry workbook, verify its embedded plan against its
 fingerprint, match rows by unit ID (sorting and filtering are harmless) and
 report, by sheet and cell: missing, duplicated or unknown units, edited design
-cells, text in a response cell, numbers stored as text, decimal commas,
-values outside the declared range and blank responses. The file is only read.
+cells, text in a response cell (NaN, Inf, hexadecimal numbers, TRUE/FALSE),
+cells formatted as dates, formulas without a saved result, numbers stored as
+text, decimal commas, values outside the declared range, blank responses, and
+the Status column (measured, lost or excluded; lost and excluded need a
+Reason). The file is only read.
 
-A CSV export needs the layout it came from: --plan layout.json. A blind
-workbook is checked without its key; give --key to unblind it.
+A CSV export needs the layout it came from: --plan layout.json; so does a
+workbook whose hidden plan sheet was lost (data pasted into a new workbook).
+CSV files may be comma-, semicolon- or tab-separated, with or without a
+byte-order mark. A blind workbook is checked without its key; give --key to
+unblind it. A value outside a response's declared range is an error; when
+the range itself was wrong, --range NAME=MIN..MAX checks against a new one
+(say so in the study's records). An .ods or .xls file is refused with how
+to re-save it, or read through a converted copy with --convert.
 
 --scans FILE.csv also reads scanned label codes (allot labels) with values
 (columns: code, response, value) and matches them by the code's plan
@@ -53,7 +66,9 @@ units and values that differ from the workbook's.
 
 Errors exit 1; warnings alone exit 0.` + "\n" + exitHelp,
 		Example: `  allot check trial-filled.xlsx
-  allot check data.csv --plan layout.json --decimal-comma`,
+  allot check data.csv --plan layout.json --decimal-comma
+  allot check pasted.xlsx --plan layout.json
+  allot check trial-filled.xlsx --range height_cm=0..300`,
 		Args: func(c *cobra.Command, args []string) error {
 			if len(args) != 1 {
 				return usagef("check takes one FILE (.xlsx, or .csv with --plan), got %d", len(args))
@@ -78,17 +93,24 @@ Errors exit 1; warnings alone exit 0.` + "\n" + exitHelp,
 }
 
 func (o *checkOptions) validate() error {
-	switch strings.ToLower(filepath.Ext(o.file)) {
-	case ".xlsx":
-		if o.plan != "" {
-			return usagef("--plan %s: a workbook carries its plan; --plan is for CSV files", o.plan)
+	if st, err := os.Stat(o.file); err == nil && st.IsDir() {
+		return inputErr(fmt.Errorf("%s: is a directory, not a workbook; give the .xlsx (or .csv) file itself", o.file))
+	}
+	for _, r := range o.ranges {
+		if _, _, err := workbook.ParseRange(r); err != nil {
+			return usagef("--range %v", err)
 		}
+	}
+	switch strings.ToLower(filepath.Ext(o.file)) {
+	case ".xlsx", ".ods", ".xls":
 	case ".csv":
 		if o.plan == "" {
 			return usagef("%s: a CSV file needs the layout it was made from: --plan layout.json (written by allot layout -o layout.json)", o.file)
 		}
 	default:
-		return usagef("%s: give a workbook (.xlsx) or a CSV file (.csv)", o.file)
+		if workbook.Format(o.file) == "" {
+			return usagef("%s: give a workbook (.xlsx) or a CSV file (.csv)", o.file)
+		}
 	}
 	return nil
 }
@@ -99,18 +121,52 @@ func readFilled(o *checkOptions) (*workbook.Filled, error) {
 	if err != nil {
 		return nil, err
 	}
-	opt := workbook.ReadOptions{DecimalComma: o.decimalComma, Key: key}
-	if strings.ToLower(filepath.Ext(o.file)) == ".xlsx" {
-		fl, err := workbook.Read(o.file, opt)
-		if err != nil {
-			var fe *workbook.FileError
-			if errors.As(err, &fe) {
-				return nil, inputErr(err)
-			}
+	opt := workbook.ReadOptions{DecimalComma: o.decimalComma, Key: key, Ranges: map[string]workbook.Range{}}
+	for _, r := range o.ranges {
+		name, rg, _ := workbook.ParseRange(r) // checked in validate
+		opt.Ranges[name] = rg
+	}
+	var lay *design.Layout
+	if o.plan != "" {
+		if lay, err = readPlan(o, key); err != nil {
 			return nil, err
 		}
-		return fl, nil
+		opt.Layout = lay
 	}
+	if strings.ToLower(filepath.Ext(o.file)) == ".csv" {
+		return readCSV(o, *lay, opt)
+	}
+	path := o.file
+	converted := false
+	if workbook.Format(path) != "" && o.convert {
+		dir, err := os.MkdirTemp("", "allot-convert")
+		if err != nil {
+			return nil, err
+		}
+		defer os.RemoveAll(dir)
+		if path, err = workbook.Convert(o.file, dir); err != nil {
+			return nil, inputErr(err)
+		}
+		converted = true
+	}
+	fl, err := workbook.Read(path, opt)
+	if err != nil {
+		var fe *workbook.FileError
+		if errors.As(err, &fe) {
+			fe.Path = o.file
+			return nil, inputErr(err)
+		}
+		return nil, err
+	}
+	if converted {
+		fl.Problems = append([]workbook.Problem{{Severity: workbook.Warning, Level: "warning", Sheet: workbook.SheetEntry,
+			Msg: "read through an .xlsx copy converted by LibreOffice; the cells named are those of the original's sheet"}}, fl.Problems...)
+	}
+	return fl, nil
+}
+
+// readPlan reads the --plan layout file.
+func readPlan(o *checkOptions, key *design.Key) (*design.Layout, error) {
 	b, err := os.ReadFile(o.plan)
 	if err != nil {
 		return nil, inputErr(fmt.Errorf("--plan %s: %w", o.plan, err))
@@ -119,19 +175,28 @@ func readFilled(o *checkOptions) (*workbook.Filled, error) {
 	if err != nil {
 		return nil, inputErr(fmt.Errorf("--plan %s: %w", o.plan, err))
 	}
-	if lay.Plan.Blind {
-		if key == nil {
-			return nil, usagef("--plan %s: the layout is blind; give its --key", o.plan)
-		}
+	switch {
+	case lay.Plan.Blind && key == nil:
+		return nil, usagef("--plan %s: the layout is blind; give its --key", o.plan)
+	case !lay.Plan.Blind && key != nil:
+		return nil, inputErr(fmt.Errorf("--key %s: the layout %s is not blind, so it has no key; leave --key out", o.key, o.plan))
+	case lay.Plan.Blind:
 		if lay, err = randomize.Unblind(lay, *key); err != nil {
 			return nil, inputErr(fmt.Errorf("--key %s: %w", o.key, err))
 		}
 	}
+	return &lay, nil
+}
+
+func readCSV(o *checkOptions, lay design.Layout, opt workbook.ReadOptions) (*workbook.Filled, error) {
 	f, err := os.Open(o.file)
 	if err != nil {
 		return nil, inputErr(err)
 	}
 	defer f.Close()
+	if st, err := f.Stat(); err == nil && st.IsDir() {
+		return nil, inputErr(fmt.Errorf("%s: is a directory, not a CSV file", o.file))
+	}
 	fl, err := workbook.ReadCSV(f, o.file, lay, opt)
 	if err != nil {
 		return nil, inputErr(err)

@@ -23,8 +23,11 @@ func (o *checkOptions) addScansFlag(c *cobra.Command) {
 // scans file against the same plan, printing both results. Errors in
 // either exit 1.
 func checkScansRun(s *streams, o *checkOptions, fl *workbook.Filled) error {
+	// A workbook's own plan sheet gives the view (for a blind workbook
+	// read without its key, the full plan's fingerprint); a CSV file, a
+	// converted copy or a workbook read with --plan use the layout read.
 	var v design.View
-	if strings.ToLower(filepath.Ext(o.file)) == ".xlsx" {
+	if strings.ToLower(filepath.Ext(o.file)) == ".xlsx" && o.plan == "" {
 		var err error
 		if v, err = workbook.ReadView(o.file); err != nil {
 			return inputErr(err)

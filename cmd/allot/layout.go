@@ -26,6 +26,7 @@ type layoutOptions struct {
 	seed     string
 	out      string
 	mapFile  string
+	paper    string
 	key      string
 	json     bool
 	force    bool
@@ -157,7 +158,8 @@ file (keys are these flag names, with _ for -); flags override it.` + "\n" + exi
 	f.IntVar(&o.spec.Subsamples, "subsamples", 0, "record `N` measurements per unit, one row each (averaged to the unit for analysis)")
 	addStrataFlags(f, &o.spec)
 	f.StringVarP(&o.out, "out", "o", "", "write the layout to `FILE` (.xlsx workbook, .csv or .json)")
-	f.StringVar(&o.mapFile, "map", "", "draw the bench map (each block as its grid) to `FILE.svg` or .png, for printing on A4")
+	f.StringVar(&o.mapFile, "map", "", "draw the printable bench map to `FILE.pdf` (all pages), or .svg/.png (one file per page: FILE-1.png, …)")
+	f.StringVar(&o.paper, "paper", "a4", "paper the workbook and map are set up to print on: `a4` or letter")
 	f.BoolVar(&o.json, "json", false, "print the resolved plan and assignment as JSON")
 	f.BoolVar(&o.force, "force", false, "replace existing output files")
 	f.StringVar(&o.from, "from", "", "take treatments, replication, blocks and response from `FILE.json` written by allot size -o")
@@ -257,10 +259,13 @@ func (o *layoutOptions) resolveSpec(c *cobra.Command) error {
 	}
 	if o.mapFile != "" {
 		switch strings.ToLower(filepath.Ext(o.mapFile)) {
-		case ".svg", ".png":
+		case ".svg", ".png", ".pdf":
 		default:
-			return usagef("--map %s: the file name must end in .svg or .png", o.mapFile)
+			return usagef("--map %s: the file name must end in .pdf, .svg or .png", o.mapFile)
 		}
+	}
+	if !workbook.ValidPaper(o.paper) {
+		return usagef("--paper %s: must be a4 or letter", o.paper)
 	}
 	if o.out != "" {
 		switch strings.ToLower(filepath.Ext(o.out)) {
@@ -417,14 +422,11 @@ func writeOutputs(s *streams, o *layoutOptions, lay design.Layout) error {
 		fmt.Fprintf(s.Err, "allot layout: wrote %s\n", o.out)
 	}
 	if o.mapFile != "" {
-		b, err := report.MapFigure(lay).Render(strings.TrimPrefix(strings.ToLower(filepath.Ext(o.mapFile)), "."))
+		written, err := report.WriteMap(o.mapFile, lay, o.paper, o.force)
 		if err != nil {
-			return err
+			return inputErr(fmt.Errorf("--map %s: %w", o.mapFile, err))
 		}
-		if err := atomicfile.Write(o.mapFile, o.force, func(w io.Writer) error { _, err := w.Write(b); return err }); err != nil {
-			return inputErr(err)
-		}
-		fmt.Fprintf(s.Err, "allot layout: wrote the map to %s\n", o.mapFile)
+		fmt.Fprintf(s.Err, "allot layout: wrote the map to %s\n", strings.Join(written, ", "))
 	}
 	return nil
 }
@@ -433,7 +435,7 @@ func writeLayout(path string, lay design.Layout, o *layoutOptions) error {
 	var err error
 	switch strings.ToLower(filepath.Ext(path)) {
 	case ".xlsx":
-		err = workbook.Write(path, lay, workbook.Meta{Version: version.String(), Created: o.now()}, o.force)
+		err = workbook.Write(path, lay, workbook.Meta{Version: version.String(), Created: o.now(), Paper: strings.ToLower(o.paper)}, o.force)
 	case ".csv":
 		err = atomicfile.Write(path, o.force, func(w io.Writer) error { return workbook.WriteCSV(w, lay) })
 	case ".json":

@@ -34,9 +34,9 @@ func TestLayoutStrataFiles(t *testing.T) {
 		head string
 	}{
 		{[]string{"--design", "split-plot", "--whole-plot", "light=low,high", "--sub-plot", "variety=V1,V2,V3", "--blocks", "2", "--whole-plot-name", "chamber", "--seed", "4", "--response", "dry_g"},
-			"Unit,Block,Chamber,Position,Treatment,light,variety,dry_g,Notes\n101,1,"},
+			"Unit,Block,Chamber,Position,Treatment,light,variety,dry_g,Status,Reason,Notes\n101,1,"},
 		{[]string{"--design", "latin", "--factor", "feed=A,B,C", "--seed", "4", "--response", "gain"},
-			"Unit,Position,Row,Column,Treatment,gain,Notes\n101,1,1,1,"},
+			"Unit,Position,Row,Column,Treatment,gain,Status,Reason,Notes\n101,1,1,1,"},
 	} {
 		base := filepath.Join(dir, c.args[1])
 		for _, ext := range []string{".xlsx", ".csv", ".json"} {

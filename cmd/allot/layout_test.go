@@ -73,7 +73,7 @@ func TestLayoutFilesAndVerify(t *testing.T) {
 		}
 	}
 	csv, _ := os.ReadFile(filepath.Join(dir, "trial.csv"))
-	if !strings.HasPrefix(string(csv), "Unit,Block,Position,Treatment,height_cm,Notes\n101,1,") {
+	if !strings.HasPrefix(string(csv), "Unit,Block,Position,Treatment,height_cm,Status,Reason,Notes\n101,1,") {
 		t.Errorf("csv starts %q", string(csv[:60]))
 	}
 	// An edited layout JSON is caught, unit by unit.

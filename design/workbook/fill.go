@@ -1,6 +1,7 @@
 package workbook
 
 import (
+	"encoding/json"
 	"fmt"
 	"io"
 	"strings"
@@ -23,10 +24,11 @@ func Fill(src, dst string, values [][]float64, label string, force bool) error {
 		return fmt.Errorf("%s: cannot be opened as an .xlsx workbook: %w", src, err)
 	}
 	defer f.Close()
-	l, _, err := readData(f, src, nil)
+	ds, err := readData(f, src, ReadOptions{})
 	if err != nil {
 		return err
 	}
+	l := ds.layout
 	p := l.Plan
 	if len(p.Responses) == 0 {
 		return ErrNotFilled
@@ -49,7 +51,7 @@ func Fill(src, dst string, values [][]float64, label string, force bool) error {
 			rowOf[strings.TrimSpace(rows[r][0])] = r + 1
 		}
 	}
-	notes := nd + len(p.Responses) + 1
+	notes := len(c.headers(p))
 	for i, u := range l.Units {
 		row, ok := rowOf[u.ID]
 		if !ok {
@@ -65,13 +67,34 @@ func Fill(src, dst string, values [][]float64, label string, force bool) error {
 			}
 		}
 		if label != "" {
-			f.SetCellStr(SheetEntry, cell(notes, row), label)
+			if err := f.SetCellStr(SheetEntry, cell(notes, row), label); err != nil {
+				return err
+			}
 		}
 	}
 	if label != "" {
-		red, _ := f.NewStyle(&excelize.Style{Font: &excelize.Font{Bold: true, Color: "B00020", Size: 12}})
-		f.SetCellStr(SheetStudy, "A2", label)
-		f.SetCellStyle(SheetStudy, "A2", "A2", red)
+		red, err := f.NewStyle(&excelize.Style{Font: &excelize.Font{Bold: true, Color: "B00020", Size: 12}})
+		if err != nil {
+			return err
+		}
+		if err := f.SetCellStr(SheetStudy, "A2", label); err != nil {
+			return err
+		}
+		if err := f.SetCellStyle(SheetStudy, "A2", "A2", red); err != nil {
+			return err
+		}
+		// The notice goes into the checksummed plan data as well, where
+		// clearing the visible one cannot remove it.
+		st := ds.st
+		st.Simulated = label
+		doc, err := json.Marshal(st)
+		if err != nil {
+			return err
+		}
+		// B1 stays as it was (a blind plan's, which a key must match).
+		if err := putDoc(f, ds.fp, doc, ds.chunks); err != nil {
+			return err
+		}
 	}
 	return atomicfile.Write(dst, force, func(w io.Writer) error {
 		if _, err := f.WriteTo(w); err != nil {
@@ -93,6 +116,23 @@ type Observations struct {
 	Blocks     []string   // block number as text, per observation (nil for CRD)
 	Units      []string
 	Cells      []string
+	// Losses lists the units the Status column marks lost or excluded, in
+	// layout order: they are not among the observations above.
+	Losses []Loss
+}
+
+// Loss is a unit marked lost or excluded on the Entry sheet.
+type Loss struct {
+	Unit      string
+	Treatment string   // treatment name
+	Levels    []string // its level of each factor
+	Block     string   // block label (RCBD), or empty
+	Status    string   // StatusLost or StatusExcluded
+	Reason    string
+	Cell      string // the Status cell, "Entry!H7"
+	// Value is the response's value of an excluded unit, if one was
+	// entered (decimal text), else empty.
+	Value string
 }
 
 // Observations collects the non-missing values of response r. It panics on
@@ -106,6 +146,15 @@ func (fl *Filled) Observations(r int) Observations {
 	o := Observations{Levels: make([][]string, len(p.Factors))}
 	for i, u := range fl.Layout.Units {
 		v := fl.Values[r][i]
+		if i < len(fl.Status) && fl.Status[i].Dropped() {
+			loss := Loss{Unit: u.ID, Treatment: tr[u.Treatment].Name, Levels: tr[u.Treatment].Levels,
+				Status: fl.Status[i].Status, Reason: fl.Status[i].Reason, Cell: fl.Status[i].Cell, Value: v.Text}
+			if p.Design == design.RCBD {
+				loss.Block = p.BlockLabel(u.Block)
+			}
+			o.Losses = append(o.Losses, loss)
+			continue
+		}
 		if v.Missing {
 			continue
 		}

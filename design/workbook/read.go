@@ -1,17 +1,13 @@
 package workbook
 
 import (
-	"encoding/csv"
-	"encoding/json"
 	"errors"
 	"fmt"
-	"io"
-	"regexp"
 	"strconv"
 	"strings"
 
 	"github.com/allotproject/allot/design"
-	"github.com/allotproject/allot/randomize"
+	"github.com/allotproject/allot/internal/decimal"
 
 	"github.com/xuri/excelize/v2"
 )
@@ -94,11 +90,40 @@ type Filled struct {
 	// Label is the notice written by Fill at the top of the Study sheet
 	// ("SIMULATED by allot demo: …"), or empty.
 	Label string
+	// SimulatedNote is the same notice as kept in the checksummed plan
+	// data, which a spreadsheet user cannot clear without the check
+	// noticing; empty for measured data.
+	SimulatedNote string
+	// Status holds each unit's Status and Reason cells (layout order), as
+	// plain data for the analysis' account of losses: Status is "" (not
+	// given), StatusMeasured, StatusLost or StatusExcluded. Units lost or
+	// excluded are left out of Observations and listed in its Losses.
+	Status []UnitStatus
 }
 
+// Unit statuses of the Status column.
+const (
+	StatusMeasured = "measured"
+	StatusLost     = "lost"
+	StatusExcluded = "excluded"
+)
+
+// UnitStatus is one unit's Status and Reason as entered.
+type UnitStatus struct {
+	Status string // "", StatusMeasured, StatusLost or StatusExcluded
+	Reason string
+	Cell   string // the Status cell ("Entry!H7"), or empty when not given
+}
+
+// Dropped reports whether the unit's values are not to be analysed.
+func (s UnitStatus) Dropped() bool { return s.Status == StatusLost || s.Status == StatusExcluded }
+
 // Simulated reports whether the workbook's values were filled in by a
-// simulation rather than measured.
-func (f *Filled) Simulated() bool { return strings.Contains(f.Label, "SIMULATED") }
+// simulation rather than measured: by the notice in the checksummed plan
+// data, or (workbooks filled before it was kept there) the Study sheet's.
+func (f *Filled) Simulated() bool {
+	return strings.Contains(f.SimulatedNote, "SIMULATED") || strings.Contains(f.Label, "SIMULATED")
+}
 
 // Errors returns the number of error-level problems.
 func (f *Filled) Errors() int {
@@ -133,21 +158,110 @@ type ReadOptions struct {
 	DecimalComma bool
 	// Key unblinds a blind workbook.
 	Key *design.Key
+	// Layout is the layout file the workbook was written from. It stands in
+	// for a lost hidden plan sheet (data pasted into a new workbook); when
+	// the sheet is there, the two must be the same plan.
+	Layout *design.Layout
+	// Ranges replaces the plan's range of the responses it names for this
+	// check (allot check --range), without changing the stored plan.
+	Ranges map[string]Range
 	// UnzipLimit overrides UnzipSizeLimit (bytes unpacked in all); 0 keeps
 	// the default.
 	UnzipLimit int64
 }
 
-var decimalCommaRE = regexp.MustCompile(`^[+-]?\d+,\d+$`)
+// Range is a response's plausible range; a nil side is open.
+type Range struct{ Min, Max *float64 }
+
+func (r Range) String() string { return rangeOf(r.Min, r.Max) }
+
+// ParseRange parses NAME=MIN..MAX (either side may be empty: "w=0..").
+func ParseRange(s string) (string, Range, error) {
+	name, spec, ok := strings.Cut(s, "=")
+	lo, hi, ok2 := strings.Cut(spec, "..")
+	name = strings.TrimSpace(name)
+	if !ok || !ok2 || name == "" {
+		return "", Range{}, fmt.Errorf("%q: give RESPONSE=MIN..MAX, for example height_cm=0..300", s)
+	}
+	var r Range
+	for _, side := range []struct {
+		text string
+		dst  **float64
+	}{{lo, &r.Min}, {hi, &r.Max}} {
+		t := strings.TrimSpace(side.text)
+		if t == "" {
+			continue
+		}
+		x, err := decimal.Parse(t)
+		if err != nil {
+			return "", Range{}, fmt.Errorf("%q: %q %v", s, t, err)
+		}
+		*side.dst = &x
+	}
+	if r.Min != nil && r.Max != nil && *r.Min > *r.Max {
+		return "", Range{}, fmt.Errorf("%q: the range is empty (MIN above MAX)", s)
+	}
+	return name, r, nil
+}
+
+// Read limits on the Entry sheet, so that a damaged or hostile sheet is
+// refused before it is read into memory: a row may reach column maxColumns
+// (the sheet's own columns and room for a lab's extra ones), and the sheet
+// may hold at most extraRows rows more than the plan has.
+const (
+	maxColumns = 512
+	extraRows  = 10000
+)
 
 // Read opens a filled workbook, verifies its stored plan and checks every
 // row of the Entry sheet. The file is only read. Problems found in cells are
 // in Filled.Problems; a *FileError is returned when the file cannot be used
 // at all (not a workbook, plan sheet missing or edited).
 func Read(path string, opt ReadOptions) (*Filled, error) {
+	if err := checkKind(path); err != nil {
+		return nil, err
+	}
+	f, err := open(path, opt.UnzipLimit)
+	if err != nil {
+		return nil, err
+	}
+	defer f.Close()
+	ds, err := readData(f, path, opt)
+	if err != nil {
+		return nil, err
+	}
+	if opt.Key != nil && !ds.layout.Plan.Blind && !ds.fromPlan {
+		return nil, &FileError{Path: path, Msg: "the workbook is not blind, so it has no key; leave --key out"}
+	}
+	rows, info, err := entryRows(f, path, ds)
+	if err != nil {
+		return nil, err
+	}
+	k := newChecker(path, SheetEntry, ds.layout, ds.labels, opt)
+	k.cellInfo = info
+	if ds.fromPlan {
+		k.add(Warning, "", "", fmt.Sprintf("the hidden plan sheet %q is missing; the rows were checked against the layout given with --plan (fingerprint %.12s) instead", SheetData, ds.layout.Plan.Fingerprint()))
+	}
+	fl, err := k.run(rows)
+	if err != nil {
+		return nil, err
+	}
+	fl.Sealed = ds.layout.IsSealed()
+	fl.SimulatedNote = ds.st.Simulated
+	if fl.Label, err = f.GetCellValue(SheetStudy, "A2"); err != nil {
+		fl.Label = ""
+	}
+	if fl.Label == "" {
+		fl.Label = ds.st.Simulated
+	}
+	return fl, nil
+}
+
+// open opens an .xlsx file with the unzip limits.
+func open(path string, unzip int64) (*excelize.File, error) {
 	limit := int64(UnzipSizeLimit)
-	if opt.UnzipLimit > 0 {
-		limit = opt.UnzipLimit
+	if unzip > 0 {
+		limit = unzip
 	}
 	f, err := excelize.OpenFile(path, excelize.Options{RawCellValue: true, UnzipSizeLimit: limit, UnzipXMLSizeLimit: min(int64(UnzipXMLSizeLimit), limit)})
 	if err != nil {
@@ -156,348 +270,116 @@ func Read(path string, opt ReadOptions) (*Filled, error) {
 		}
 		return nil, &FileError{Path: path, Msg: "cannot be read as an .xlsx workbook (" + err.Error() + "); give the file written by `allot layout` or a copy re-saved as .xlsx"}
 	}
-	defer f.Close()
-	l, labels, err := readData(f, path, opt.Key)
-	if err != nil {
-		return nil, err
-	}
-	fl, err := readEntry(f, path, l, labels, opt)
-	if err != nil {
-		return nil, err
-	}
-	fl.Sealed = l.Plan.Blind && opt.Key == nil
-	fl.Label, _ = f.GetCellValue(SheetStudy, "A2")
-	return fl, nil
+	return f, nil
 }
 
-// readData reads the hidden sheet. It returns the layout and, for blind
-// plans, each unit's code; with a key the layout is unblinded (treatments
-// and seed restored) after the key is checked against the fingerprint.
-func readData(f *excelize.File, path string, key *design.Key) (design.Layout, []string, error) {
-	fail := func(cell, msg string) error {
-		return &FileError{Path: path, Sheet: SheetData, Cell: cell, Msg: msg}
+// entryRows reads the Entry sheet's rows, keeping of each row only the
+// columns the check reads, and refuses a sheet with a cell beyond column
+// maxColumns or more than extraRows rows beyond the plan's before it grows
+// large in memory. Each row is returned with its 1-based row number, and
+// with it the look-up of each cell's type, formula and date format.
+//
+// The rows come from one streaming pass over the worksheet XML
+// (scanSheet), which also gives every cell's type, style and formula; the
+// date formats are looked up per style in the workbook's styles. Where
+// that pass does not apply, excelize reads the rows (entryRowsExcelize).
+func entryRows(f *excelize.File, path string, ds dataSheet) ([]sheetRow, func(string) cellInfo, error) {
+	l := ds.layout
+	c := layoutColumns(l.Plan)
+	keep := len(c.headers(l.Plan))
+	limitRows := len(l.Units)*c.rowsPer() + 1 + extraRows
+	sst, ok := ds.sst, ds.sstOK
+	if !ok {
+		sst, ok = sharedStrings(f)
 	}
-	if idx, err := f.GetSheetIndex(SheetData); err != nil || idx < 0 {
-		return design.Layout{}, nil, fail("", "the hidden plan sheet is missing, so the workbook cannot be matched to its plan; start again from the workbook written by `allot layout`")
+	var sc *scannedSheet
+	if ok {
+		sc, ok = scanSheetWith(f, SheetEntry, sst, scanLimits{cols: maxColumns, rows: limitRows})
 	}
-	get := func(c string) string {
-		v, _ := f.GetCellValue(SheetData, c, excelize.Options{RawCellValue: true})
-		return v
-	}
-	if sc, ok := scanSheet(f, SheetData); ok {
-		get = sc.value
-	}
-	fp, sum := get("B1"), get("B2")
-	n, err := strconv.Atoi(get("B3"))
-	if err != nil || n < 1 {
-		return design.Layout{}, nil, fail("B3", "the chunk count is not a positive number; the plan sheet was edited")
-	}
-	var sb strings.Builder
-	for i := 0; i < n; i++ {
-		sb.WriteString(get(cell(1, 4+i)))
-	}
-	doc := []byte(sb.String())
-	sb.Reset()
-	if digest(doc) != sum {
-		return design.Layout{}, nil, fail("A4", "the stored plan does not match its checksum in B2: the plan sheet was edited; use an unedited copy of the workbook")
-	}
-	var st stored
-	if err := json.Unmarshal(doc, &st); err != nil {
-		return design.Layout{}, nil, fail("A4", "the stored plan is not valid JSON: "+err.Error())
-	}
-	p, err := design.ParsePlan(st.Plan)
-	if err != nil {
-		return design.Layout{}, nil, fail("A4", "the stored plan is not valid: "+err.Error())
-	}
-	var units []design.Unit
-	if err := json.Unmarshal(st.Units, &units); err != nil {
-		return design.Layout{}, nil, fail("A4", "the stored units are not valid JSON: "+err.Error())
-	}
-	l := design.Layout{Plan: p, Units: units, Spares: st.Spares}
-	if !p.Blind {
-		if p.Fingerprint() != fp {
-			return design.Layout{}, nil, fail("B1", "the plan fingerprint does not match the stored plan: the plan sheet was edited")
+	if !ok {
+		rows, err := entryRowsExcelize(f, path, l)
+		if err != nil {
+			return nil, nil, err
 		}
-		if err := l.Check(); err != nil {
-			return design.Layout{}, nil, fail("A4", "the stored layout is inconsistent: "+err.Error())
+		return rows, newCellTyper(f, SheetEntry).info, nil
+	}
+	if sc.wide != "" {
+		col, _, _ := excelize.CellNameToCoordinates(sc.wide)
+		return nil, nil, tooWide(path, sc.wide, col)
+	}
+	if sc.many > 0 {
+		return nil, nil, tooLong(path, sc.many, limitRows, l, c)
+	}
+	var out []sheetRow
+	for r, cells := range sc.rows {
+		if len(cells) == 0 {
+			continue
 		}
-		return l, nil, nil
-	}
-	if len(st.Labels) != len(units) {
-		return design.Layout{}, nil, fail("A4", "the stored blind codes do not match the units: the plan sheet was edited")
-	}
-	for i := range units {
-		units[i].Treatment, units[i].Code = -1, st.Labels[i]
-	}
-	if p.BlindMode != "" {
-		// The fingerprint of a plan with a blind mode leaves the seed out:
-		// it can be checked without the key.
-		if p.Fingerprint() != fp {
-			return design.Layout{}, nil, fail("B1", "the plan fingerprint does not match the stored plan: the plan sheet was edited")
+		if len(cells) > keep+2 { // the Status columns may be absent: keep two more
+			cells = cells[:keep+2]
 		}
-		if err := l.Check(); err != nil {
-			return design.Layout{}, nil, fail("A4", "the stored layout is inconsistent: "+err.Error())
-		}
+		out = append(out, sheetRow{num: r + 1, cells: cells})
 	}
-	if key == nil {
-		return l, st.Labels, nil
-	}
-	if key.Format == design.KeyFormatV1 && key.Fingerprint != fp {
-		return design.Layout{}, nil, &FileError{Path: path, Sheet: SheetData, Cell: "B1", Msg: "the key belongs to another plan (its fingerprint and seed do not reproduce this workbook's); give the key file written with this layout"}
-	}
-	full, err := randomize.Unblind(l, *key)
-	if err != nil {
-		return design.Layout{}, nil, &FileError{Path: path, Sheet: SheetData, Cell: "B1", Msg: err.Error()}
-	}
-	return full, st.Labels, nil
+	return out, newCellTyper(f, SheetEntry).fromScan(sc), nil
 }
 
-func readEntry(f *excelize.File, path string, l design.Layout, labels []string, opt ReadOptions) (*Filled, error) {
-	if sc, ok := scanSheet(f, SheetEntry); ok {
-		// One streaming pass gives the values and the cell types.
-		return checkRows(path, SheetEntry, sc.rows, sc.isText, l, labels, opt)
-	}
-	rows, err := f.GetRows(SheetEntry, excelize.Options{RawCellValue: true})
+func tooWide(path, ref string, col int) error {
+	return &FileError{Path: path, Sheet: SheetEntry, Cell: ref, Msg: fmt.Sprintf("a cell in column %s, beyond the %d columns (up to %s) the reader accepts; delete the stray cells right of the Notes column and save again", colName(col), maxColumns, colName(maxColumns))}
+}
+
+func tooLong(path string, row, limitRows int, l design.Layout, c columns) error {
+	return &FileError{Path: path, Sheet: SheetEntry, Cell: cell(1, row), Msg: fmt.Sprintf("more than %d rows with content, where the plan has %d; delete the rows below the units and save again", limitRows, len(l.Units)*c.rowsPer())}
+}
+
+// entryRowsExcelize is entryRows through excelize's row iterator, for a
+// sheet the streaming pass does not handle. The rows are collected before
+// they are checked because the check's cell types then come from
+// excelize's in-memory worksheet, which pads every row out to its last
+// cell: the bounds must hold before that sheet is loaded.
+func entryRowsExcelize(f *excelize.File, path string, l design.Layout) ([]sheetRow, error) {
+	it, err := f.Rows(SheetEntry)
 	if err != nil {
 		return nil, &FileError{Path: path, Sheet: SheetEntry, Msg: "the data-entry sheet is missing or unreadable (" + err.Error() + ")"}
 	}
-	isText := func(ref string) bool {
-		typ, _ := f.GetCellType(SheetEntry, ref)
-		return typ != excelize.CellTypeNumber && typ != excelize.CellTypeUnset
-	}
-	return checkRows(path, SheetEntry, rows, isText, l, labels, opt)
-}
-
-// checkRows checks the data rows of an Entry sheet or its CSV twin. isText
-// tells whether a cell holds text rather than a number (nil: every cell is
-// text, as in CSV, where a number in text is normal and not reported).
-func checkRows(path, sheet string, rows [][]string, isText func(ref string) bool, l design.Layout, labels []string, opt ReadOptions) (*Filled, error) {
-	p := l.Plan
-	c := layoutColumns(p)
-	heads := c.headers(p)
-	out := &Filled{Layout: l}
-	for _, r := range p.Responses {
-		out.Responses = append(out.Responses, r.Name)
-	}
-	out.Values = make([][]Value, len(p.Responses))
-	for i := range out.Values {
-		out.Values[i] = make([]Value, len(l.Units))
-		for j := range out.Values[i] {
-			out.Values[i][j].Missing = true
+	defer it.Close()
+	c := layoutColumns(l.Plan)
+	keep := len(c.headers(l.Plan))
+	limitRows := len(l.Units)*c.rowsPer() + 1 + extraRows
+	var out []sheetRow
+	for r := 1; it.Next(); r++ {
+		cells, err := it.Columns(excelize.Options{RawCellValue: true})
+		if err != nil {
+			return nil, &FileError{Path: path, Sheet: SheetEntry, Cell: cell(1, r), Msg: "row unreadable: " + err.Error()}
 		}
-	}
-	if c.subsamples > 0 {
-		out.Subs = make([][][]Value, len(p.Responses))
-		for k := range out.Subs {
-			out.Subs[k] = make([][]Value, len(l.Units))
-			for i := range out.Subs[k] {
-				out.Subs[k][i] = make([]Value, c.subsamples)
-				for j := range out.Subs[k][i] {
-					out.Subs[k][i][j].Missing = true
-				}
-			}
-		}
-	}
-	add := func(sev Severity, cellRef, unit, msg string) {
-		out.Problems = append(out.Problems, Problem{Severity: sev, Level: sev.String(), Sheet: sheet, Cell: cellRef, Unit: unit, Msg: msg})
-	}
-	addDesign := func(cellRef, unit, msg string) {
-		add(Error, cellRef, unit, msg)
-		out.Problems[len(out.Problems)-1].design = true
-	}
-	if len(rows) == 0 {
-		return nil, &FileError{Path: path, Sheet: sheet, Cell: "A1", Msg: "the sheet is empty: the header row and unit rows were deleted"}
-	}
-	for i, h := range heads {
-		got := ""
-		if i < len(rows[0]) {
-			got = strings.TrimSpace(rows[0][i])
-		}
-		if got != h {
-			return nil, &FileError{Path: path, Sheet: sheet, Cell: cell(i+1, 1), Msg: fmt.Sprintf("header %q where %q belongs: columns were moved, renamed or deleted; restore the column order", got, h)}
-		}
-	}
-	index := map[string]int{}
-	for i, u := range l.Units {
-		index[u.ID] = i
-	}
-	tr := p.Treatments()
-	nd := c.designCount(p)
-	seenRow := make(map[string]string, 2*len(l.Units))
-	// A unit's label depends on its treatment only: look each up once.
-	treatLabel := map[int]string{}
-	labelOf := func(u design.Unit) string {
-		s, ok := treatLabel[u.Treatment]
-		if !ok {
-			s = l.Label(u)
-			treatLabel[u.Treatment] = s
-		}
-		return s
-	}
-	for r := 1; r < len(rows); r++ {
-		row := rows[r]
-		at := func(j int) string {
-			if j < len(row) {
-				return strings.TrimSpace(row[j])
-			}
-			return ""
-		}
-		blank := true
-		for j := range row {
-			blank = blank && strings.TrimSpace(row[j]) == ""
-		}
-		if blank {
+		if len(cells) == 0 {
 			continue
 		}
-		ref := func(j int) string { return cell(j+1, r+1) }
-		id := at(0)
-		ui, ok := index[id]
-		if !ok {
-			addDesign(ref(0), id, fmt.Sprintf("unit %q is not in the plan; correct the ID or delete the row", id))
-			continue
+		if len(cells) > maxColumns {
+			return nil, tooWide(path, cell(len(cells), r), len(cells))
 		}
-		sub, key := 1, id
-		if c.subsamples > 0 {
-			n, err := strconv.Atoi(at(nd - 1))
-			if err != nil || n < 1 || n > c.subsamples {
-				addDesign(ref(nd-1), id, fmt.Sprintf("subsample %q: must be a whole number from 1 to %d; restore it", at(nd-1), c.subsamples))
-				continue
-			}
-			sub, key = n, id+"/"+strconv.Itoa(n)
+		if len(out) >= limitRows {
+			return nil, tooLong(path, r, limitRows, l, c)
 		}
-		if prev, dup := seenRow[key]; dup {
-			what := "unit " + id
-			if c.subsamples > 0 {
-				what += fmt.Sprintf(" subsample %d", sub)
-			}
-			addDesign(ref(0), id, fmt.Sprintf("%s appears again (first in %s); delete the duplicate row", what, prev))
-			continue
+		if len(cells) > keep+2 { // the Status columns may be absent: keep two more
+			cells = cells[:keep+2]
 		}
-		seenRow[key] = ref(0)
-		seenRow[id] = ref(0)
-		label := ""
-		if labels != nil {
-			label = labels[ui]
-		} else {
-			label = labelOf(l.Units[ui])
-		}
-		want := designCells(c, l.Units[ui], sub, label, tr)
-		for j := 1; j < len(want); j++ {
-			if got := at(j); got != want[j] {
-				addDesign(ref(j), id, fmt.Sprintf("%s was %q in the plan and is now %q; restore it (the plan, not the sheet, says what each unit received)", heads[j], want[j], got))
-			}
-		}
-		for k, resp := range p.Responses {
-			j := nd + k
-			text := isText != nil && isText(ref(j))
-			v, prob := parseResponse(ref(j), at(j), text || isText == nil, isText == nil, resp, opt)
-			if prob != "" {
-				sev := Error
-				if v.Text != "" {
-					sev = Warning
-				}
-				add(sev, ref(j), id, prob)
-			}
-			if c.subsamples > 0 {
-				out.Subs[k][ui][sub-1] = v
-				if !v.Missing {
-					out.Values[k][ui].Missing = false
-				}
-			} else {
-				out.Values[k][ui] = v
-			}
-		}
+		out = append(out, sheetRow{num: r, cells: cells})
 	}
-	for i, u := range l.Units {
-		for sub := 1; c.subsamples > 0 && sub <= c.subsamples; sub++ {
-			if _, ok := seenRow[u.ID+"/"+strconv.Itoa(sub)]; !ok && seenRow[u.ID] != "" {
-				addDesign("", u.ID, fmt.Sprintf("unit %s subsample %d has no row: a row was deleted; add it back", u.ID, sub))
-			}
-		}
-		if _, ok := seenRow[u.ID]; !ok {
-			what := ""
-			switch {
-			case labels != nil:
-				what = " (" + labels[i] + ")"
-			case u.Treatment >= 0:
-				what = " (" + tr[u.Treatment].Name + ")"
-			}
-			addDesign("", u.ID, fmt.Sprintf("unit %s%s has no row: a row was deleted; add it back with its unit ID", u.ID, what))
-		}
-	}
-	for k, resp := range p.Responses {
-		missing := map[string]int{}
-		var order []string
-		for i, u := range l.Units {
-			if _, ok := seenRow[u.ID]; ok && out.Values[k][i].Missing {
-				name := ""
-				switch {
-				case labels != nil && p.BlindMode == design.BlindUnit:
-					name = "" // one code per unit: counted together
-				case labels != nil:
-					name = labels[i]
-				default:
-					name = tr[u.Treatment].Name
-				}
-				if missing[name] == 0 {
-					order = append(order, name)
-				}
-				missing[name]++
-			}
-		}
-		if labels == nil {
-			order = order[:0]
-			for _, t := range tr {
-				if missing[t.Name] > 0 {
-					order = append(order, t.Name)
-				}
-			}
-		}
-		for _, name := range order {
-			if name == "" {
-				add(Warning, "", "", fmt.Sprintf("%s: %d unit(s) have no value (missing)", resp.Name, missing[name]))
-				continue
-			}
-			add(Warning, "", "", fmt.Sprintf("%s: %d unit(s) of %s %q have no value (missing)", resp.Name, missing[name], strings.ToLower(treatmentWord(p)), name))
-		}
+	if err := it.Error(); err != nil {
+		return nil, &FileError{Path: path, Sheet: SheetEntry, Msg: "unreadable: " + err.Error()}
 	}
 	return out, nil
 }
 
-// parseResponse checks one response cell. It returns the value and, when
-// something is wrong, a message; a message with a usable value is a warning.
-func parseResponse(ref, raw string, isText, textNormal bool, r design.Response, opt ReadOptions) (Value, string) {
-	v := Value{Cell: ref, Missing: true}
-	if raw == "" {
-		return v, ""
-	}
-	text := raw
-	var warn string
-	if isText {
-		switch {
-		case decimalCommaRE.MatchString(raw):
-			if !opt.DecimalComma {
-				return v, fmt.Sprintf("%q has a decimal comma; retype it with a decimal point, or run again with --decimal-comma", raw)
-			}
-			text = strings.Replace(raw, ",", ".", 1)
-		default:
-			if _, err := strconv.ParseFloat(raw, 64); err != nil {
-				return v, fmt.Sprintf("%q is not a number; correct the cell (leave it empty if the unit was not measured)", raw)
-			}
-			if !textNormal {
-				warn = fmt.Sprintf("%q is a number stored as text; it was read as %s", raw, raw)
-			}
-		}
-	}
-	x, err := strconv.ParseFloat(text, 64)
-	if err != nil {
-		return v, fmt.Sprintf("%q is not a number; correct the cell", raw)
-	}
-	if r.Min != nil && x < *r.Min || r.Max != nil && x > *r.Max {
-		return v, fmt.Sprintf("%s is outside the declared range %s for %s; correct it or widen the range in the plan", text, rangeText(r), r.Name)
-	}
-	v.Text, v.Missing = text, false
-	return v, warn
+// sheetRow is one row of a sheet or CSV file: its 1-based row (or line)
+// number and its cells.
+type sheetRow struct {
+	num   int
+	cells []string
+	// line is the CSV line the record starts on (0 for a sheet).
+	line int
+	// fields is the CSV record's field count before padding (0 for a sheet).
+	fields int
 }
 
 // ErrNotFilled is returned by Fill for a layout without responses.
@@ -506,42 +388,24 @@ var ErrNotFilled = errors.New("workbook: the plan has no responses to fill")
 // ReadLayout returns the layout stored in a workbook (unblinded with key
 // when the plan is blind), without checking the Entry sheet.
 func ReadLayout(path string, key *design.Key) (design.Layout, error) {
-	f, err := excelize.OpenFile(path, excelize.Options{RawCellValue: true, UnzipSizeLimit: UnzipSizeLimit, UnzipXMLSizeLimit: UnzipXMLSizeLimit})
-	if err != nil {
-		return design.Layout{}, &FileError{Path: path, Msg: "cannot be read as an .xlsx workbook (" + err.Error() + ")"}
+	if err := checkKind(path); err != nil {
+		return design.Layout{}, err
 	}
-	defer f.Close()
-	l, _, err := readData(f, path, key)
+	f, err := open(path, 0)
 	if err != nil {
 		return design.Layout{}, err
 	}
+	defer f.Close()
+	ds, err := readData(f, path, ReadOptions{Key: key})
+	if err != nil {
+		return design.Layout{}, err
+	}
+	l := ds.layout
 	if l.Plan.Blind && key == nil {
 		return design.Layout{}, &FileError{Path: path, Msg: "the workbook is blind: give its key file with --key to unblind it"}
 	}
+	if !l.Plan.Blind && key != nil {
+		return design.Layout{}, &FileError{Path: path, Msg: "the workbook is not blind, so it has no key; leave --key out"}
+	}
 	return l, nil
-}
-
-// ReadCSV checks a CSV export of the Entry sheet (header row and unit rows,
-// as allot layout -o FILE.csv writes them, filled in) against layout l. The
-// cells are named as in the sheet (A1 is the first header), under the
-// sheet name "CSV". A blind layout needs its key in opt.
-func ReadCSV(r io.Reader, path string, l design.Layout, opt ReadOptions) (*Filled, error) {
-	cr := csv.NewReader(r)
-	cr.FieldsPerRecord = -1
-	rows, err := cr.ReadAll()
-	if err != nil {
-		return nil, &FileError{Path: path, Msg: "not a readable CSV file: " + err.Error()}
-	}
-	for _, row := range rows {
-		for j := range row {
-			row[j] = UnescapeCell(row[j])
-		}
-	}
-	var labels []string
-	if l.Plan.Blind {
-		for _, u := range l.Units {
-			labels = append(labels, l.Label(u))
-		}
-	}
-	return checkRows(path, "CSV", rows, nil, l, labels, opt)
 }

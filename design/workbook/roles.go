@@ -1,14 +1,16 @@
 package workbook
 
 import (
-	"github.com/allotproject/allot/design"
-
 	"bytes"
+	"errors"
 	"fmt"
 	"io"
 	"os"
 	"strconv"
 	"strings"
+
+	"github.com/allotproject/allot/design"
+	"github.com/allotproject/allot/internal/decimal"
 )
 
 // Roles names the columns of a plain CSV table (one that allot did not
@@ -23,9 +25,19 @@ type Roles struct {
 // ReadRoles reads a plain CSV table with a header row and returns the
 // observations of the response (rows with an empty response are skipped and
 // counted in missing). A non-numeric response, or an empty factor or block
-// cell, is an error naming its line and column.
+// cell, is an error naming its line and column; so is a line with more or
+// fewer fields than the header. The dialect is detected as for ReadCSV (a
+// byte-order mark, the separator from the header line, CR line ends), and
+// a response is a number in the grammar of internal/decimal.
+//
+// The table is streamed: a million-row file is read without holding it
+// whole, and without an allocation per row.
 func ReadRoles(r io.Reader, path string, roles Roles, decimalComma bool) (obs Observations, missing int, err error) {
-	rr := newRecordReader(r, ',')
+	src, dialect, err := sniffStream(r, path)
+	if err != nil {
+		return obs, 0, &design.CSVError{File: path, Msg: err.(*FileError).Msg}
+	}
+	rr := newRecordReader(src, byte(dialect.sep))
 	first, _, err := rr.read()
 	if err != nil {
 		return obs, 0, &design.CSVError{File: path, Msg: "no header row: " + err.Error()}
@@ -103,9 +115,12 @@ func ReadRoles(r io.Reader, path string, roles Roles, decimalComma bool) (obs Ob
 		if err != nil {
 			return obs, 0, &design.CSVError{File: path, Msg: err.Error()}
 		}
+		if len(rec) != len(head) {
+			return obs, 0, &design.CSVError{File: path, Line: line, Msg: fmt.Sprintf("%d fields where the header has %d (the file is %s): a separator is missing or extra; correct the line", len(rec), len(head), dialect)}
+		}
 		get := func(i int) []byte {
 			if i < len(rec) {
-				return unescapeBytes(bytes.TrimSpace(rec[i]))
+				return bytes.TrimSpace(unescapeBytes(rec[i]))
 			}
 			return nil
 		}
@@ -114,16 +129,19 @@ func ReadRoles(r io.Reader, path string, roles Roles, decimalComma bool) (obs Ob
 			missing++
 			continue
 		}
-		if decimalComma && decimalCommaRE.Match(v) {
+		if decimalComma && commaDecimal(v) {
 			fixed = append(fixed[:0], v...)
 			fixed[bytes.IndexByte(fixed, ',')] = '.'
 			v = fixed
 		}
 		if !plainDecimal(v) {
-			if _, err := strconv.ParseFloat(string(v), 64); err != nil {
-				msg := fmt.Sprintf("%q is not a number; correct it or leave it empty", v)
-				if decimalCommaRE.Match(v) {
-					msg = fmt.Sprintf("%q has a decimal comma; run again with --decimal-comma", v)
+			// The common forms are checked above without allocating;
+			// anything else goes through the one grammar.
+			s := string(v)
+			if err := decimal.Check(s); err != nil {
+				msg := fmt.Sprintf("%q %v; correct it or leave it empty", s, err)
+				if errors.Is(err, decimal.ErrComma) {
+					msg = fmt.Sprintf("%q has a decimal comma; run again with --decimal-comma", s)
 				}
 				return obs, 0, &design.CSVError{File: path, Line: line, Column: roles.Response, Msg: msg}
 			}
@@ -236,8 +254,9 @@ func unescapeBytes(v []byte) []byte {
 }
 
 // plainDecimal reports whether v is [sign]digits[.digits] with at least one
-// digit and fewer than 300 characters: a number strconv.ParseFloat always
-// accepts, so that the common case needs no further check.
+// digit and fewer than 300 characters: a number in internal/decimal's
+// grammar that cannot overflow, so that the common case needs no further
+// check.
 func plainDecimal(v []byte) bool {
 	if len(v) == 0 || len(v) >= 300 {
 		return false
@@ -258,4 +277,29 @@ func plainDecimal(v []byte) bool {
 		}
 	}
 	return digits > 0
+}
+
+// commaDecimal reports whether v is [sign]digits,digits: a number written
+// with a decimal comma, as decimal.FromComma takes it.
+func commaDecimal(v []byte) bool {
+	i := 0
+	if len(v) > 0 && (v[0] == '+' || v[0] == '-') {
+		i++
+	}
+	before, after, comma := 0, 0, false
+	for ; i < len(v); i++ {
+		switch c := v[i]; {
+		case c >= '0' && c <= '9':
+			if comma {
+				after++
+			} else {
+				before++
+			}
+		case c == ',' && !comma:
+			comma = true
+		default:
+			return false
+		}
+	}
+	return comma && before > 0 && after > 0
 }

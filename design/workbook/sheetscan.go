@@ -22,12 +22,31 @@ import (
 // uses excelize as before.
 
 // scannedSheet is a worksheet's cell values by row and column (0-based),
-// as excelize's GetRows with RawCellValue gives them, and whether each cell
-// holds text (a type other than number).
+// as excelize's GetRows with RawCellValue gives them, and what else the
+// check needs of each cell: its stored type, its style and its formula.
 type scannedSheet struct {
 	rows [][]string
-	text [][]bool
+	meta [][]cellMeta
+	// formulas holds the formula text of the cells that have one, by
+	// 0-based row and column; shared marks a cell of a shared formula
+	// whose text lives in another cell (excelize translates it).
+	formulas map[[2]int]string
+	shared   map[[2]int]bool
+	// wide is the reference of a cell beyond scanLimits.cols, and many the
+	// row past scanLimits.rows rows with content; the scan stopped there.
+	wide string
+	many int
 }
+
+// cellMeta is a cell's stored type and style index.
+type cellMeta struct {
+	kind  cellKind
+	style int32
+}
+
+// scanLimits bound a scan before it grows large in memory (0: no bound):
+// the last column a cell may be in, and the rows with content.
+type scanLimits struct{ cols, rows int }
 
 // value returns the value at a cell reference such as "B3".
 func (s *scannedSheet) value(ref string) string {
@@ -38,18 +57,46 @@ func (s *scannedSheet) value(ref string) string {
 	return s.rows[r-1][c-1]
 }
 
-// isText reports whether the cell at ref holds text.
-func (s *scannedSheet) isText(ref string) bool {
+// cell returns the metadata of the cell at ref (a number cell without
+// style when there is none).
+func (s *scannedSheet) cell(ref string) (cellMeta, int, int) {
 	c, r, err := excelize.CellNameToCoordinates(ref)
-	if err != nil || r > len(s.text) || c > len(s.text[r-1]) {
-		return false
+	if err != nil || r > len(s.meta) || c > len(s.meta[r-1]) {
+		return cellMeta{}, r - 1, c - 1
 	}
-	return s.text[r-1][c-1]
+	return s.meta[r-1][c-1], r - 1, c - 1
+}
+
+// isText reports whether the cell at ref holds text (or another type
+// than a number).
+func (s *scannedSheet) isText(ref string) bool {
+	m, _, _ := s.cell(ref)
+	return m.kind != kindNumber
 }
 
 // scanSheet reads sheet name of f; ok is false when the fast path does not
 // apply.
-func scanSheet(f *excelize.File, name string) (*scannedSheet, bool) {
+func scanSheet(f *excelize.File, name string, lim scanLimits) (*scannedSheet, bool) {
+	sst, ok := sharedStrings(f)
+	if !ok {
+		return nil, false
+	}
+	return scanSheetWith(f, name, sst, lim)
+}
+
+// sharedStrings scans the workbook's shared strings (nil without any);
+// ok is false when the fast path does not apply. A check reads two sheets
+// with one table: scan it once.
+func sharedStrings(f *excelize.File) ([]string, bool) {
+	sb, ok := pkgBytes(f, sharedStringsPart(f))
+	if !ok {
+		return nil, true
+	}
+	return scanSharedStrings(sb)
+}
+
+// scanSheetWith is scanSheet with the shared strings already scanned.
+func scanSheetWith(f *excelize.File, name string, sst []string, lim scanLimits) (*scannedSheet, bool) {
 	part, ok := sheetPart(f, name)
 	if !ok {
 		return nil, false
@@ -58,13 +105,7 @@ func scanSheet(f *excelize.File, name string) (*scannedSheet, bool) {
 	if !ok {
 		return nil, false
 	}
-	var sst []string
-	if sb, ok := pkgBytes(f, sharedStringsPart(f)); ok {
-		if sst, ok = scanSharedStrings(sb); !ok {
-			return nil, false
-		}
-	}
-	return scanWorksheet(b, sst)
+	return scanWorksheet(b, sst, lim)
 }
 
 func pkgBytes(f *excelize.File, name string) ([]byte, bool) {
@@ -163,15 +204,16 @@ func scanSharedStrings(b []byte) ([]string, bool) {
 }
 
 // scanWorksheet reads the cells of a worksheet part.
-func scanWorksheet(b []byte, sst []string) (*scannedSheet, bool) {
+func scanWorksheet(b []byte, sst []string, lim scanLimits) (*scannedSheet, bool) {
 	s := &scannedSheet{}
 	var row []string
-	var text []bool
-	rowNum := 0
-	inRow, inCell, inIs, inPh := false, false, false, false
+	var meta []cellMeta
+	rowNum, content := 0, 0
+	inRow, inCell, inIs, inPh, inF := false, false, false, false, false
 	var ref, typ []byte
-	var val []byte
-	haveV := false
+	var val, formula []byte
+	var style int32
+	haveV, haveF, sharedF := false, false, false
 	sc := xmlScanner{b: b}
 	finishCell := func() bool {
 		col := len(row) + 1
@@ -182,9 +224,13 @@ func scanWorksheet(b []byte, sst []string) (*scannedSheet, bool) {
 			}
 			col = c
 		}
+		if lim.cols > 0 && col > lim.cols {
+			s.wide = cell(col, rowNum)
+			return true
+		}
 		for len(row) < col-1 {
 			row = append(row, "")
-			text = append(text, false)
+			meta = append(meta, cellMeta{})
 		}
 		v := ""
 		switch string(typ) {
@@ -199,13 +245,27 @@ func scanWorksheet(b []byte, sst []string) (*scannedSheet, bool) {
 		default:
 			v = string(val)
 		}
+		if haveF {
+			if s.formulas == nil {
+				s.formulas, s.shared = map[[2]int]string{}, map[[2]int]bool{}
+			}
+			at := [2]int{rowNum - 1, col - 1}
+			if len(formula) > 0 {
+				s.formulas[at] = string(formula)
+			} else if sharedF {
+				s.shared[at] = true
+			}
+		}
 		row = append(row, v)
-		text = append(text, len(typ) > 0 && string(typ) != "n")
+		meta = append(meta, cellMeta{kind: kindOf(typ), style: style})
 		return true
 	}
 	for sc.next() {
 		if sc.bad {
 			return nil, false
+		}
+		if s.wide != "" {
+			return s, true
 		}
 		switch string(sc.name) {
 		case "row":
@@ -214,19 +274,25 @@ func scanWorksheet(b []byte, sst []string) (*scannedSheet, bool) {
 					return nil, false
 				}
 				inRow = false
-				s.put(rowNum, row, text)
+				if len(row) > 0 {
+					if content++; lim.rows > 0 && content > lim.rows {
+						s.many = rowNum
+						return s, true
+					}
+				}
+				s.put(rowNum, row, meta)
 				continue
 			}
 			n := rowNum + 1
 			if r := sc.attr("r"); r != nil {
 				v, err := strconv.Atoi(string(r))
-				if err != nil || v <= rowNum {
+				if err != nil || v <= rowNum || v > excelize.TotalRows {
 					return nil, false
 				}
 				n = v
 			}
 			rowNum = n
-			row, text = nil, nil
+			row, meta = nil, nil
 			if sc.selfClose {
 				s.put(rowNum, nil, nil)
 				continue
@@ -243,8 +309,32 @@ func scanWorksheet(b []byte, sst []string) (*scannedSheet, bool) {
 				inCell = false
 				continue
 			}
-			ref, typ = sc.attr("r"), sc.attr("t")
+			// The cell's attributes in one pass: reference, type, style.
+			var st []byte
+			ref, typ = nil, nil
+			sc.cellAttrs(func(k, v []byte) bool {
+				if len(k) == 1 {
+					switch k[0] {
+					case 'r':
+						ref = v
+					case 't':
+						typ = v
+					case 's':
+						st = v
+					}
+				}
+				return true
+			})
+			style = 0
+			if st != nil {
+				v, err := strconv.Atoi(string(st))
+				if err != nil || v < 0 || v > 1<<30 {
+					return nil, false
+				}
+				style = int32(v)
+			}
 			val, haveV = val[:0], false
+			formula, haveF, sharedF, inF = formula[:0], false, false, false
 			if sc.selfClose {
 				if !finishCell() {
 					return nil, false
@@ -256,6 +346,21 @@ func scanWorksheet(b []byte, sst []string) (*scannedSheet, bool) {
 			if sc.end && inCell {
 				val = append(val[:0], sc.textBefore()...)
 				haveV = true
+			}
+		case "f":
+			if !inCell {
+				continue
+			}
+			switch {
+			case sc.end:
+				if inF {
+					formula = append(formula[:0], sc.textBefore()...)
+				}
+				inF = false
+			default:
+				haveF = true
+				sharedF = string(sc.attr("t")) == "shared"
+				inF = !sc.selfClose
 			}
 		case "is":
 			inIs = inCell && !sc.end && !sc.selfClose
@@ -276,14 +381,30 @@ func scanWorksheet(b []byte, sst []string) (*scannedSheet, bool) {
 	return s, true
 }
 
+// kindOf maps a cell's t attribute to its kind, as excelize's GetCellType
+// does (an unknown type counts as a number, as excelize's unset type).
+func kindOf(t []byte) cellKind {
+	switch string(t) {
+	case "s", "str", "inlineStr":
+		return kindText
+	case "b":
+		return kindBool
+	case "e":
+		return kindError
+	case "d":
+		return kindDate
+	}
+	return kindNumber
+}
+
 // put stores row number n (1-based).
-func (s *scannedSheet) put(n int, row []string, text []bool) {
+func (s *scannedSheet) put(n int, row []string, meta []cellMeta) {
 	for len(s.rows) < n-1 {
 		s.rows = append(s.rows, nil)
-		s.text = append(s.text, nil)
+		s.meta = append(s.meta, nil)
 	}
 	s.rows = append(s.rows, row)
-	s.text = append(s.text, text)
+	s.meta = append(s.meta, meta)
 }
 
 // xmlScanner walks the tags of an XML document written without namespace
@@ -382,33 +503,46 @@ func balancedQuotes(tag []byte) bool {
 
 // attr returns the raw value of attribute key, or nil.
 func (s *xmlScanner) attr(key string) []byte {
+	var out []byte
+	s.cellAttrs(func(k, v []byte) bool {
+		if string(k) == key {
+			out = v
+			return false
+		}
+		return true
+	})
+	return out
+}
+
+// cellAttrs calls fn with each attribute's name and value (entities
+// resolved) until fn returns false.
+func (s *xmlScanner) cellAttrs(fn func(k, v []byte) bool) {
 	a := s.attrs
 	for len(a) > 0 {
 		a = bytes.TrimLeft(a, " \t\r\n")
 		eq := bytes.IndexByte(a, '=')
 		if eq < 0 {
-			return nil
+			return
 		}
 		k := bytes.TrimSpace(a[:eq])
 		a = bytes.TrimLeft(a[eq+1:], " \t\r\n")
 		if len(a) == 0 || a[0] != '"' && a[0] != '\'' {
-			return nil
+			return
 		}
 		q := a[0]
 		e := bytes.IndexByte(a[1:], q)
 		if e < 0 {
-			return nil
+			return
 		}
 		v := a[1 : 1+e]
 		a = a[e+2:]
-		if string(k) == key {
-			if bytes.IndexByte(v, '&') >= 0 {
-				return []byte(unescapeXML(v))
-			}
-			return v
+		if bytes.IndexByte(v, '&') >= 0 {
+			v = []byte(unescapeXML(v))
+		}
+		if !fn(k, v) {
+			return
 		}
 	}
-	return nil
 }
 
 // textBefore returns the character data before the current tag, with

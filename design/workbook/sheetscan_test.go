@@ -28,6 +28,10 @@ func TestScanSheet(t *testing.T) {
 	f.SetCellStr(SheetEntry, "F2", `a & b <c> "d" 'e'`)
 	f.SetCellRichText(SheetEntry, "F3", []excelize.RichTextRun{{Text: "rich "}, {Text: "text", Font: &excelize.Font{Bold: true}}})
 	f.SetCellInt(SheetEntry, "H12", 7) // beyond the last row and column
+	date, _ := f.NewStyle(&excelize.Style{NumFmt: 14})
+	f.SetCellFloat(SheetEntry, "E7", 45000, -1, 64)
+	f.SetCellStyle(SheetEntry, "E7", "E7", date)
+	f.SetCellFormula(SheetEntry, "E8", "E2*2", excelize.FormulaOpts{Type: new(excelize.STCellFormulaTypeShared), Ref: new("E8:E9")})
 	if err := f.SaveAs(path); err != nil {
 		t.Fatal(err)
 	}
@@ -38,10 +42,31 @@ func TestScanSheet(t *testing.T) {
 	}
 	defer f.Close()
 	for _, sheet := range []string{SheetEntry, SheetData, SheetStudy, SheetMap} {
-		sc, ok := scanSheet(f, sheet)
+		sc, ok := scanSheet(f, sheet, scanLimits{})
 		if !ok {
 			t.Fatalf("%s: the streaming reader did not apply", sheet)
 		}
+		// excelize gives a merged range's every cell the type of its first
+		// cell; the scan, like the sheet's XML, has only the first cell.
+		merged := map[string]bool{}
+		mc, err := f.GetMergeCells(sheet)
+		if err != nil {
+			t.Fatal(err)
+		}
+		for _, m := range mc {
+			c1, r1, _ := excelize.CellNameToCoordinates(m.GetStartAxis())
+			c2, r2, _ := excelize.CellNameToCoordinates(m.GetEndAxis())
+			for r := r1; r <= r2; r++ {
+				for c := c1; c <= c2; c++ {
+					if r != r1 || c != c1 {
+						ref, _ := excelize.CoordinatesToCellName(c, r)
+						merged[ref] = true
+					}
+				}
+			}
+		}
+		typer := newCellTyper(f, sheet)
+		infoOf := typer.fromScan(sc)
 		rows, err := f.GetRows(sheet, excelize.Options{RawCellValue: true})
 		if err != nil {
 			t.Fatal(err)
@@ -55,6 +80,15 @@ func TestScanSheet(t *testing.T) {
 				ref, _ := excelize.CoordinatesToCellName(c+1, r+1)
 				if got := sc.value(ref); got != want {
 					t.Errorf("%s!%s: %q, excelize %q", sheet, ref, got, want)
+				}
+				if merged[ref] {
+					continue
+				}
+				if sheet == SheetEntry {
+					// The check's view of a cell: type, formula, date format.
+					if got, want := infoOf(ref), typer.info(ref); got != want {
+						t.Errorf("%s!%s: cell info %+v, from excelize %+v", sheet, ref, got, want)
+					}
 				}
 				typ, _ := f.GetCellType(sheet, ref)
 				if wantText := typ != excelize.CellTypeNumber && typ != excelize.CellTypeUnset; sc.isText(ref) != wantText {
@@ -76,10 +110,10 @@ func FuzzScanWorksheet(f *testing.F) {
 		if !ok {
 			sst = []string{"s0"}
 		}
-		if s, ok := scanWorksheet(b, sst); ok {
+		if s, ok := scanWorksheet(b, sst, scanLimits{cols: 64, rows: 100}); ok {
 			for r := range s.rows {
-				if len(s.rows[r]) != len(s.text[r]) {
-					t.Fatalf("row %d: %d values, %d types", r, len(s.rows[r]), len(s.text[r]))
+				if len(s.rows[r]) != len(s.meta[r]) {
+					t.Fatalf("row %d: %d values, %d types", r, len(s.rows[r]), len(s.meta[r]))
 				}
 			}
 		}

@@ -1,13 +1,10 @@
 package workbook
 
 import (
-	"fmt"
 	"strconv"
 	"strings"
 
 	"github.com/allotproject/allot/design"
-
-	"github.com/xuri/excelize/v2"
 )
 
 // mainPlotHeader is the Entry heading of a split plot's main-plot column:
@@ -86,47 +83,3 @@ func comboNames(fs []design.Factor) []string {
 
 // TreatmentLevels returns the plan's treatment names in plan order.
 func TreatmentLevels(p design.Plan) []string { return comboNames(p.Factors) }
-
-// outlineMainPlots draws a thick outline around the sub-plots of each main
-// plot of a split plot on the Map sheet (one row per block, positions left
-// to right), and says so in row 2. Other designs are left as they are.
-func outlineMainPlots(f *excelize.File, l design.Layout) error {
-	p := l.Plan
-	if p.Design != design.SplitPlot {
-		return nil
-	}
-	thin := func(side string) excelize.Border { return excelize.Border{Type: side, Color: "808080", Style: 1} }
-	thick := func(side string) excelize.Border { return excelize.Border{Type: side, Color: "000000", Style: 5} }
-	style := func(left, right bool) (int, error) {
-		b := []excelize.Border{thick("top"), thick("bottom"), thin("left"), thin("right")}
-		if left {
-			b[2] = thick("left")
-		}
-		if right {
-			b[3] = thick("right")
-		}
-		return f.NewStyle(&excelize.Style{Alignment: &excelize.Alignment{WrapText: true, Vertical: "top"}, Border: b})
-	}
-	first, err := style(true, false)
-	if err != nil {
-		return err
-	}
-	middle, _ := style(false, false)
-	last, _ := style(false, true)
-	nb := p.SubPlotTreatments()
-	for _, u := range l.Units {
-		st := middle
-		switch k := (u.Position - 1) % nb; {
-		case k == 0:
-			st = first
-		case k == nb-1:
-			st = last
-		}
-		ref := cell(u.Position+1, u.Block+3)
-		if err := f.SetCellStyle(SheetMap, ref, ref, st); err != nil {
-			return err
-		}
-	}
-	mp := p.MainPlotWord()
-	return f.SetCellStr(SheetMap, "A2", fmt.Sprintf("Thick outlines group the %d sub-plots of each %s; every %s holds one %s treatment (%s).", nb, mp, mp, "whole-plot", strings.Join(WholeLevels(p), ", ")))
-}

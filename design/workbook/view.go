@@ -12,18 +12,22 @@ import (
 // and gives only codes (its plan sealed, treatments −1). The stored plan is
 // checked as Read checks it; the Entry sheet is not read.
 func ReadView(path string) (design.View, error) {
-	f, err := excelize.OpenFile(path, excelize.Options{RawCellValue: true, UnzipSizeLimit: UnzipSizeLimit, UnzipXMLSizeLimit: UnzipXMLSizeLimit})
-	if err != nil {
-		return design.View{}, &FileError{Path: path, Msg: "cannot be read as an .xlsx workbook (" + err.Error() + "); give the file written by `allot layout`"}
+	if err := checkKind(path); err != nil {
+		return design.View{}, err
 	}
-	defer f.Close()
-	l, labels, err := readData(f, path, nil)
+	f, err := open(path, 0)
 	if err != nil {
 		return design.View{}, err
 	}
+	defer f.Close()
+	ds, err := readData(f, path, ReadOptions{})
+	if err != nil {
+		return design.View{}, err
+	}
+	l := ds.layout
 	if !l.Plan.Blind {
 		return l.View(), nil
 	}
 	fp, _ := f.GetCellValue(SheetData, "B1", excelize.Options{RawCellValue: true})
-	return design.View{Layout: l, Shown: labels, Fingerprint: fp}, nil
+	return design.View{Layout: l, Shown: ds.labels, Fingerprint: fp}, nil
 }

@@ -138,10 +138,46 @@ func TestMutations(t *testing.T) {
 		{name: "decimal comma accepted", opt: ReadOptions{DecimalComma: true}, clean: true, mutate: func(f *excelize.File) { f.SetCellStr(SheetEntry, "E5", "12,5") }},
 		{name: "number stored as text", mutate: func(f *excelize.File) { f.SetCellStr(SheetEntry, "E5", "12.5") }, sev: Warning, cell: "E5", msg: "number stored as text"},
 		{name: "out of range", mutate: func(f *excelize.File) { f.SetCellFloat(SheetEntry, "E5", 999, -1, 64) }, sev: Error, cell: "E5", msg: "outside the declared range 0..200"},
-		{name: "blank response", mutate: func(f *excelize.File) { f.SetCellValue(SheetEntry, "E5", nil) }, sev: Warning, msg: "1 unit(s) of treatment"},
+		{name: "blank response", mutate: func(f *excelize.File) { f.SetCellValue(SheetEntry, "E5", nil) }, sev: Warning, msg: "1 unit of treatment"},
 		{name: "unknown unit", mutate: func(f *excelize.File) { f.SetCellInt(SheetEntry, "A4", 999) }, sev: Error, cell: "A4", msg: `unit "999" is not in the plan`},
 		{name: "moved column", mutate: func(f *excelize.File) { f.SetCellStr(SheetEntry, "E1", "mass_g") }, fatal: `cell E1: header "mass_g" where "height_cm" belongs`},
 		{name: "plan sheet deleted", mutate: func(f *excelize.File) { f.DeleteSheet(SheetData) }, fatal: "hidden plan sheet is missing"},
+		{name: "date cell", mutate: func(f *excelize.File) {
+			st, _ := f.NewStyle(&excelize.Style{NumFmt: 14})
+			f.SetCellFloat(SheetEntry, "E5", 45000, -1, 64)
+			f.SetCellStyle(SheetEntry, "E5", "E5", st)
+		}, sev: Error, cell: "E5", msg: "formatted as a date"},
+		{name: "custom date format", mutate: func(f *excelize.File) {
+			code := `dd"."mm"."yyyy`
+			st, _ := f.NewStyle(&excelize.Style{CustomNumFmt: &code})
+			f.SetCellStyle(SheetEntry, "E5", "E5", st)
+		}, sev: Error, cell: "E5", msg: "formatted as a date"},
+		{name: "formula without a saved result", mutate: func(f *excelize.File) {
+			f.SetCellValue(SheetEntry, "E5", nil)
+			f.SetCellFormula(SheetEntry, "E5", "E4*2")
+		}, sev: Error, cell: "E5", msg: "formula =E4*2 without a saved result"},
+		{name: "TRUE/FALSE cell", mutate: func(f *excelize.File) { f.SetCellBool(SheetEntry, "E5", true) }, sev: Error, cell: "E5", msg: "TRUE/FALSE cell"},
+		{name: "NaN text", mutate: func(f *excelize.File) { f.SetCellStr(SheetEntry, "E5", "NaN") }, sev: Error, cell: "E5", msg: "is NaN"},
+		{name: "Inf text", mutate: func(f *excelize.File) { f.SetCellStr(SheetEntry, "E5", "-Inf") }, sev: Error, cell: "E5", msg: "is an infinity"},
+		{name: "hex text", mutate: func(f *excelize.File) { f.SetCellStr(SheetEntry, "E5", "0x10") }, sev: Error, cell: "E5", msg: "hexadecimal"},
+		{name: "range given on check", opt: ReadOptions{Ranges: map[string]Range{"height_cm": {Min: f64(0), Max: f64(1000)}}}, mutate: func(f *excelize.File) { f.SetCellFloat(SheetEntry, "E5", 999, -1, 64) }, sev: Warning, msg: "checked against the range 0..1000 given with --range, not the plan's 0..200"},
+		{name: "status lost with a reason", mutate: func(f *excelize.File) {
+			f.SetCellValue(SheetEntry, "E5", nil)
+			f.SetCellValue(SheetEntry, "F5", nil)
+			f.SetCellStr(SheetEntry, "G5", "lost")
+			f.SetCellStr(SheetEntry, "H5", "pot knocked over")
+		}, sev: Warning, msg: "Status: 1 unit lost and 0 units excluded"},
+		{name: "status lost without a reason", mutate: func(f *excelize.File) {
+			f.SetCellValue(SheetEntry, "E5", nil)
+			f.SetCellValue(SheetEntry, "F5", nil)
+			f.SetCellStr(SheetEntry, "G5", "Lost")
+		}, sev: Error, cell: "H5", msg: "is lost but the Reason is empty"},
+		{name: "status lost with a value", mutate: func(f *excelize.File) {
+			f.SetCellStr(SheetEntry, "G5", "lost")
+			f.SetCellStr(SheetEntry, "H5", "died")
+		}, sev: Error, cell: "E5", msg: "is lost but has the value"},
+		{name: "status unknown word", mutate: func(f *excelize.File) { f.SetCellStr(SheetEntry, "G5", "dead") }, sev: Error, cell: "G5", msg: `Status "dead": must be empty, measured, lost or excluded`},
+		{name: "chunk count huge", mutate: func(f *excelize.File) { f.SetCellStr(SheetData, "B3", "1000000000000") }, fatal: "is not a whole number from 1 to"},
 		{name: "plan JSON edited", mutate: func(f *excelize.File) {
 			v, _ := f.GetCellValue(SheetData, "A4")
 			f.SetCellStr(SheetData, "A4", strings.Replace(v, `"seed":17`, `"seed":18`, 1))
@@ -249,10 +285,7 @@ func TestNotAWorkbook(t *testing.T) {
 // TestLibreOfficeRoundTrip re-saves a filled workbook in another
 // spreadsheet program and reads it back: the data must be identical.
 func TestLibreOfficeRoundTrip(t *testing.T) {
-	lo, err := exec.LookPath("libreoffice")
-	if err != nil {
-		t.Skip("libreoffice not installed (Debian package libreoffice-calc-nogui; .ci/run installs it): skipping the re-save check")
-	}
+	lo := needLibreOffice(t)
 	l := testLayout(t, false)
 	path, f := filled(t, l)
 	save(t, f, path)
@@ -295,6 +328,13 @@ func FuzzReadWorkbook(f *testing.F) {
 	}
 	valid, _ := os.ReadFile(path)
 	f.Add(valid)
+	// A non-ASCII plan, so that mutations reach multi-byte text.
+	upath := filepath.Join(dir, "unicode.xlsx")
+	if err := Write(upath, unicodeLayout(f, 2), meta, false); err != nil {
+		f.Fatal(err)
+	}
+	uvalid, _ := os.ReadFile(upath)
+	f.Add(uvalid)
 	f.Add([]byte("PK\x03\x04 not really a zip"))
 	f.Add([]byte{})
 	f.Fuzz(func(t *testing.T, b []byte) {
@@ -412,7 +452,7 @@ func TestEntryHygiene(t *testing.T) {
 		t.Fatal(err)
 	}
 	dvs, err := f.GetDataValidations(SheetEntry)
-	if err != nil || len(dvs) != 2 || dvs[0].Sqref != "E2:E10" || dvs[0].Type != "decimal" {
+	if err != nil || len(dvs) != 3 || dvs[0].Sqref != "E2:E10" || dvs[0].Type != "decimal" || dvs[2].Type != "list" || dvs[2].Sqref != "G2:G10" {
 		t.Errorf("validations %+v %v", dvs, err)
 	}
 	panes, err := f.GetPanes(SheetEntry)
@@ -434,10 +474,15 @@ func TestEntryHygiene(t *testing.T) {
 			sheets += b.String()
 		}
 	}
-	for _, want := range []string{"<sheetProtection", `orientation="landscape"`, `fitToWidth="1"`} {
+	// Printing: one page wide, A4, header and footer; a filter on the
+	// header row and no protection (a protected sheet cannot be sorted).
+	for _, want := range []string{`<autoFilter ref="$A$1:$I$10"`, `fitToPage="true"`, `paperSize="9"`, `fitToWidth="1"`, `fitToHeight="0"`, "&amp;P of &amp;N", "Plan " + l.Plan.Fingerprint()[:12], `customHeight="1"`} {
 		if !strings.Contains(sheets, want) {
 			t.Errorf("worksheets lack %s", want)
 		}
+	}
+	if strings.Contains(sheets, "<sheetProtection") {
+		t.Error("a sheet is protected: sorting would fail")
 	}
 	vis, _ := f.GetSheetVisible(SheetData)
 	if vis {
@@ -485,7 +530,7 @@ func TestBlindModesAndSpares(t *testing.T) {
 				}
 			}
 			head, _ := g.GetRows(SheetEntry)
-			if got := strings.Join(head[0], ","); got != "Unit,Litter,Position,Row,Column,Code,score,Notes" {
+			if got := strings.Join(head[0], ","); got != "Unit,Litter,Position,Row,Column,Code,score,Status,Reason,Notes" {
 				t.Errorf("Entry header %s", got)
 			}
 			study, _ := g.GetRows(SheetStudy)
@@ -516,5 +561,59 @@ func TestBlindModesAndSpares(t *testing.T) {
 				t.Errorf("spares read back %v", fl.Layout.Spares)
 			}
 		})
+	}
+}
+
+// TestMapAndStudySheets: the Map sheet shows each place's unit ID and
+// treatment in rows tall enough for both lines, with a legend; the Study
+// sheet wraps its long lines.
+func TestMapAndStudySheets(t *testing.T) {
+	l := testLayout(t, false)
+	path := filepath.Join(t.TempDir(), "m.xlsx")
+	if err := Write(path, l, Meta{Version: "test", Paper: PaperLetter}, false); err != nil {
+		t.Fatal(err)
+	}
+	f, err := excelize.OpenFile(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	rows, _ := f.GetRows(SheetMap)
+	var legend []string
+	for r, row := range rows {
+		if len(row) > 1 && row[0] == "Legend" {
+			for k := r; k < len(rows) && len(rows[k]) > 1 && rows[k][1] != ""; k++ {
+				legend = append(legend, rows[k][1])
+			}
+		}
+	}
+	places := 0
+	for r, row := range rows {
+		for _, v := range row {
+			if strings.Contains(v, "\n") {
+				places++
+				h, _ := f.GetRowHeight(SheetMap, r+1)
+				if h < 30 {
+					t.Errorf("Map row %d is %v pt high: the treatment under the ID is hidden", r+1, h)
+				}
+			}
+		}
+	}
+	if places != len(l.Units) {
+		t.Errorf("%d places on the Map sheet for %d units", places, len(l.Units))
+	}
+	if strings.Join(legend, " ") != "F0 F1 F2" {
+		t.Errorf("legend %q", legend)
+	}
+	ps, _ := f.GetPageLayout(SheetMap)
+	if ps.Size == nil || *ps.Size != 1 || ps.FitToWidth == nil || *ps.FitToWidth != 1 {
+		t.Errorf("Map page setup %+v: want letter (1), one page wide", ps)
+	}
+	st, _ := f.GetCellStyle(SheetStudy, "B4")
+	if s, _ := f.GetStyle(st); s == nil || s.Alignment == nil || !s.Alignment.WrapText {
+		t.Error("Study text does not wrap")
+	}
+	head, _ := f.GetCellValue(SheetStudy, "B4")
+	if head != "randomised complete block design, 3 benches" {
+		t.Errorf("Study design line %q", head)
 	}
 }

@@ -1,12 +1,12 @@
 package workbook
 
 import (
-	"encoding/json"
 	"fmt"
 	"io"
 	"strconv"
 	"strings"
 	"time"
+	"unicode/utf8"
 
 	"github.com/allotproject/allot/design"
 	"github.com/allotproject/allot/internal/atomicfile"
@@ -18,137 +18,9 @@ import (
 type Meta struct {
 	Version string    // allot version
 	Created time.Time // when the workbook was written
-}
-
-// columns describes the Entry sheet's columns for a plan.
-type columns struct {
-	block      bool
-	mainPlot   bool // a split plot's main plot, after the block (strata.go)
-	grid       bool // Row and Column after Position
-	factors    bool
-	order      bool
-	blind      bool
-	subsamples int // 0 without subsamples
-	responses  []design.Response
-}
-
-func layoutColumns(p design.Plan) columns {
-	return columns{block: p.Design == design.RCBD || p.Strata() && p.Blocks > 1, mainPlot: p.Design == design.SplitPlot, grid: p.Grid != nil, factors: len(p.Factors) > 1 && !p.Blind, order: p.Order, blind: p.Blind, subsamples: p.Subsamples, responses: p.Responses}
-}
-
-// rowsPer returns the number of Entry rows of a unit.
-func (c columns) rowsPer() int { return max(c.subsamples, 1) }
-
-// headers returns the Entry header row.
-func (c columns) headers(p design.Plan) []string {
-	h := []string{headUnit}
-	if c.block {
-		h = append(h, blockHeader(p))
-	}
-	if c.mainPlot {
-		h = append(h, mainPlotHeader(p))
-	}
-	h = append(h, headPosition)
-	if c.grid {
-		h = append(h, headRow, headColumn)
-	}
-	if c.blind {
-		h = append(h, headCode)
-	} else {
-		h = append(h, headTreatment)
-	}
-	if c.factors {
-		for _, f := range p.Factors {
-			h = append(h, f.Name)
-		}
-	}
-	if c.order {
-		h = append(h, headOrder)
-	}
-	if c.subsamples > 0 {
-		h = append(h, headSubsample)
-	}
-	for _, r := range c.responses {
-		h = append(h, r.Name)
-	}
-	return append(h, headNotes)
-}
-
-// designCount is the number of leading design columns.
-func (c columns) designCount(p design.Plan) int {
-	n := 3
-	if c.block {
-		n++
-	}
-	if c.mainPlot {
-		n++
-	}
-	if c.grid {
-		n += 2
-	}
-	if c.factors {
-		n += len(p.Factors)
-	}
-	if c.order {
-		n++
-	}
-	if c.subsamples > 0 {
-		n++
-	}
-	return n
-}
-
-func blockHeader(p design.Plan) string {
-	n := p.BlockName
-	if n == "" {
-		return "Block"
-	}
-	return strings.ToUpper(n[:1]) + n[1:]
-}
-
-// designCells returns the design cells of a unit's row (subsample sub,
-// 1-based, when the plan has subsamples), as written; label is the
-// treatment name or blind code.
-func designCells(c columns, u design.Unit, sub int, label string, tr []design.Treatment) []string {
-	row := []string{u.ID}
-	if c.block {
-		row = append(row, strconv.Itoa(u.Block))
-	}
-	if c.mainPlot {
-		row = append(row, strconv.Itoa(u.MainPlot))
-	}
-	row = append(row, strconv.Itoa(u.Position))
-	if c.grid {
-		row = append(row, strconv.Itoa(u.Row), strconv.Itoa(u.Col))
-	}
-	row = append(row, label)
-	if c.factors {
-		row = append(row, tr[u.Treatment].Levels...)
-	}
-	if c.order {
-		row = append(row, strconv.Itoa(u.Order))
-	}
-	if c.subsamples > 0 {
-		row = append(row, strconv.Itoa(sub))
-	}
-	return row
-}
-
-// numeric reports whether design column j is written as a number: Unit,
-// block and Position when they parse as integers, and the order and
-// subsample columns.
-func (c columns) numeric(j, nd int) bool {
-	if j < c.numericCount() {
-		return true
-	}
-	last := nd - 1
-	if c.subsamples > 0 && j == last {
-		return true
-	}
-	if c.subsamples > 0 {
-		last--
-	}
-	return c.order && j == last
+	// Paper is the page size the sheets are set up to print on: PaperA4
+	// (the default when empty) or PaperLetter.
+	Paper string
 }
 
 // Write writes the data-entry workbook for layout l to path. It refuses to
@@ -169,6 +41,13 @@ func Write(path string, l design.Layout, meta Meta, force bool) error {
 }
 
 func build(l design.Layout, meta Meta) (*excelize.File, error) {
+	pg, err := pageOf(meta.Paper)
+	if err != nil {
+		return nil, err
+	}
+	if err := checkText(l); err != nil {
+		return nil, err
+	}
 	f := excelize.NewFile()
 	if err := f.SetSheetName("Sheet1", SheetStudy); err != nil {
 		return nil, err
@@ -178,30 +57,156 @@ func build(l design.Layout, meta Meta) (*excelize.File, error) {
 			return nil, err
 		}
 	}
-	if err := writeStudy(f, l, meta); err != nil {
-		return nil, err
+	steps := []func() error{
+		// Hide the plan sheet first: SetSheetVisible reads every sheet in,
+		// which for the streamed Entry sheet would mean parsing it again.
+		func() error { return f.SetSheetVisible(SheetData, false, true) },
+		func() error {
+			idx, err := f.GetSheetIndex(SheetEntry)
+			f.SetActiveSheet(idx)
+			return err
+		},
+		func() error { return writeStudy(f, l, meta, pg) },
+		func() error { return writeEntry(f, l, meta, pg) },
+		func() error { return writeMap(f, l, meta, pg) },
+		func() error { return writeData(f, l, "") },
 	}
-	if err := writeEntry(f, l); err != nil {
-		return nil, err
+	for _, step := range steps {
+		if err := step(); err != nil {
+			f.Close()
+			return nil, fmt.Errorf("workbook: %w", err)
+		}
 	}
-	if err := writeMap(f, l); err != nil {
-		return nil, err
-	}
-	if err := writeData(f, l); err != nil {
-		return nil, err
-	}
-	if err := f.SetSheetVisible(SheetData, false, true); err != nil {
-		return nil, err
-	}
-	idx, _ := f.GetSheetIndex(SheetEntry)
-	f.SetActiveSheet(idx)
 	return f, nil
 }
 
-func writeStudy(f *excelize.File, l design.Layout, meta Meta) error {
+// checkText refuses names a sheet cannot hold: text that is not UTF-8, or
+// that has control characters other than tab and line break (XML 1.0 has
+// no way to write them).
+func checkText(l design.Layout) error {
 	p := l.Plan
-	bold, _ := f.NewStyle(&excelize.Style{Font: &excelize.Font{Bold: true}})
-	title, _ := f.NewStyle(&excelize.Style{Font: &excelize.Font{Bold: true, Size: 14}})
+	bad := func(s string) bool {
+		if !utf8.ValidString(s) {
+			return true
+		}
+		for _, r := range s {
+			if r < 0x20 && r != '\t' && r != '\n' || r == 0xFFFE || r == 0xFFFF {
+				return true
+			}
+		}
+		return false
+	}
+	check := func(what, s string) error {
+		if bad(s) {
+			return fmt.Errorf("workbook: %s %q is not valid text (not UTF-8, or a control character); correct it in the plan", what, s)
+		}
+		return nil
+	}
+	texts := [][2]string{{"the title", p.Title}, {"the block name", p.BlockName}, {"the control", p.Control}}
+	for _, f := range p.Factors {
+		texts = append(texts, [2]string{"factor", f.Name})
+		for _, lv := range f.Levels {
+			texts = append(texts, [2]string{"level", lv})
+		}
+	}
+	for _, r := range p.Responses {
+		texts = append(texts, [2]string{"response", r.Name})
+	}
+	for _, c := range l.Codes {
+		texts = append(texts, [2]string{"blind code", c})
+	}
+	for _, u := range p.Units {
+		texts = append(texts, [2]string{"block label", u.BlockLabel})
+	}
+	for _, u := range l.Units {
+		texts = append(texts, [2]string{"unit ID", u.ID})
+	}
+	for _, t := range texts {
+		if err := check(t[0], t[1]); err != nil {
+			return err
+		}
+	}
+	return nil
+}
+
+// sheetWriter collects the first error of a run of excelize calls, so that
+// every error is checked without an if after each cell.
+type sheetWriter struct {
+	f     *excelize.File
+	sheet string
+	err   error
+}
+
+func (w *sheetWriter) do(err error) {
+	if w.err == nil && err != nil {
+		w.err = fmt.Errorf("sheet %q: %w", w.sheet, err)
+	}
+}
+
+func (w *sheetWriter) str(col, row int, v string) { w.do(w.f.SetCellStr(w.sheet, cell(col, row), v)) }
+
+func (w *sheetWriter) style(c1, r1, c2, r2, style int) {
+	w.do(w.f.SetCellStyle(w.sheet, cell(c1, r1), cell(c2, r2), style))
+}
+
+func (w *sheetWriter) newStyle(s *excelize.Style) int {
+	id, err := w.f.NewStyle(s)
+	w.do(err)
+	return id
+}
+
+func writeStudy(f *excelize.File, l design.Layout, meta Meta, pg page) error {
+	p := l.Plan
+	w := &sheetWriter{f: f, sheet: SheetStudy}
+	wrap := &excelize.Alignment{WrapText: true, Vertical: "top"}
+	bold := w.newStyle(&excelize.Style{Font: &excelize.Font{Bold: true}, Alignment: wrap})
+	title := w.newStyle(&excelize.Style{Font: &excelize.Font{Bold: true, Size: 14}, Alignment: wrap})
+	body := w.newStyle(&excelize.Style{Alignment: wrap})
+	rows := studyRows(l, meta)
+	w.str(1, 1, "Data-entry workbook: "+p.Title)
+	w.style(1, 1, 1, 1, title)
+	w.do(f.MergeCell(SheetStudy, "A1", "B1"))
+	r := 3
+	for _, kv := range rows {
+		w.str(1, r, kv[0])
+		w.style(1, r, 1, r, bold)
+		w.str(2, r, kv[1])
+		w.style(2, r, 2, r, body)
+		r++
+	}
+	r++
+	w.str(1, r, "How to fill in")
+	w.style(1, r, 1, r, bold)
+	status := "Set Status to lost (no value could be taken) or excluded (a value exists but must not be analysed) and give the Reason; leave Status empty for a measured unit."
+	for _, line := range []string{
+		"Type each measurement into its unit's row on the Entry sheet, in the response column.",
+		"Leave a cell empty when a unit could not be measured, and say why in Notes.",
+		status,
+		"Type numbers only (no units, no \"n/a\", no dates); use a decimal point.",
+		"You may sort or filter the rows with the filter buttons of the header row: allot matches rows by unit ID.",
+		"Do not change the Unit, " + blockOrNot(p) + "Position, " + gridOrNot(p) + "or " + treatmentWord(p) + " cells: the sheet is not locked, but allot check compares every one of them with the plan stored in the workbook and reports each change.",
+		"Run `allot check` on the filled file before analysing it.",
+	} {
+		r++
+		w.str(1, r, "• "+line)
+		w.do(f.MergeCell(SheetStudy, cell(1, r), cell(2, r)))
+		w.style(1, r, 2, r, body)
+		// A merged cell does not grow with its text: give it the height
+		// of the lines the text needs at this width (about 95 characters).
+		w.do(f.SetRowHeight(SheetStudy, r, 15*float64(1+int(textWidth(line))/95)))
+	}
+	w.do(f.SetColWidth(SheetStudy, "A", "A", 18))
+	w.do(f.SetColWidth(SheetStudy, "B", "B", 72))
+	if w.err != nil {
+		return w.err
+	}
+	return setupPrint(f, SheetStudy, l, meta, pg, false)
+}
+
+// studyRows returns the Study sheet's description of the plan, one
+// heading and value a row.
+func studyRows(l design.Layout, meta Meta) [][2]string {
+	p := l.Plan
 	var levels []string
 	for _, fa := range p.Factors {
 		levels = append(levels, fmt.Sprintf("%s: %s", fa.Name, strings.Join(fa.Levels, ", ")))
@@ -216,7 +221,7 @@ func writeStudy(f *excelize.File, l design.Layout, meta Meta) error {
 	}
 	designName := p.DesignName()
 	if p.Design == design.RCBD {
-		designName = fmt.Sprintf("%s, %d %s", designName, p.Blocks, design.Plural(p.BlockName))
+		designName = designName + ", " + count(p.Blocks, blockName(p))
 	}
 	rows := [][2]string{
 		{"Title", p.Title},
@@ -242,34 +247,14 @@ func writeStudy(f *excelize.File, l design.Layout, meta Meta) error {
 	} else if p.Blind {
 		rows = append(rows, [2]string{"Blinding", "one code per treatment; the key file holds each code's treatment"})
 	}
-	if err := f.SetCellValue(SheetStudy, "A1", "Data-entry workbook: "+p.Title); err != nil {
-		return err
+	return rows
+}
+
+func blockName(p design.Plan) string {
+	if p.BlockName == "" {
+		return "block"
 	}
-	f.SetCellStyle(SheetStudy, "A1", "A1", title)
-	r := 3
-	for _, kv := range rows {
-		f.SetCellValue(SheetStudy, cell(1, r), kv[0])
-		f.SetCellStyle(SheetStudy, cell(1, r), cell(1, r), bold)
-		f.SetCellStr(SheetStudy, cell(2, r), kv[1])
-		r++
-	}
-	r++
-	f.SetCellValue(SheetStudy, cell(1, r), "How to fill in")
-	f.SetCellStyle(SheetStudy, cell(1, r), cell(1, r), bold)
-	for _, line := range []string{
-		"Type each measurement into its unit's row on the Entry sheet, in the response column.",
-		"Leave a cell empty when a unit could not be measured, and say why in Notes.",
-		"Type numbers only (no units, no \"n/a\"); use a decimal point.",
-		"You may sort or filter the rows: allot matches rows by unit ID.",
-		"Do not change the Unit, " + blockOrNot(p) + "Position, " + gridOrNot(p) + "or " + treatmentWord(p) + " cells.",
-		"Run `allot check` on the filled file before analysing it.",
-	} {
-		r++
-		f.SetCellStr(SheetStudy, cell(1, r), "• "+line)
-	}
-	f.SetColWidth(SheetStudy, "A", "A", 20)
-	f.SetColWidth(SheetStudy, "B", "B", 70)
-	return nil
+	return p.BlockName
 }
 
 // spareText lists the spare units block by block: units of the list that
@@ -316,12 +301,16 @@ func blockOrNot(p design.Plan) string {
 }
 
 func rangeText(r design.Response) string {
+	return rangeOf(r.Min, r.Max)
+}
+
+func rangeOf(min, max *float64) string {
 	lo, hi := "", ""
-	if r.Min != nil {
-		lo = strconv.FormatFloat(*r.Min, 'g', -1, 64)
+	if min != nil {
+		lo = strconv.FormatFloat(*min, 'g', -1, 64)
 	}
-	if r.Max != nil {
-		hi = strconv.FormatFloat(*r.Max, 'g', -1, 64)
+	if max != nil {
+		hi = strconv.FormatFloat(*max, 'g', -1, 64)
 	}
 	return lo + ".." + hi
 }
@@ -331,69 +320,83 @@ func cell(col, row int) string {
 	return c
 }
 
+// Entry row heights in points: a data row is tall enough to write a number
+// in by hand (about 8.5 mm), the header holds two lines.
+const (
+	entryRowHeight  = 24
+	entryHeadHeight = 32
+)
+
+// entryWidths returns the Entry columns' widths in character widths: each
+// design column as wide as its widest text, the response columns room for
+// a handwritten number, Reason and Notes room for a few words.
+func entryWidths(l design.Layout, c columns, heads []string) []float64 {
+	p := l.Plan
+	nd := c.designCount(p)
+	w := make([]float64, len(heads))
+	for i, h := range heads {
+		w[i] = min(textWidth(h)+3, 24)
+	}
+	tr := p.Treatments()
+	label := labeller(l)
+	for _, u := range l.Units {
+		for j, v := range designCells(c, u, 1, label(u), tr) {
+			w[j] = max(w[j], textWidth(v)+3)
+		}
+	}
+	for j := range w {
+		switch {
+		case j < nd:
+			w[j] = min(max(w[j], 7), 40)
+		case j < nd+len(c.responses):
+			w[j] = max(w[j], 12)
+		case heads[j] == headStatus:
+			w[j] = 11
+		case heads[j] == headReason:
+			w[j] = 22
+		default: // Notes
+			w[j] = 28
+		}
+	}
+	return w
+}
+
 // writeEntry writes the Entry sheet through excelize's stream writer, which
 // keeps memory flat for large layouts (a row at a time), then adds the
-// validation, print setup and protection.
-func writeEntry(f *excelize.File, l design.Layout) error {
+// validation, filter and print setup.
+//
+// The sheet is not protected: a protected sheet cannot be sorted in the
+// common spreadsheet programs even when protection allows sorting (they
+// refuse to move locked cells). Instead allot check compares every design
+// cell with the plan stored, under a checksum, on the hidden sheet.
+func writeEntry(f *excelize.File, l design.Layout, meta Meta, pg page) error {
 	p := l.Plan
 	c := layoutColumns(p)
 	heads := c.headers(p)
-	head, _ := f.NewStyle(&excelize.Style{Font: &excelize.Font{Bold: true}, Fill: excelize.Fill{Type: "pattern", Pattern: 1, Color: []string{"DDE7F0"}}, Border: []excelize.Border{{Type: "bottom", Color: "000000", Style: 1}}})
-	open, _ := f.NewStyle(&excelize.Style{Protection: &excelize.Protection{Locked: false}, Fill: excelize.Fill{Type: "pattern", Pattern: 1, Color: []string{"FFF8DC"}}})
-	// Validation, print setup and protection go on the sheet before the rows
-	// are streamed: the stream writer appends these parts as it found them.
-	nd := c.designCount(p)
-	last := len(l.Units)*c.rowsPer() + 1
-	for k, r := range p.Responses {
-		col := nd + 1 + k
-		dv := excelize.NewDataValidation(true)
-		dv.SetSqref(cell(col, 2) + ":" + cell(col, max(last, 2)))
-		// Unbounded sides get ±1E+300, written as formula text: excelize
-		// spells float bounds out in full, longer than a formula may be.
-		var lo, hi any = "-1E+300", "1E+300"
-		if r.Min != nil {
-			lo = *r.Min
-		}
-		if r.Max != nil {
-			hi = *r.Max
-		}
-		if err := dv.SetRange(lo, hi, excelize.DataValidationTypeDecimal, excelize.DataValidationOperatorBetween); err != nil {
-			return err
-		}
-		msg := "A number; leave empty if not measured."
-		if r.Min != nil || r.Max != nil {
-			msg = "A number in " + rangeText(r) + "; leave empty if not measured."
-		}
-		dv.SetInput(r.Name, msg)
-		dv.SetError(excelize.DataValidationErrorStyleStop, r.Name, "Not a number in the allowed range: "+msg)
-		if err := f.AddDataValidation(SheetEntry, dv); err != nil {
-			return err
-		}
+	w := &sheetWriter{f: f, sheet: SheetEntry}
+	grid := []excelize.Border{{Type: "left", Color: "808080", Style: 1}, {Type: "right", Color: "808080", Style: 1},
+		{Type: "top", Color: "808080", Style: 1}, {Type: "bottom", Color: "808080", Style: 1}}
+	head := w.newStyle(&excelize.Style{Font: &excelize.Font{Bold: true}, Fill: excelize.Fill{Type: "pattern", Pattern: 1, Color: []string{"DDE7F0"}},
+		Border: grid, Alignment: &excelize.Alignment{WrapText: true, Vertical: "center", Horizontal: "center"}})
+	text := w.newStyle(&excelize.Style{Border: grid, Alignment: &excelize.Alignment{Vertical: "center", Horizontal: "left", Indent: 1}})
+	num := w.newStyle(&excelize.Style{Border: grid, Alignment: &excelize.Alignment{Vertical: "center", Horizontal: "center"}})
+	fill := excelize.Fill{Type: "pattern", Pattern: 1, Color: []string{"FFF8DC"}}
+	open := w.newStyle(&excelize.Style{Border: grid, Fill: fill, Alignment: &excelize.Alignment{Vertical: "center", Horizontal: "right", Indent: 1}})
+	note := w.newStyle(&excelize.Style{Border: grid, Fill: fill, Alignment: &excelize.Alignment{Vertical: "center", Horizontal: "left", Indent: 1, ShrinkToFit: true}})
+	if w.err != nil {
+		return w.err
 	}
-	landscape := "landscape"
-	one := 1
-	zero := 0
-	f.SetPageLayout(SheetEntry, &excelize.PageLayoutOptions{Orientation: &landscape, FitToWidth: &one, FitToHeight: &zero})
-	f.SetDefinedName(&excelize.DefinedName{Name: "_xlnm.Print_Titles", RefersTo: "'" + SheetEntry + "'!$1:$1", Scope: SheetEntry})
-	if err := f.ProtectSheet(SheetEntry, &excelize.SheetProtectionOptions{
-		SelectLockedCells: true, SelectUnlockedCells: true, FormatColumns: true, FormatRows: true,
-		Sort: true, AutoFilter: true,
-	}); err != nil {
+	nd := c.designCount(p)
+	widths := entryWidths(l, c, heads)
+	if err := entrySetup(f, l, c, widths, meta, pg); err != nil {
 		return err
 	}
 	sw, err := f.NewStreamWriter(SheetEntry)
 	if err != nil {
 		return err
 	}
-	for i, h := range heads {
-		w := float64(len(h)) + 4
-		switch h {
-		case headTreatment:
-			w = 24
-		case headNotes:
-			w = 30
-		}
-		if err := sw.SetColWidth(i+1, i+1, max(w, 9)); err != nil {
+	for i, x := range widths {
+		if err := sw.SetColWidth(i+1, i+1, x); err != nil {
 			return err
 		}
 	}
@@ -404,29 +407,33 @@ func writeEntry(f *excelize.File, l design.Layout) error {
 	for i, h := range heads {
 		hrow[i] = excelize.Cell{StyleID: head, Value: h}
 	}
-	if err := sw.SetRow("A1", hrow); err != nil {
+	if err := sw.SetRow("A1", hrow, excelize.RowOpts{Height: entryHeadHeight}); err != nil {
 		return err
 	}
 	tr := p.Treatments()
-	label := labeler(l)
+	label := labeller(l)
 	row := 1
 	vals := make([]any, len(heads))
+	nr := nd + len(p.Responses)
 	for _, u := range l.Units {
 		for sub := 1; sub <= c.rowsPer(); sub++ {
 			row++
 			for j, v := range designCells(c, u, sub, label(u), tr) {
-				// Numbers where they look like numbers; treatment and level
-				// names are always text.
-				if n, err := strconv.Atoi(v); err == nil && c.numeric(j, nd) {
-					vals[j] = n
+				// Numbers where a spreadsheet keeps them exactly; IDs such
+				// as 007 and all names are text.
+				if n, ok := integerText(v); ok && c.numeric(j, nd) {
+					vals[j] = excelize.Cell{StyleID: num, Value: n}
 				} else {
-					vals[j] = v
+					vals[j] = excelize.Cell{StyleID: text, Value: v}
 				}
 			}
 			for j := nd; j < len(heads); j++ {
 				vals[j] = excelize.Cell{StyleID: open}
+				if j >= nr {
+					vals[j] = excelize.Cell{StyleID: note}
+				}
 			}
-			if err := sw.SetRow(cell(1, row), vals); err != nil {
+			if err := sw.SetRow(cell(1, row), vals, excelize.RowOpts{Height: entryRowHeight}); err != nil {
 				return err
 			}
 		}
@@ -434,147 +441,65 @@ func writeEntry(f *excelize.File, l design.Layout) error {
 	return sw.Flush()
 }
 
-// numericCount is the number of leading columns written as numbers when they
-// parse as integers: Unit, the block column and Position.
-func (c columns) numericCount() int {
-	n := 2
-	if c.block {
-		n++
-	}
-	if c.mainPlot {
-		n++
-	}
-	if c.grid {
-		n += 2
-	}
-	return n
-}
-
-func writeMap(f *excelize.File, l design.Layout) error {
+// entrySetup adds the Entry sheet's validation, filter and print setup.
+// They go on the sheet before the rows are streamed: the stream writer
+// appends these parts as it found them.
+func entrySetup(f *excelize.File, l design.Layout, c columns, widths []float64, meta Meta, pg page) error {
 	p := l.Plan
-	bold, _ := f.NewStyle(&excelize.Style{Font: &excelize.Font{Bold: true}})
-	wrap, _ := f.NewStyle(&excelize.Style{Alignment: &excelize.Alignment{WrapText: true, Vertical: "top"}, Border: []excelize.Border{
-		{Type: "left", Color: "808080", Style: 1}, {Type: "right", Color: "808080", Style: 1},
-		{Type: "top", Color: "808080", Style: 1}, {Type: "bottom", Color: "808080", Style: 1}}})
-	label := labeler(l)
-	text := func(u design.Unit) string {
-		s := u.ID + "\n" + label(u)
-		if u.Order > 0 {
-			s += fmt.Sprintf("\n#%d", u.Order)
-		}
-		return s
-	}
-	if g := p.Grid; g != nil {
-		// Each block as its grid, blocks one below the other.
-		f.SetCellStr(SheetMap, "A1", fmt.Sprintf("Map: each %s as its %d × %d grid (%s numbering); each place shows unit ID and %s", p.BlockName, g.Rows, g.Cols, g.Numbering, strings.ToLower(treatmentWord(p))))
-		f.SetCellStyle(SheetMap, "A1", "A1", bold)
-		top := 3
-		byBlock := make([][]design.Unit, p.Blocks+1)
-		for _, u := range l.Units {
-			byBlock[u.Block] = append(byBlock[u.Block], u)
-		}
-		labels := p.BlockLabels()
-		for b := 1; b <= p.Blocks; b++ {
-			f.SetCellStr(SheetMap, cell(1, top), fmt.Sprintf("%s %s", blockHeader(p), labels[b-1]))
-			f.SetCellStyle(SheetMap, cell(1, top), cell(1, top), bold)
-			for c := 1; c <= g.Cols; c++ {
-				f.SetCellStr(SheetMap, cell(c+1, top), fmt.Sprintf("col %d", c))
-			}
-			for r := 1; r <= g.Rows; r++ {
-				f.SetCellStr(SheetMap, cell(1, top+r), fmt.Sprintf("row %d", r))
-			}
-			for _, u := range byBlock[b] {
-				f.SetCellStr(SheetMap, cell(u.Col+1, top+u.Row), text(u))
-			}
-			f.SetCellStyle(SheetMap, cell(2, top+1), cell(g.Cols+1, top+g.Rows), wrap)
-			top += g.Rows + 2
-		}
-		f.SetColWidth(SheetMap, "A", "A", 12)
-		return nil
-	}
-	f.SetCellStr(SheetMap, "A1", "Map: each row is a "+p.BlockName+", positions left to right; each cell shows unit ID and "+strings.ToLower(treatmentWord(p)))
-	f.SetCellStyle(SheetMap, "A1", "A1", bold)
-	width := p.MaxBlockSize()
-	for i := 1; i <= width; i++ {
-		f.SetCellInt(SheetMap, cell(i+1, 3), int64(i))
-	}
-	f.SetCellStyle(SheetMap, cell(2, 3), cell(width+1, 3), bold)
-	labels := p.BlockLabels()
-	headed := map[int]bool{}
-	for _, u := range l.Units {
-		row := u.Block + 3
-		if !headed[row] {
-			f.SetCellStr(SheetMap, cell(1, row), fmt.Sprintf("%s %s", blockHeader(p), labels[u.Block-1]))
-			headed[row] = true
-		}
-		f.SetCellStr(SheetMap, cell(u.Position+1, row), text(u))
-	}
-	if width > 0 {
-		f.SetCellStyle(SheetMap, cell(2, 4), cell(width+1, p.Blocks+3), wrap)
-	}
-	f.SetColWidth(SheetMap, "A", "A", 12)
-	return outlineMainPlots(f, l) // split plots (strata.go)
-}
-
-func writeData(f *excelize.File, l design.Layout) error {
-	label := labeler(l)
-	st := stored{Plan: l.Plan.Canonical(), Spares: l.Spares}
-	units := l.Units
-	if l.Plan.Blind {
-		// Keep the seed and the meaning of the codes out of the workbook:
-		// the key file has them.
-		st.Plan = l.Plan.Sealed().Canonical()
-		units = make([]design.Unit, len(l.Units))
-		for i, u := range l.Units {
-			u.Treatment = -1
-			units[i] = u
-			st.Labels = append(st.Labels, label(l.Units[i]))
-		}
-	}
-	ub, err := json.Marshal(units)
-	if err != nil {
-		return err
-	}
-	st.Units = ub
-	doc, err := json.Marshal(st)
-	if err != nil {
-		return err
-	}
-	s := string(doc)
-	var chunks []string
-	for len(s) > chunkSize {
-		chunks = append(chunks, s[:chunkSize])
-		s = s[chunkSize:]
-	}
-	chunks = append(chunks, s)
-	f.SetCellStr(SheetData, "A1", "plan fingerprint")
-	f.SetCellStr(SheetData, "B1", l.Plan.Fingerprint())
-	f.SetCellStr(SheetData, "A2", "document sha256")
-	f.SetCellStr(SheetData, "B2", digest(doc))
-	f.SetCellStr(SheetData, "A3", "chunks")
-	f.SetCellInt(SheetData, "B3", int64(len(chunks)))
-	for i, c := range chunks {
-		if err := f.SetCellStr(SheetData, cell(1, 4+i), c); err != nil {
+	nd := c.designCount(p)
+	last := max(len(l.Units)*c.rowsPer()+1, 2)
+	for k, r := range p.Responses {
+		if err := addRangeValidation(f, r, nd+1+k, last); err != nil {
 			return err
 		}
 	}
-	return nil
+	if sc := c.statusCol(p); sc >= 0 {
+		dv := excelize.NewDataValidation(true)
+		dv.SetSqref(cell(sc+1, 2) + ":" + cell(sc+1, last))
+		if err := dv.SetDropList([]string{StatusMeasured, StatusLost, StatusExcluded}); err != nil {
+			return err
+		}
+		dv.SetInput(headStatus, "Empty or measured: a value was taken. lost: none could be. excluded: a value exists but must not be analysed. Give the Reason for lost and excluded.")
+		dv.SetError(excelize.DataValidationErrorStyleStop, headStatus, "Status is measured, lost or excluded (or empty).")
+		if err := f.AddDataValidation(SheetEntry, dv); err != nil {
+			return err
+		}
+	}
+	total := 0.0
+	for _, x := range widths {
+		total += x
+	}
+	if err := f.SetDefinedName(&excelize.DefinedName{Name: "_xlnm.Print_Titles", RefersTo: "'" + SheetEntry + "'!$1:$1", Scope: SheetEntry}); err != nil {
+		return err
+	}
+	if err := f.AutoFilter(SheetEntry, "A1:"+cell(len(widths), last), nil); err != nil {
+		return err
+	}
+	return setupPrint(f, SheetEntry, l, meta, pg, total > pg.portrait)
 }
 
-// labeler returns l.Label, looked up once per treatment (Label lists the
-// plan's treatments on every call).
-func labeler(l design.Layout) func(design.Unit) string {
-	byTreatment := map[int]string{}
-	return func(u design.Unit) string {
-		if u.Code != "" || u.Treatment < 0 {
-			// Per-unit codes and sealed units: nothing to share.
-			return l.Label(u)
-		}
-		s, ok := byTreatment[u.Treatment]
-		if !ok {
-			s = l.Label(u)
-			byTreatment[u.Treatment] = s
-		}
-		return s
+// addRangeValidation lets column col (1-based) of rows 2..last take only a
+// number in the response's range.
+func addRangeValidation(f *excelize.File, r design.Response, col, last int) error {
+	dv := excelize.NewDataValidation(true)
+	dv.SetSqref(cell(col, 2) + ":" + cell(col, last))
+	// Unbounded sides get ±1E+300, written as formula text: excelize
+	// spells float bounds out in full, longer than a formula may be.
+	var lo, hi any = "-1E+300", "1E+300"
+	if r.Min != nil {
+		lo = *r.Min
 	}
+	if r.Max != nil {
+		hi = *r.Max
+	}
+	if err := dv.SetRange(lo, hi, excelize.DataValidationTypeDecimal, excelize.DataValidationOperatorBetween); err != nil {
+		return err
+	}
+	msg := "A number; leave empty if not measured."
+	if r.Min != nil || r.Max != nil {
+		msg = "A number in " + rangeText(r) + "; leave empty if not measured."
+	}
+	dv.SetInput(r.Name, msg)
+	dv.SetError(excelize.DataValidationErrorStyleStop, r.Name, "Not a number in the allowed range: "+msg)
+	return f.AddDataValidation(SheetEntry, dv)
 }
