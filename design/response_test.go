@@ -43,3 +43,14 @@ func TestParseResponseKinds(t *testing.T) {
 		})
 	}
 }
+
+func TestTrialsColumnBecomesAResponse(t *testing.T) {
+	seed := SeedText(3)
+	p, err := Spec{Factor: []string{"diet=a,b"}, Reps: "4", Seed: &seed, Response: []string{"alive:proportion/of=housed"}}.Resolve(nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(p.Responses) != 2 || p.Responses[1].Name != "housed" || p.Responses[1].Kind != KindCount || *p.Responses[1].Min != 1 {
+		t.Fatalf("responses %+v", p.Responses)
+	}
+}

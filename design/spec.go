@@ -182,6 +182,24 @@ func ParseFactorOrCount(s string) (Factor, error) {
 	return f, nil
 }
 
+// withTrialsColumns adds, for each proportion counted out of a number per
+// unit (of=COLUMN), that column as a count response of its own (at least 1)
+// unless it is declared already, so that the workbook has a cell for it.
+func withTrialsColumns(rs []Response) []Response {
+	have := map[string]bool{}
+	for _, r := range rs {
+		have[r.Name] = true
+	}
+	for _, r := range rs {
+		if r.Kind == KindProportion && r.TrialsColumn != "" && !have[r.TrialsColumn] {
+			one := 1.0
+			rs = append(rs, Response{Name: r.TrialsColumn, Kind: KindCount, Min: &one})
+			have[r.TrialsColumn] = true
+		}
+	}
+	return rs
+}
+
 // ParseResponse parses a response declaration:
 //
 //	NAME                      a continuous measurement
@@ -637,6 +655,7 @@ func (s Spec) basePlan() (Plan, error) {
 		}
 		p.Responses = append(p.Responses, resp)
 	}
+	p.Responses = withTrialsColumns(p.Responses)
 	// Validate the parts that do not depend on replication and blocks
 	// first; Validate checks the number of treatments before building them.
 	probe := p

@@ -3,6 +3,7 @@ package workbook
 import (
 	"errors"
 	"fmt"
+	"math"
 	"strconv"
 	"strings"
 
@@ -423,11 +424,30 @@ func parseResponse(ref, raw string, info cellInfo, r design.Response, opt ReadOp
 	if info.formula != "" {
 		warn = fmt.Sprintf("holds the formula =%s; its saved result %s was read: check that it is the measurement, or type the value itself", info.formula, text)
 	}
+	if r.Whole() && x != math.Trunc(x) {
+		return v, fmt.Sprintf("%s is not a whole number: %s is recorded as a %s; correct the cell", text, r.Name, kindWord(r)), Error
+	}
 	if r.Min != nil && x < *r.Min || r.Max != nil && x > *r.Max {
 		return v, fmt.Sprintf("%s is outside the declared range %s for %s; correct it, or if the value is real, check with --range %s=MIN..MAX (and record the change in the plan's amendments)", text, rangeText(r), r.Name, r.Name), Error
 	}
 	v.Text, v.Missing = text, false
 	return v, warn, Warning
+}
+
+// kindWord names a response kind for messages.
+func kindWord(r design.Response) string {
+	switch r.Kind {
+	case design.KindCount:
+		return "count"
+	case design.KindProportion:
+		if r.Trials > 0 {
+			return fmt.Sprintf("number of successes out of %d", r.Trials)
+		}
+		return "number of successes out of " + r.TrialsColumn
+	case design.KindScore:
+		return "score"
+	}
+	return "measurement"
 }
 
 // notNumber is the message for a response text the grammar refused.

@@ -492,12 +492,24 @@ func addRangeValidation(f *excelize.File, r design.Response, col, last int) erro
 	if r.Max != nil {
 		hi = *r.Max
 	}
-	if err := dv.SetRange(lo, hi, excelize.DataValidationTypeDecimal, excelize.DataValidationOperatorBetween); err != nil {
+	typ, what := excelize.DataValidationTypeDecimal, "A number"
+	if r.Whole() {
+		// Counts, successes out of trials and scores are whole numbers
+		// (spreadsheets bound whole-number validation to 32 bits).
+		typ, what = excelize.DataValidationTypeWhole, "A whole number"
+		if r.Max == nil {
+			hi = 2147483647
+		}
+		if r.Min == nil {
+			lo = -2147483648
+		}
+	}
+	if err := dv.SetRange(lo, hi, typ, excelize.DataValidationOperatorBetween); err != nil {
 		return err
 	}
-	msg := "A number; leave empty if not measured."
+	msg := what + "; leave empty if not measured."
 	if r.Min != nil || r.Max != nil {
-		msg = "A number in " + rangeText(r) + "; leave empty if not measured."
+		msg = what + " in " + rangeText(r) + "; leave empty if not measured."
 	}
 	dv.SetInput(r.Name, msg)
 	dv.SetError(excelize.DataValidationErrorStyleStop, r.Name, "Not a number in the allowed range: "+msg)
