@@ -66,6 +66,16 @@ type Response struct {
 	Kind         string `json:"kind,omitempty"`
 	Trials       int    `json:"trials,omitempty"`
 	TrialsColumn string `json:"trials_column,omitempty"`
+	// Covariate marks a baseline measurement taken before treatment (start
+	// weight, seedling height), recorded and checked like a response and
+	// adjusted for in the analysis (analysis of covariance).
+	Covariate bool `json:"covariate,omitempty"`
+	// Of and Time mark one time of a response measured repeatedly on the
+	// same units: the column "Of@Time" (height@d7). TimeValue is the time as
+	// a number when the times are numbers (days), for slopes and areas.
+	Of        string   `json:"of,omitempty"`
+	Time      string   `json:"time,omitempty"`
+	TimeValue *float64 `json:"time_value,omitempty"`
 }
 
 // Response kinds.

@@ -1,6 +1,9 @@
 package design
 
-import "testing"
+import (
+	"strings"
+	"testing"
+)
 
 func TestParseResponseKinds(t *testing.T) {
 	f := func(v float64) *float64 { return &v }
@@ -52,5 +55,38 @@ func TestTrialsColumnBecomesAResponse(t *testing.T) {
 	}
 	if len(p.Responses) != 2 || p.Responses[1].Name != "housed" || p.Responses[1].Kind != KindCount || *p.Responses[1].Min != 1 {
 		t.Fatalf("responses %+v", p.Responses)
+	}
+}
+
+func TestCovariatesAndTimes(t *testing.T) {
+	seed := SeedText(3)
+	p, err := Spec{Factor: []string{"diet=a,b"}, Reps: "3", Seed: &seed, Response: []string{"weight_g:0..80"},
+		Covariate: []string{"start_g:10..40"}, Times: "0,7,14"}.Resolve(nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	var names []string
+	for _, r := range p.Responses {
+		names = append(names, r.Name)
+	}
+	if got := strings.Join(names, ","); got != "start_g,weight_g@0,weight_g@7,weight_g@14" {
+		t.Fatalf("responses %s", got)
+	}
+	if !p.Responses[0].Covariate || p.Responses[2].Of != "weight_g" || p.Responses[2].Time != "7" || *p.Responses[2].TimeValue != 7 {
+		t.Fatalf("roles %+v", p.Responses)
+	}
+	for _, bad := range []string{"0,0", "d1", "a@b,c", ""} {
+		_, err := Spec{Factor: []string{"diet=a,b"}, Reps: "3", Seed: &seed, Response: []string{"w"}, Times: bad + ",x"}.Resolve(nil)
+		if bad == "d1" {
+			continue // "d1,x": two label times, valid
+		}
+		if err == nil {
+			t.Errorf("--times %q accepted", bad+",x")
+		}
+	}
+	// Label times carry no numbers.
+	p, _ = Spec{Factor: []string{"diet=a,b"}, Reps: "3", Seed: &seed, Response: []string{"w"}, Times: "wk1,wk2"}.Resolve(nil)
+	if p.Responses[0].TimeValue != nil {
+		t.Error("label times got numbers")
 	}
 }

@@ -29,9 +29,13 @@ import (
 //	response = ["fresh_g:0..800"]
 //	seed = 20261201
 type Spec struct {
-	Title     string    `toml:"title"`
-	Design    string    `toml:"design"`
-	Factor    []string  `toml:"factor"` // NAME=L1,L2,...
+	Title  string   `toml:"title"`
+	Design string   `toml:"design"`
+	Factor []string `toml:"factor"` // NAME=L1,L2,...
+	// Covariate declares baseline measurements (NAME[:MIN..MAX]); Times
+	// the times a response is measured at (t1,t2,...).
+	Covariate []string  `toml:"covariate"`
+	Times     string    `toml:"times"`
 	Control   string    `toml:"control"`
 	Reps      string    `toml:"reps"` // R, or NAME=R,...,default=R
 	Blocks    int       `toml:"blocks"`
@@ -180,6 +184,66 @@ func ParseFactorOrCount(s string) (Factor, error) {
 		return Factor{}, errf("factor", "%s: factor %q needs at least 2 levels", s, f.Name)
 	}
 	return f, nil
+}
+
+// withCovariatesAndTimes puts the baseline covariates (--covariate, each a
+// response declaration) first and, with --times, replaces each response by
+// one column per time (NAME@TIME), in time order. Times that all parse as
+// numbers carry TimeValue.
+func withCovariatesAndTimes(rs []Response, covs []string, times string) ([]Response, error) {
+	var out []Response
+	for _, c := range covs {
+		r, err := ParseResponse(c)
+		if err != nil {
+			var de *Error
+			if errors.As(err, &de) {
+				return nil, errf("covariate", "--covariate %s: %s", c, de.Msg)
+			}
+			return nil, err
+		}
+		r.Covariate = true
+		out = append(out, r)
+	}
+	if strings.TrimSpace(times) == "" {
+		return append(out, rs...), nil
+	}
+	var ts []string
+	seen := map[string]bool{}
+	for _, t := range strings.Split(times, ",") {
+		t = strings.TrimSpace(t)
+		if t == "" || seen[t] || strings.Contains(t, "@") {
+			return nil, errf("times", "--times %s: give distinct times, for example d0,d7,d14 or 0,7,14 (no @)", times)
+		}
+		seen[t] = true
+		ts = append(ts, t)
+	}
+	if len(ts) < 2 || len(ts) > 100 {
+		return nil, errf("times", "--times %s: give 2 to 100 times", times)
+	}
+	vals := make([]*float64, len(ts))
+	numeric := true
+	for i, t := range ts {
+		v, err := strconv.ParseFloat(t, 64)
+		if err != nil || math.IsNaN(v) || math.IsInf(v, 0) || i > 0 && vals[i-1] != nil && v <= *vals[i-1] {
+			numeric = false
+			break
+		}
+		vals[i] = &v
+	}
+	if len(rs) == 0 {
+		return nil, errf("times", "--times needs the response measured at each time (--response NAME)")
+	}
+	for _, r := range rs {
+		for i, t := range ts {
+			x := r
+			x.Name, x.Of, x.Time = r.Name+"@"+t, r.Name, t
+			if numeric {
+				x.TimeValue = vals[i]
+			}
+			out = append(out, x)
+		}
+	}
+	return out, nil
 }
 
 // withTrialsColumns adds, for each proportion counted out of a number per
@@ -656,6 +720,11 @@ func (s Spec) basePlan() (Plan, error) {
 		p.Responses = append(p.Responses, resp)
 	}
 	p.Responses = withTrialsColumns(p.Responses)
+	rs, err := withCovariatesAndTimes(p.Responses, s.Covariate, s.Times)
+	if err != nil {
+		return Plan{}, err
+	}
+	p.Responses = rs
 	// Validate the parts that do not depend on replication and blocks
 	// first; Validate checks the number of treatments before building them.
 	probe := p

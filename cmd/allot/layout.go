@@ -140,7 +140,9 @@ file (keys are these flag names, with _ for -); flags override it.` + "\n" + exi
 	f.StringVar(&o.spec.Reps, "reps", "", "replication `R` (per block for rcbd), or TREATMENT=R,...,default=R")
 	f.IntVar(&o.spec.Blocks, "blocks", 0, "number of blocks `B` (implies --design rcbd)")
 	f.StringVar(&o.spec.BlockName, "block-name", "", "what a block is called: `NAME` such as bench, litter, day, rack (default block)")
-	f.StringArrayVar(&o.spec.Response, "response", nil, "a response to record, `NAME[:MIN..MAX]`; repeat for several")
+	f.StringArrayVar(&o.spec.Response, "response", nil, "a response to record, `NAME[:MIN..MAX]` (or NAME:count, NAME:proportion/of=N, NAME:score/MIN..MAX); repeat for several")
+	f.StringArrayVar(&o.spec.Covariate, "covariate", nil, "a baseline measurement taken before treatment, `NAME[:MIN..MAX]` (start weight), recorded before the responses and adjusted for by allot analyze; repeatable")
+	f.StringVar(&o.spec.Times, "times", "", "measure each response at these times, `T1,T2,...` (days 0,7,14 or labels); one column per response and time")
 	f.StringVar(&o.seed, "seed", "", "random seed, an unsigned 64-bit `N`; without it one is drawn and printed")
 	f.StringVar(&o.spec.Units, "units", "", "unit list `FILE.csv` with a header row")
 	f.StringVar(&o.spec.IDColumn, "id-column", "", "unit-list column holding the unit `ID` (default id)")
@@ -205,6 +207,10 @@ func (o *layoutOptions) resolveSpec(c *cobra.Command) error {
 		if changed("response") {
 			sp.Response = flags.Response
 		}
+		if changed("covariate") {
+			sp.Covariate = flags.Covariate
+		}
+		set("times", &sp.Times, flags.Times)
 		if changed("blocks") {
 			sp.Blocks = flags.Blocks
 		}
@@ -282,7 +288,7 @@ func planError(err error) error {
 	var de *design.Error
 	if errors.As(err, &de) {
 		flag := map[string]string{"factor": "factor", "control": "control", "reps": "reps", "blocks": "blocks",
-			"block_name": "block-name", "response": "response", "design": "design", "units": "units", "grid": "grid", "seed": "seed", "subsamples": "subsamples",
+			"block_name": "block-name", "response": "response", "covariate": "covariate", "times": "times", "design": "design", "units": "units", "grid": "grid", "seed": "seed", "subsamples": "subsamples",
 			"per_block": "per-block", "expect_n": "expect-n", "blind": "blind", "title": "title"}[de.Field]
 		if flag == "" {
 			flag = strings.ReplaceAll(de.Field, "_", "-")

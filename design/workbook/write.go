@@ -211,13 +211,25 @@ func studyRows(l design.Layout, meta Meta) [][2]string {
 	for _, fa := range p.Factors {
 		levels = append(levels, fmt.Sprintf("%s: %s", fa.Name, strings.Join(fa.Levels, ", ")))
 	}
-	var resp []string
+	var resp, covs, times []string
+	seenTime := map[string]bool{}
 	for _, r := range p.Responses {
 		s := r.Name
 		if r.Min != nil || r.Max != nil {
 			s += " (" + rangeText(r) + ")"
 		}
-		resp = append(resp, s)
+		switch {
+		case r.Covariate:
+			covs = append(covs, s)
+		case r.Of != "":
+			if !seenTime[r.Time] {
+				seenTime[r.Time] = true
+				times = append(times, r.Time)
+			}
+			resp = append(resp, s)
+		default:
+			resp = append(resp, s)
+		}
 	}
 	designName := p.DesignName()
 	if p.Design == design.RCBD {
@@ -238,6 +250,12 @@ func studyRows(l design.Layout, meta Meta) [][2]string {
 	}
 	if p.Control != "" {
 		rows = append(rows[:4], append([][2]string{{"Control", p.Control}}, rows[4:]...)...)
+	}
+	if len(covs) > 0 {
+		rows = append(rows, [2]string{"Baseline (before treatment)", strings.Join(covs, "; ") + ": measure before the treatments start; the analysis adjusts for it"})
+	}
+	if len(times) > 0 {
+		rows = append(rows, [2]string{"Times", strings.Join(times, ", ") + ": each response has a column per time (NAME@TIME); write the date of each time here"})
 	}
 	if len(l.Spares) > 0 {
 		rows = append(rows, [2]string{"Spare units", spareText(l)})
