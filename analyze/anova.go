@@ -4,9 +4,10 @@ import (
 	"errors"
 	"fmt"
 	"math"
+	"math/big"
 	"strings"
 
-	"gonum.org/v1/gonum/stat/distuv"
+	"github.com/allotproject/allot/prob"
 )
 
 // Options controls a fit.
@@ -39,6 +40,14 @@ type Term struct {
 	Block   bool     `json:"block,omitempty"`
 	// BlockInteraction marks a block × treatment term.
 	BlockInteraction bool `json:"block_interaction,omitempty"`
+	// SSZero is set when the term's SS is exactly zero (decided in exact
+	// arithmetic, see exact.go), not merely small.
+	SSZero bool `json:"ss_exactly_zero,omitempty"`
+	// ErrorTerm names the mean square the F divides by: "residual", or
+	// the block × treatment term with --blocks random.
+	ErrorTerm string `json:"error_term"`
+	// ErrorDF is the df of that error (the residual df unless stated).
+	ErrorDF int `json:"error_df"`
 }
 
 // Residual is the error line of the table.
@@ -68,6 +77,18 @@ type Table struct {
 	Fitted        []float64 `json:"-"`
 	// Leverage holds the diagonal of the hat matrix, h_ii.
 	Leverage []float64 `json:"-"`
+	// ExactFit is set when the residual SS is exactly zero: every
+	// observation equals its fitted value, and no F can be formed.
+	ExactFit bool `json:"exact_fit,omitempty"`
+	// ZeroRule says how zero sums of squares were decided: "exact"
+	// (rational arithmetic from the decimal texts), "bound" (below 1e-20 of
+	// the total SS) or "" (no SS was close to zero).
+	ZeroRule string `json:"zero_rule,omitempty"`
+	// SSExp10 is the power of ten the SS and MS columns are in units of
+	// (0 normally; 2k when the data were scaled by 10^−k to avoid
+	// underflow or overflow).
+	SSExp10 int `json:"ss_exponent10,omitempty"`
+	scale   float64
 	// est holds what least-squares means need: coefficients, their
 	// unscaled covariance and the coding of each factor's main effect.
 	est   *estimates
@@ -76,14 +97,19 @@ type Table struct {
 
 // model is the coded design matrix of a fit.
 type model struct {
-	n      int
-	terms  []modelTerm
-	shift  float64
-	y      []float64
-	levels [][]string // per factor
-	index  [][]int    // per factor: level of each observation
-	blockL []string
-	blockI []int
+	n     int
+	terms []modelTerm
+	shift float64
+	// shiftRat is the exact shift; scale and exp10 the scaling of y
+	// (scale = 10^exp10, 1 when none; see rescale).
+	shiftRat *big.Rat
+	scale    float64
+	exp10    int
+	y        []float64
+	levels   [][]string // per factor
+	index    [][]int    // per factor: level of each observation
+	blockL   []string
+	blockI   []int
 }
 
 type modelTerm struct {
@@ -122,7 +148,7 @@ func buildModel(d Data) (*model, error) {
 		return nil, fmt.Errorf("response %q: %w", d.Response, err)
 	}
 	sh, _ := shift.Float64()
-	m := &model{n: n, y: y, shift: sh}
+	m := &model{n: n, y: y, shift: sh, shiftRat: shift, scale: 1}
 	if d.Block != nil {
 		if len(d.Block.Values) != n {
 			return nil, fmt.Errorf("block column %q has %d values for %d observations", d.Block.Name, len(d.Block.Values), n)
@@ -134,15 +160,8 @@ func buildModel(d Data) (*model, error) {
 		if len(lv) < 2 {
 			return nil, fmt.Errorf("block column %q has only one block in the data: analyse without blocks", d.Block.Name)
 		}
-		size := make([]int, len(lv))
-		for _, b := range idx {
-			size[b]++
-		}
-		for b, n := range size {
-			if n < 2 {
-				return nil, fmt.Errorf("%s %s has a single unit: a block must hold at least two units to compare treatments within it; check the %s column", d.Block.Name, lv[b], d.Block.Name)
-			}
-		}
+		// A block with a single unit is fitted as the simulation's
+		// engine fits it: its own effect absorbs the unit (Run notes it).
 		m.blockL, m.blockI = lv, idx
 		m.terms = append(m.terms, modelTerm{name: d.Block.Name, block: true, cols: contrasts(idx, len(lv))})
 	}
@@ -289,6 +308,11 @@ func (m *model) contains(a, b int) bool {
 var ErrEmptyCell = errors.New("analyze: empty cell")
 
 // Fit fits the full model to d and returns its ANOVA table.
+//
+// Sums of squares that are zero in exact arithmetic are reported as exactly
+// zero (see exact.go): a term with SS exactly 0 has F = 0 and p = 1, and when
+// the residual SS is exactly zero every F is undefined (NaN, with
+// Table.ExactFit set) instead of a ratio of rounding noise.
 func Fit(d Data, opt Options) (*Table, error) {
 	if opt.SSType == 0 {
 		opt.SSType = 3
@@ -307,6 +331,7 @@ func Fit(d Data, opt Options) (*Table, error) {
 	if err != nil {
 		return nil, err
 	}
+	m.rescale(d.Values)
 	all := make([]int, len(m.terms))
 	for i := range all {
 		all[i] = i
@@ -317,33 +342,33 @@ func Fit(d Data, opt Options) (*Table, error) {
 		p += len(t.cols)
 	}
 	if full.rank < p {
-		var bad []string
-		for k, r := range ranges {
-			if full.dependent(r[0], r[1]) {
-				bad = append(bad, m.terms[k].name)
-			}
-		}
-		return nil, fmt.Errorf("%w: some combinations of levels have no observations, so these terms cannot be estimated: %s", ErrEmptyCell, strings.Join(bad, ", "))
+		return nil, m.emptyCellError(full, ranges)
 	}
 	n := m.n
 	resDF := n - p
 	if resDF < 1 {
 		return nil, fmt.Errorf("response %q: %d observations for %d parameters leave no residual degrees of freedom; at least 2 observations are needed in some group", d.Response, n, p)
 	}
-	t := &Table{Response: d.Response, SSType: opt.SSType, N: n, Alpha: opt.Alpha}
+	t := &Table{Response: d.Response, SSType: opt.SSType, N: n, Alpha: opt.Alpha, SSExp10: 2 * m.exp10, scale: m.scale}
 	t.Residual.DF = resDF
 	t.Residual.SS = full.ss(p, n)
-	t.Residual.MS = t.Residual.SS / float64(resDF)
 	t.TotalDF = n - 1
 	t.TotalSS = full.ss(1, n)
+	zj := newZeroJudge(m, d.Values, t.TotalSS)
+	if zj.residualZero(all, t.Residual.SS) {
+		t.Residual.SS = 0
+		t.ExactFit = true
+	}
+	t.Residual.MS = t.Residual.SS / float64(resDF)
 
 	for k, term := range m.terms {
 		var ss float64
+		order := all[:k+1]
 		switch opt.SSType {
 		case 1:
 			ss = full.ss(ranges[k][0], ranges[k][1])
 		case 2, 3:
-			var order []int
+			order = nil
 			for j := range m.terms {
 				if j == k || opt.SSType == 2 && m.contains(j, k) {
 					continue
@@ -355,35 +380,66 @@ func Fit(d Data, opt Options) (*Table, error) {
 			last := r[len(r)-1]
 			ss = f.ss(last[0], last[1])
 		}
+		zero := zj.termZero(order, ss)
+		if zero {
+			ss = 0
+		}
 		df := len(term.cols)
-		row := Term{Source: term.name, DF: df, SS: ss, MS: ss / float64(df), Block: term.block, BlockInteraction: term.blockInt}
+		row := Term{Source: term.name, DF: df, SS: ss, MS: ss / float64(df), Block: term.block, BlockInteraction: term.blockInt, SSZero: zero}
 		for _, fi := range term.factors {
 			row.Factors = append(row.Factors, d.Factors[fi].Name)
 		}
-		row.F = row.MS / t.Residual.MS
-		row.P = distuv.F{D1: float64(df), D2: float64(resDF)}.Survival(row.F)
-		if t.Residual.MS == 0 {
-			row.F, row.P = math.Inf(1), 0
+		switch {
+		case t.ExactFit:
+			row.F, row.P = math.NaN(), math.NaN()
+			row.PartialEta2, row.PartialOmega2 = math.NaN(), math.NaN()
+		default:
+			row.F = row.MS / t.Residual.MS
+			row.P = prob.FSurvival(row.F, float64(df), float64(resDF))
+			row.PartialEta2 = ss / (ss + t.Residual.SS)
+			row.PartialOmega2 = (ss - float64(df)*t.Residual.MS) / (ss + float64(n-df)*t.Residual.MS)
 		}
-		row.PartialEta2 = ss / (ss + t.Residual.SS)
-		row.PartialOmega2 = (ss - float64(df)*t.Residual.MS) / (ss + float64(n-df)*t.Residual.MS)
+		if term.block {
+			// Blocks are a nuisance, not an effect of interest: no effect size.
+			row.PartialEta2, row.PartialOmega2 = math.NaN(), math.NaN()
+		}
+		row.ErrorTerm, row.ErrorDF = "residual", resDF
 		t.Terms = append(t.Terms, row)
 	}
+	t.ZeroRule = zj.rule
 	t.R2 = 1 - t.Residual.SS/t.TotalSS
-	t.ResidSD = math.Sqrt(t.Residual.MS)
-	t.GrandMean = shiftedMean(m.y, m.shift, nil)
+	if t.TotalSS == 0 {
+		t.R2 = math.NaN()
+	}
+	t.ResidSD = m.scale * math.Sqrt(t.Residual.MS)
+	t.GrandMean = m.shift + m.scale*(shiftedMean(m.y, 0, nil))
 	t.CV = 100 * t.ResidSD / math.Abs(t.GrandMean)
 	t.Residuals = full.residuals()
+	if t.ExactFit {
+		clear(t.Residuals)
+	}
 	t.Fitted = make([]float64, n)
 	for i := range t.Fitted {
-		t.Fitted[i] = m.y[i] - t.Residuals[i] + m.shift
+		t.Fitted[i] = m.shift + m.scale*(m.y[i]-t.Residuals[i])
+		t.Residuals[i] *= m.scale
 	}
 	t.Leverage = m.leverage(full, all)
 	t.est = newEstimates(m, full, ranges)
-	if d.Block != nil && !d.BlockInteraction {
+	if d.Block != nil && !d.BlockInteraction && !t.ExactFit {
 		t.RelEfficiency = relEfficiency(t)
 	}
 	return t, nil
+}
+
+// emptyCellError names the terms that cannot be estimated.
+func (m *model) emptyCellError(full *qrFit, ranges [][2]int) error {
+	var bad []string
+	for k, r := range ranges {
+		if full.dependent(r[0], r[1]) {
+			bad = append(bad, m.terms[k].name)
+		}
+	}
+	return fmt.Errorf("%w: some combinations of levels have no observations, so these terms cannot be estimated: %s", ErrEmptyCell, strings.Join(bad, ", "))
 }
 
 // leverage returns h_ii = ||R^{-T} x_i||² for the fit of the terms in order,

@@ -21,7 +21,7 @@ func TestHolmAdjust(t *testing.T) {
 }
 
 func TestLetters(t *testing.T) {
-	g := []Group{{Level: "A", Mean: 30}, {Level: "B", Mean: 20}, {Level: "C", Mean: 10}, {Level: "D", Mean: 5}}
+	g := []Group{{Level: "A", LSMean: 30}, {Level: "B", LSMean: 20}, {Level: "C", LSMean: 10}, {Level: "D", LSMean: 5}}
 	tests := []struct {
 		name string
 		sig  [][2]int
