@@ -48,6 +48,8 @@ type Term struct {
 	ErrorTerm string `json:"error_term"`
 	// ErrorDF is the df of that error (the residual df unless stated).
 	ErrorDF int `json:"error_df"`
+	// NotTestable says why no test is given (Type III with an empty cell).
+	NotTestable string `json:"not_testable,omitempty"`
 }
 
 // Residual is the error line of the table.
@@ -88,7 +90,15 @@ type Table struct {
 	// (0 normally; 2k when the data were scaled by 10^−k to avoid
 	// underflow or overflow).
 	SSExp10 int `json:"ss_exponent10,omitempty"`
-	scale   float64
+	// EmptyCells is set when some combination of levels has no
+	// observations: terms have the df they can estimate, and LS means of
+	// the factors involved are not estimable.
+	EmptyCells bool `json:"empty_cells,omitempty"`
+	// NotEstimable names the terms left out of the model because no
+	// contrast of them can be estimated (for example A × B in a 2×2 with
+	// an empty cell).
+	NotEstimable []string `json:"not_estimable,omitempty"`
+	scale        float64
 	// est holds what least-squares means need: coefficients, their
 	// unscaled covariance and the coding of each factor's main effect.
 	est   *estimates
@@ -105,11 +115,13 @@ type model struct {
 	shiftRat *big.Rat
 	scale    float64
 	exp10    int
-	y        []float64
-	levels   [][]string // per factor
-	index    [][]int    // per factor: level of each observation
-	blockL   []string
-	blockI   []int
+	// emptyCells marks a model pruned of dependent interaction columns.
+	emptyCells bool
+	y          []float64
+	levels     [][]string // per factor
+	index      [][]int    // per factor: level of each observation
+	blockL     []string
+	blockI     []int
 }
 
 type modelTerm struct {
@@ -341,15 +353,42 @@ func Fit(d Data, opt Options) (*Table, error) {
 	for _, t := range m.terms {
 		p += len(t.cols)
 	}
+	var untestable []bool
+	var dropped []string
 	if full.rank < p {
-		return nil, m.emptyCellError(full, ranges)
+		if len(d.Factors) < 2 {
+			return nil, m.emptyCellError(full, ranges)
+		}
+		pm, lost := m.pruned()
+		bad := m.notTestable(lost)
+		kept := *pm
+		kept.terms = nil
+		for k, t := range pm.terms {
+			if len(t.cols) == 0 {
+				dropped = append(dropped, t.name)
+				continue
+			}
+			kept.terms = append(kept.terms, t)
+			untestable = append(untestable, bad[k])
+		}
+		m = &kept
+		all = all[:len(m.terms)]
+		full, ranges = m.fitOrder(all)
+		p = 1
+		for _, t := range m.terms {
+			p += len(t.cols)
+		}
+		if full.rank < p {
+			return nil, m.emptyCellError(full, ranges)
+		}
+		m.emptyCells = true
 	}
 	n := m.n
 	resDF := n - p
 	if resDF < 1 {
 		return nil, fmt.Errorf("response %q: %d observations for %d parameters leave no residual degrees of freedom; at least 2 observations are needed in some group", d.Response, n, p)
 	}
-	t := &Table{Response: d.Response, SSType: opt.SSType, N: n, Alpha: opt.Alpha, SSExp10: 2 * m.exp10, scale: m.scale}
+	t := &Table{Response: d.Response, SSType: opt.SSType, N: n, Alpha: opt.Alpha, SSExp10: 2 * m.exp10, scale: m.scale, EmptyCells: m.emptyCells, NotEstimable: dropped}
 	t.Residual.DF = resDF
 	t.Residual.SS = full.ss(p, n)
 	t.TotalDF = n - 1
@@ -404,6 +443,11 @@ func Fit(d Data, opt Options) (*Table, error) {
 			row.PartialEta2, row.PartialOmega2 = math.NaN(), math.NaN()
 		}
 		row.ErrorTerm, row.ErrorDF = "residual", resDF
+		if untestable != nil && opt.SSType == 3 && untestable[k] {
+			row.SS, row.MS, row.F, row.P = math.NaN(), math.NaN(), math.NaN(), math.NaN()
+			row.PartialEta2, row.PartialOmega2 = math.NaN(), math.NaN()
+			row.NotTestable = "its Type III hypothesis (equal means averaged over every cell) involves the mean of an empty cell, which the data cannot estimate; Types I and II test the estimable hypotheses"
+		}
 		t.Terms = append(t.Terms, row)
 	}
 	t.ZeroRule = zj.rule

@@ -159,13 +159,34 @@ func Run(d Data, opt RunOptions) (*Result, error) {
 		res.Notes = append(res.Notes, fmt.Sprintf("%s %s hold(s) a single unit: its block effect absorbs it, so it adds nothing to the treatment comparisons or the error (its residual is zero and it is left out of the residual checks). The Monte-Carlo power simulation treats such a block the same way.", d.Block.Name, strings.Join(n, ", ")))
 	}
 	for fi := range d.Factors {
-		g, _, err := lsGroups(d, t, fi)
+		var g []Group
+		if t.EmptyCells {
+			g, err = Summaries(d, fi)
+		} else {
+			g, _, err = lsGroups(d, t, fi)
+		}
 		if err != nil {
 			return nil, err
 		}
 		res.Groups = append(res.Groups, g)
 	}
-	if len(d.Factors) >= 2 {
+	if t.EmptyCells {
+		var names []string
+		for _, r := range t.Terms {
+			if r.NotTestable != "" {
+				names = append(names, r.Source)
+			}
+		}
+		msg := "Some combinations of levels have no observations (empty cells): each term is given the degrees of freedom the data can estimate, and the Type I and II tests are of the estimable hypotheses. Least-squares means, which average over every cell, cannot be estimated, so the means table shows raw means only and no comparisons of LS means are run; the simple effects, where shown, compare the cells that were observed."
+		if len(t.NotEstimable) > 0 {
+			msg += " Left out of the model, as nothing of them can be estimated: " + strings.Join(t.NotEstimable, ", ") + "."
+		}
+		if len(names) > 0 {
+			msg += " Not testable with Type III sums of squares: " + strings.Join(names, ", ") + " (use --ss 2 or --ss 1)."
+		}
+		res.Notes = append(res.Notes, msg)
+	}
+	if len(d.Factors) >= 2 && !t.EmptyCells {
 		res.Cells, err = cellMeans(d, t)
 		if err != nil {
 			return nil, err
@@ -197,7 +218,7 @@ func Run(d Data, opt RunOptions) (*Result, error) {
 				term = &t.Terms[i]
 			}
 		}
-		if term == nil || opt.PostHoc == MethodNone {
+		if term == nil || opt.PostHoc == MethodNone || t.EmptyCells {
 			continue
 		}
 		var ph *PostHoc
@@ -222,6 +243,9 @@ func Run(d Data, opt RunOptions) (*Result, error) {
 		res.PostHoc = append(res.PostHoc, ph)
 	}
 	for _, name := range opt.Trend {
+		if t.EmptyCells {
+			break
+		}
 		fi := factorIndex(d, name)
 		if fi < 0 {
 			return nil, fmt.Errorf("trend: %q is not a factor of the design", name)

@@ -79,6 +79,9 @@ func (a Analysis) summaryLines() []string {
 		lines = append(lines, fmt.Sprintf("The values are of order 1e%d: the SS and MS columns are in units of 1e%d (the response unit squared), because the plain squares would underflow or overflow; F, p and every mean, SD and interval are unaffected.", t.SSExp10/2, t.SSExp10))
 	}
 	for _, r := range t.Terms {
+		if r.NotTestable != "" {
+			lines = append(lines, fmt.Sprintf("%s: not testable — %s.", r.Source, r.NotTestable))
+		}
 		if r.ErrorTerm != "" && r.ErrorTerm != "residual" {
 			lines = append(lines, fmt.Sprintf("F for %s uses the %s mean square as its error (df %d).", r.Source, r.ErrorTerm, r.ErrorDF))
 		}
