@@ -25,7 +25,11 @@ type extrasRef struct {
 		DF             int
 		MinExpected    float64 `json:"min_expected"`
 	}
-	EmptyCell    map[string][]struct{ SS, F, P float64 } `json:"empty_cell"`
+	EmptyCell map[string][]struct{ SS, F, P float64 } `json:"empty_cell"`
+	SmallP    struct {
+		Rows []struct{ G, Y string }
+		F, P float64
+	} `json:"small_p"`
 	RandomBlocks struct {
 		Rows     []struct{ Block, Trt, Y string }
 		F, P     float64
@@ -201,5 +205,25 @@ func TestDunnettDirection(t *testing.T) {
 	}
 	if !strings.Contains(lo.PostHoc[0].Method, "treatment < control") {
 		t.Errorf("method %q", lo.PostHoc[0].Method)
+	}
+}
+
+// Small p-values keep their digits: F on 3 and 1000 df with p near 1e-51.
+// Source: testdata/reference/extras.json "small_p" (statsmodels F, the tail
+// from 30-digit mpmath betainc; gen_extras.py). F to 1e-10, p to 1e-9
+// relative (1 − CDF would give 0).
+func TestSmallPKeepsDigits(t *testing.T) {
+	ref := loadExtras(t).SmallP
+	d := Data{Response: "y", Factors: []Column{{Name: "g"}}}
+	for _, r := range ref.Rows {
+		d.Values = append(d.Values, r.Y)
+		d.Factors[0].Values = append(d.Factors[0].Values, r.G)
+	}
+	tab, err := Fit(d, Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if tab.Residual.DF != 1000 || !near(tab.Terms[0].F, ref.F, 1e-10, 0) || !near(tab.Terms[0].P, ref.P, 1e-9, 0) {
+		t.Errorf("F(%d, %d) = %.12g p %.12g; reference F %.12g p %.12g", tab.Terms[0].DF, tab.Residual.DF, tab.Terms[0].F, tab.Terms[0].P, ref.F, ref.P)
 	}
 }

@@ -14,6 +14,8 @@ random_blocks: a generalised block design (3 treatments x 4 blocks x 2);
   scipy.stats.f.sf.
 empty_cell: a 2x2 with one empty cell; statsmodels anova_lm (types 1, 2) of
   the additive model, the estimable part of the factorial.
+small_p: one-way, 4 x 251 (df 3 and 1000), statsmodels F; its tail from
+  30-digit mpmath betainc.
 Run: /usr/bin/python3 testdata/reference/gen_extras.py
 """
 import json, os
@@ -79,6 +81,18 @@ out["empty_cell"] = {}
 for typ in (1, 2):
     a = sm.stats.anova_lm(efit, typ=typ)
     out["empty_cell"][str(typ)] = [{"ss": float(a["sum_sq"][i]), "f": float(a["F"][i]), "p": float(a["PR(>F)"][i])} for i in range(2)]
+# small p: 4 groups x 251 units (df 3 and 1000), a strong effect; the F tail
+# from mpmath's regularised incomplete beta at 30 digits.
+import mpmath as mp
+mp.mp.dps = 30
+r2 = np.random.default_rng(35)
+sp = [{"g": "g%d" % k, "y": "%.3f" % (50 + 0.45 * k + r2.normal())} for k in range(4) for _ in range(251)]
+sdf = pd.DataFrame(sp)
+sdf["yf"] = sdf.y.astype(float)
+sa = sm.stats.anova_lm(smf.ols("yf ~ C(g)", data=sdf).fit(), typ=1)
+Fs = float(sa["F"][0])
+ptail = mp.betainc(500, mp.mpf(3) / 2, 0, mp.mpf(1000) / (1000 + 3 * mp.mpf(Fs)), regularized=True)
+out["small_p"] = {"rows": sp, "F": Fs, "p": float(ptail), "p_scipy": float(st.f.sf(Fs, 3, 1000))}
 with open(OUT, "w") as f:
     json.dump(out, f, indent=1)
 print(json.dumps({k: v for k, v in out.items() if k != "random_blocks"}, indent=1)[:1500], out["random_blocks"]["F"])
