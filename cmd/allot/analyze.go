@@ -52,12 +52,22 @@ plain CSV table with the roles of its columns given by --response, --factor
 one-way, factorial with all interactions, randomised complete blocks, or a
 factorial in blocks, with Type I, II or III sums of squares (--ss, default 3).
 
-Terms significant at --alpha are followed by --posthoc tukey (Tukey–Kramer,
-default), dunnett (each level against --control, the plan's control by
-default; --sides 1 for one-sided), holm (Holm-adjusted t tests) or none,
-with a compact letter display; a significant interaction is followed by
-simple effects. The residuals are checked (Shapiro–Wilk, Brown–Forsythe, SD
-ratio, studentized residuals beyond ±3 listed by unit and cell).
+Every treatment factor is followed by the requested comparisons, whatever
+its F test says (the output states the family, the error rate controlled,
+and notes a non-significant F): --posthoc tukey (Tukey–Kramer, default),
+dunnett (each level against --control, the plan's control by default;
+--sides 1 with --direction higher or lower for one side), holm (Holm-adjusted
+t tests, Bonferroni intervals) or none, with a compact letter display; a
+significant interaction puts simple effects first. --trend FACTOR adds
+orthogonal polynomial contrasts of a numeric factor. Blocks are fixed unless
+--blocks random (generalised block designs: treatments tested against the
+block × treatment term). The means table, the loss table and the residual
+checks (Shapiro–Wilk and an equal-variance test valid for the design, SD
+ratio, studentized residuals beyond ±3 listed by unit and cell) follow.
+
+When the residual variation is exactly zero (decided in exact arithmetic),
+F is undefined: the output says so, runs no comparison or check, and the
+exit status is 1.
 
 Each experimental unit is one observation: the unit that was randomised is the
 unit of analysis.` + "\n" + exitHelp,
