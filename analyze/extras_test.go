@@ -4,6 +4,7 @@ import (
 	"encoding/json"
 	"math"
 	"os"
+	"strconv"
 	"strings"
 	"testing"
 )
@@ -225,5 +226,56 @@ func TestSmallPKeepsDigits(t *testing.T) {
 	}
 	if tab.Residual.DF != 1000 || !near(tab.Terms[0].F, ref.F, 1e-10, 0) || !near(tab.Terms[0].P, ref.P, 1e-9, 0) {
 		t.Errorf("F(%d, %d) = %.12g p %.12g; reference F %.12g p %.12g", tab.Terms[0].DF, tab.Residual.DF, tab.Terms[0].F, tab.Terms[0].P, ref.F, ref.P)
+	}
+}
+
+// A block left with one unit: Fit (allot analyze) and Engine.Fit (the
+// Monte-Carlo simulation) give the same sums of squares, and Run says the
+// unit carries no information. Reference: the same data without that
+// block's unit fitted by Fit (the unit is absorbed by its block effect, so
+// the treatment and residual SS must be equal to 1e-10).
+func TestSingleUnitBlockAgrees(t *testing.T) {
+	d := Data{Response: "y",
+		Values:  []string{"10.1", "11.3", "12.0", "9.8", "11.0", "12.4", "10.5", "11.9", "12.2", "13.0"},
+		Factors: []Column{{Name: "trt", Values: []string{"a", "b", "c", "a", "b", "c", "a", "b", "c", "b"}}},
+		Block:   &Column{Name: "block", Values: []string{"1", "1", "1", "2", "2", "2", "3", "3", "3", "4"}}}
+	tab, err := Fit(d, Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	eng, err := NewEngine(d, 3)
+	if err != nil {
+		t.Fatal(err)
+	}
+	y := make([]float64, len(d.Values))
+	for i, v := range d.Values {
+		y[i], _ = strconv.ParseFloat(v, 64)
+	}
+	f, err := eng.Fit(y, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !near(f.ResSS, tab.Residual.SS, 1e-10, 1e-12) || f.ResDF != tab.Residual.DF {
+		t.Errorf("engine residual %g (df %d), Fit %g (df %d)", f.ResSS, f.ResDF, tab.Residual.SS, tab.Residual.DF)
+	}
+	for k := range tab.Terms {
+		if !near(f.SS[k], tab.Terms[k].SS, 1e-10, 1e-12) {
+			t.Errorf("%s: engine SS %g, Fit %g", tab.Terms[k].Source, f.SS[k], tab.Terms[k].SS)
+		}
+	}
+	without := Data{Response: "y", Values: d.Values[:9], Factors: []Column{{Name: "trt", Values: d.Factors[0].Values[:9]}}, Block: &Column{Name: "block", Values: d.Block.Values[:9]}}
+	ref, err := Fit(without, Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !near(tab.Terms[1].SS, ref.Terms[1].SS, 1e-10, 1e-12) || !near(tab.Residual.SS, ref.Residual.SS, 1e-10, 1e-12) {
+		t.Errorf("trt SS %g residual %g; without the lone unit %g %g", tab.Terms[1].SS, tab.Residual.SS, ref.Terms[1].SS, ref.Residual.SS)
+	}
+	res, err := Run(d, RunOptions{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !strings.Contains(strings.Join(res.Notes, " "), "block 4 hold(s) a single unit") {
+		t.Errorf("notes %v", res.Notes)
 	}
 }
