@@ -335,6 +335,9 @@ func Fit(d Data, opt Options) (*Table, error) {
 	if opt.Alpha == 0 {
 		opt.Alpha = 0.05
 	}
+	if err := checkFactors(d); err != nil {
+		return nil, err
+	}
 	d, _, err := Average(d)
 	if err != nil {
 		return nil, err

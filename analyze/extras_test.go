@@ -179,6 +179,10 @@ func TestRandomBlocks(t *testing.T) {
 	if !strings.Contains(strings.Join(res.Notes, " "), "treated as random") {
 		t.Errorf("notes do not say blocks are random: %v", res.Notes)
 	}
+	// The comparisons use the same error as the F test.
+	if ph := res.PostHoc[0]; ph.DF != ref.DF2 {
+		t.Errorf("comparisons on df %d, want the block × trt df %d", ph.DF, ref.DF2)
+	}
 }
 
 // Dunnett one-sided in both directions: "lower" is "higher" on the negated

@@ -222,13 +222,18 @@ func Run(d Data, opt RunOptions) (*Result, error) {
 			continue
 		}
 		var ph *PostHoc
+		te := errorTable(t, term)
 		switch opt.PostHoc {
 		case MethodTukey:
-			ph, err = Tukey(d, t, fi)
+			ph, err = Tukey(d, te, fi)
 		case MethodHolm:
-			ph, err = Holm(d, t, fi)
+			ph, err = Holm(d, te, fi)
 		case MethodDunnett:
-			ph, err = DunnettTest(d, t, fi, DunnettOptions{Control: opt.Control, Sides: opt.Sides, Direction: opt.Direction})
+			ph, err = DunnettTest(d, te, fi, DunnettOptions{Control: opt.Control, Sides: opt.Sides, Direction: opt.Direction})
+		}
+		if err == nil && te != t {
+			ph.Notes = append(ph.Notes, fmt.Sprintf("With random blocks these comparisons use the %s mean square as their error (df %d), as the F test of %s does.", term.ErrorTerm, term.ErrorDF, f.Name))
+			res.Groups[fi] = ph.Groups
 		}
 		if err != nil {
 			return nil, err
@@ -355,7 +360,7 @@ func modelSentence(d Data, opt RunOptions) string {
 func blockNote(d Data, random bool) string {
 	b := d.Block.Name
 	if random && d.BlockInteraction {
-		return fmt.Sprintf("The %s blocks are treated as random: each treatment term is tested against its %s × treatment mean square (how much the treatment effect varies from one %s to another), so the conclusions extend to other blocks like these; the %s × treatment terms are tested against the residual. The comparisons of means still use the residual error.", b, b, b, b)
+		return fmt.Sprintf("The %s blocks are treated as random: each treatment term is tested against its %s × treatment mean square (how much the treatment effect varies from one %s to another), so the conclusions extend to other blocks like these; the %s × treatment terms are tested against the residual, and the comparisons of treatment levels use the same error as their F test.", b, b, b, b)
 	}
 	if random {
 		return fmt.Sprintf("The %s blocks are treated as random; with blocks not crossed with replicated treatments the treatment F tests are the same as with fixed blocks.", b)
@@ -411,6 +416,24 @@ func randomBlocks(d Data, t *Table) error {
 		}
 	}
 	return nil
+}
+
+// errorTable returns t itself, or, when term is tested against another
+// error (random blocks), a copy whose error mean square, df and SD are that
+// term's, so that comparisons of its levels use the same error as its F.
+func errorTable(t *Table, term *Term) *Table {
+	if term.ErrorTerm == "" || term.ErrorTerm == "residual" {
+		return t
+	}
+	for _, e := range t.Terms {
+		if e.Source == term.ErrorTerm && e.DF > 0 {
+			c := *t
+			c.Residual = Residual{DF: e.DF, SS: e.SS, MS: e.MS}
+			c.ResidSD = t.scale * math.Sqrt(e.MS)
+			return &c
+		}
+	}
+	return t
 }
 
 func sameFactors(a, b []string) bool {
