@@ -193,6 +193,12 @@ func Run(d Data, opt RunOptions) (*Result, error) {
 		}
 	}
 	if t.ExactFit {
+		for _, gs := range res.Groups {
+			for i := range gs {
+				// No error estimate: no SE or interval either.
+				gs[i].SE, gs[i].Lower, gs[i].Upper = math.NaN(), math.NaN(), math.NaN()
+			}
+		}
 		res.Undefined = true
 		res.Notes = append(res.Notes, "The residual sum of squares is exactly zero (decided in exact arithmetic from the recorded decimals): every observation equals its fitted value, for example because all values within each group are identical. With no variation left to judge the differences against, F is undefined (not infinite) and no comparison, p-value or residual check can be computed. Check that the values are real, independent measurements and not copies or rounded-off entries.")
 		res.Assumptions = Assumptions{Verdicts: []string{"The residual checks were not run: all residuals are exactly zero."}}

@@ -241,3 +241,31 @@ func TestLayoutMap(t *testing.T) {
 		}
 	}
 }
+
+// A plain CSV table with every treatment twice in every block gets the
+// generalised block model, as the same data through its plan would, and
+// says so.
+func TestAnalyzePlainCSVReplicatedBlocks(t *testing.T) {
+	dir := t.TempDir()
+	p := filepath.Join(dir, "rep.csv")
+	var b strings.Builder
+	b.WriteString("v,bench,y\n")
+	vals := []string{"5.1", "5.4", "6.0", "6.3", "4.9", "5.0", "6.2", "6.6", "5.3", "5.8", "6.1", "6.9"}
+	k := 0
+	for _, bench := range []string{"1", "2", "3"} {
+		for _, v := range []string{"A", "A", "B", "B"} {
+			b.WriteString(v + "," + bench + "," + vals[k] + "\n")
+			k++
+		}
+	}
+	os.WriteFile(p, []byte(b.String()), 0o644)
+	code, out, errs := runArgs(t, "analyze", p, "--response", "y", "--factor", "v", "--block", "bench")
+	if code != 0 {
+		t.Fatalf("exit %d: %s", code, errs)
+	}
+	for _, want := range []string{"bench × v", "generalised randomised block design", "Every treatment appears at least twice in every bench"} {
+		if !strings.Contains(out, want) {
+			t.Errorf("output lacks %q:\n%s", want, out)
+		}
+	}
+}
