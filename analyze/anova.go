@@ -61,7 +61,7 @@ type Residual struct {
 
 // Table is the fitted ANOVA of one response.
 type Table struct {
-	Response  string   `json:"response"`
+	Response  string   `json:"-"` // in JSON once, at the response level
 	SSType    int      `json:"ss_type"`
 	N         int      `json:"n"`
 	Terms     []Term   `json:"terms"`
