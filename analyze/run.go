@@ -200,7 +200,11 @@ func Run(d Data, opt RunOptions) (*Result, error) {
 			}
 		}
 		res.Undefined = true
-		res.Notes = append(res.Notes, "The residual sum of squares is exactly zero (decided in exact arithmetic from the recorded decimals): every observation equals its fitted value, for example because all values within each group are identical. With no variation left to judge the differences against, F is undefined (not infinite) and no comparison, p-value or residual check can be computed. Check that the values are real, independent measurements and not copies or rounded-off entries.")
+		how := "decided in exact arithmetic from the recorded decimals"
+		if t.ZeroRule == "bound" {
+			how = "below 1e-20 of the total sum of squares, far below anything the recorded decimals can show; the model is too large for the exact check"
+		}
+		res.Notes = append(res.Notes, "The residual sum of squares is exactly zero ("+how+"): every observation equals its fitted value, for example because all values within each group are identical. With no variation left to judge the differences against, F is undefined (not infinite) and no comparison, p-value or residual check can be computed. Check that the values are real, independent measurements and not copies or rounded-off entries.")
 		res.Assumptions = Assumptions{Verdicts: []string{"The residual checks were not run: all residuals are exactly zero."}}
 		return res, nil
 	}
