@@ -18,23 +18,26 @@ import (
 )
 
 type analyzeOptions struct {
-	read     checkOptions
-	response string
-	factors  []string
-	block    string
-	unitCol  string
-	ss       int
-	posthoc  string
-	control  string
-	sides    int
-	alpha    float64
-	format   string
-	json     bool
-	html     string
-	plots    string
-	unit     string
-	force    bool
-	command  string
+	read      checkOptions
+	response  string
+	factors   []string
+	block     string
+	unitCol   string
+	ss        int
+	posthoc   string
+	control   string
+	sides     int
+	direction string
+	blocks    string
+	trend     []string
+	alpha     float64
+	format    string
+	json      bool
+	html      string
+	plots     string
+	unit      string
+	force     bool
+	command   string
 }
 
 func newAnalyzeCmd(s *streams, runF func(*analyzeOptions) error) *cobra.Command {
@@ -49,12 +52,22 @@ plain CSV table with the roles of its columns given by --response, --factor
 one-way, factorial with all interactions, randomised complete blocks, or a
 factorial in blocks, with Type I, II or III sums of squares (--ss, default 3).
 
-Terms significant at --alpha are followed by --posthoc tukey (Tukey–Kramer,
-default), dunnett (each level against --control, the plan's control by
-default; --sides 1 for one-sided), holm (Holm-adjusted t tests) or none,
-with a compact letter display; a significant interaction is followed by
-simple effects. The residuals are checked (Shapiro–Wilk, Brown–Forsythe, SD
-ratio, studentized residuals beyond ±3 listed by unit and cell).
+Every treatment factor is followed by the requested comparisons, whatever
+its F test says (the output states the family, the error rate controlled,
+and notes a non-significant F): --posthoc tukey (Tukey–Kramer, default),
+dunnett (each level against --control, the plan's control by default;
+--sides 1 with --direction higher or lower for one side), holm (Holm-adjusted
+t tests, Bonferroni intervals) or none, with a compact letter display; a
+significant interaction puts simple effects first. --trend FACTOR adds
+orthogonal polynomial contrasts of a numeric factor. Blocks are fixed unless
+--blocks random (generalised block designs: treatments tested against the
+block × treatment term). The means table, the loss table and the residual
+checks (Shapiro–Wilk and an equal-variance test valid for the design, SD
+ratio, studentized residuals beyond ±3 listed by unit and cell) follow.
+
+When the residual variation is exactly zero (decided in exact arithmetic),
+F is undefined: the output says so, runs no comparison or check, and the
+exit status is 1.
 
 Each experimental unit is one observation: the unit that was randomised is the
 unit of analysis.` + "\n" + exitHelp,
@@ -92,7 +105,10 @@ unit of analysis.` + "\n" + exitHelp,
 	f.IntVar(&o.ss, "ss", 3, "sum-of-squares type `1`, 2 or 3")
 	f.StringVar(&o.posthoc, "posthoc", "tukey", "follow-up comparisons: `tukey`, dunnett, holm or none")
 	f.StringVar(&o.control, "control", "", "the control `LEVEL` for dunnett (default: the plan's control)")
-	f.IntVar(&o.sides, "sides", 2, "dunnett: `2` sides, or 1 (treatment > control)")
+	f.IntVar(&o.sides, "sides", 2, "dunnett: `2` sides, or 1 (one-sided; see --direction)")
+	f.StringVar(&o.direction, "direction", "", "one-sided dunnett: `higher` (treatment > control, the default) or lower")
+	f.StringVar(&o.blocks, "blocks", "fixed", "blocks as `fixed` effects, or random (generalised block designs: treatments tested against block × treatment)")
+	f.StringArrayVar(&o.trend, "trend", nil, "orthogonal polynomial trend contrasts of the numeric `FACTOR` (doses, rates); repeatable")
 	f.Float64Var(&o.alpha, "alpha", 0.05, "significance level `A`")
 	f.StringVar(&o.format, "format", "text", "output: `text`, markdown or json")
 	f.BoolVar(&o.json, "json", false, "print JSON (same as --format json)")
@@ -118,7 +134,22 @@ func (o *analyzeOptions) validate() error {
 	if o.sides != 1 && o.sides != 2 {
 		return usagef("--sides %d: must be 1 or 2", o.sides)
 	}
+	switch o.direction {
+	case "":
+	case "higher", "lower":
+		if o.sides != 1 {
+			return usagef("--direction %s: is for a one-sided test; add --sides 1", o.direction)
+		}
+	default:
+		return usagef("--direction %s: must be higher (treatment > control) or lower (treatment < control)", o.direction)
+	}
+	if o.blocks != "fixed" && o.blocks != "random" {
+		return usagef("--blocks %s: must be fixed or random", o.blocks)
+	}
 	if o.json {
+		if o.format != "text" && o.format != "json" {
+			return usagef("--json and --format %s ask for two formats: give one of them", o.format)
+		}
 		o.format = "json"
 	}
 	if o.html != "" && !strings.HasSuffix(strings.ToLower(o.html), ".html") {
@@ -149,6 +180,8 @@ type job struct {
 	unit      string
 	blockName string
 	simulated bool
+	// modelNote says why the model differs from the obvious one.
+	modelNote string
 }
 
 func analyzeRun(s *streams, o *analyzeOptions) error {
@@ -157,6 +190,7 @@ func analyzeRun(s *streams, o *analyzeOptions) error {
 		return err
 	}
 	var all []report.Analysis
+	var undefined []string
 	for i, j := range jobs {
 		control := o.control
 		if control == "" {
@@ -167,25 +201,38 @@ func analyzeRun(s *streams, o *analyzeOptions) error {
 		}
 		res, err := analyze.Run(j.data, analyze.RunOptions{
 			Options: analyze.Options{SSType: o.ss, Alpha: o.alpha},
-			PostHoc: o.posthoc, Control: control, Sides: o.sides,
+			PostHoc: o.posthoc, Control: control, Sides: o.sides, Direction: o.direction,
+			Trend: o.trend, RandomBlocks: o.blocks == "random",
 		})
 		if err != nil {
 			return inputErr(fmt.Errorf("%s: %s: %w", o.read.file, j.data.Response, err))
 		}
+		if j.modelNote != "" {
+			res.Notes = append(res.Notes, j.modelNote)
+		}
+		if res.Undefined {
+			undefined = append(undefined, j.data.Response)
+		}
 		a := report.Analysis{Result: res, Missing: j.missing, Unit: j.unit, BlockName: j.blockName, Simulated: j.simulated}
 		all = append(all, a)
-		if i > 0 && o.format != "json" {
+		if o.format == "json" {
+			continue
+		}
+		if i > 0 {
 			fmt.Fprintln(s.Out)
 		}
 		switch o.format {
-		case "json":
-			err = report.AnalysisJSON(s.Out, a)
 		case "markdown":
 			err = report.AnalysisMarkdown(s.Out, a)
 		default:
 			err = report.AnalysisText(s.Out, a)
 		}
 		if err != nil {
+			return err
+		}
+	}
+	if o.format == "json" {
+		if err := report.AnalysesJSON(s.Out, version.String(), all); err != nil {
 			return err
 		}
 	}
@@ -209,6 +256,9 @@ func analyzeRun(s *streams, o *analyzeOptions) error {
 		}
 		fmt.Fprintf(s.Err, "allot analyze: wrote %s\n", o.html)
 	}
+	if len(undefined) > 0 {
+		return &failedError{err: fmt.Errorf("%s: %s: the residual variation is exactly zero, so no F test is defined (see the note in the output)", o.read.file, strings.Join(undefined, ", "))}
+	}
 	return nil
 }
 
@@ -229,7 +279,13 @@ func (o *analyzeOptions) jobs() ([]job, *design.Plan, []string, error) {
 		if missing > 0 {
 			check = append(check, fmt.Sprintf("%s: %d row(s) have no %s and were left out", o.read.file, missing, o.response))
 		}
-		return []job{{data: dataOf(o.response, obs, o.factors, nil, o.block), missing: missing, unit: "unit", blockName: o.block}}, nil, check, nil
+		d := dataOf(o.response, obs, o.factors, nil, o.block)
+		j := job{data: d, missing: missing, unit: "unit", blockName: o.block}
+		if d.Block != nil && analyze.Replicated(d) {
+			j.data.BlockInteraction = true
+			j.modelNote = fmt.Sprintf("Every treatment appears at least twice in every %s, so the %s × treatment interaction is in the model (a generalised block design), as it would be for the same data read through its plan.", o.block, o.block)
+		}
+		return []job{j}, nil, check, nil
 	}
 	fl, err := readFilled(&o.read)
 	if err != nil {
@@ -269,6 +325,7 @@ func (o *analyzeOptions) jobs() ([]job, *design.Plan, []string, error) {
 		}
 		d := dataOf(r, obs, fnames, names, block)
 		d.BlockInteraction = p.Generalised()
+		d.Lost = lostUnits(fl, k)
 		out = append(out, job{data: d, missing: len(fl.Layout.Units) - len(obs.Units), control: p.Control, unit: "unit", blockName: p.BlockName, simulated: fl.Simulated()})
 	}
 	if len(out) == 0 {
@@ -295,4 +352,19 @@ func dataOf(response string, obs workbook.Observations, factors []string, levels
 		d.Block = &analyze.Column{Name: block, Values: obs.Blocks}
 	}
 	return d
+}
+
+// lostUnits lists the units of the layout with no value of response r,
+// for the loss table: data plumbing only (the reader marks which cells
+// are missing; analyze builds the table).
+func lostUnits(fl *workbook.Filled, r int) []analyze.LostUnit {
+	tr := fl.Layout.Plan.Treatments()
+	var out []analyze.LostUnit
+	for i, u := range fl.Layout.Units {
+		if !fl.Values[r][i].Missing {
+			continue
+		}
+		out = append(out, analyze.LostUnit{Unit: u.ID, Levels: tr[u.Treatment].Levels, Status: "lost"})
+	}
+	return out
 }
