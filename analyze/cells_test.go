@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"math"
 	"strconv"
+	"strings"
 	"testing"
 
 	"golang.org/x/exp/rand"
@@ -217,6 +218,28 @@ func TestAbsorbedEmptyCells(t *testing.T) {
 		}
 		if math.Abs(abs.Residual.SS-coded.Residual.SS) > 1e-9*coded.Residual.SS {
 			t.Errorf("type %d: residual SS %.12g, %.12g", ss, abs.Residual.SS, coded.Residual.SS)
+		}
+	}
+}
+
+// TestLargeRCBDLevene: the Monte-Carlo Levene p-value of complete block
+// designs is simulated up to mcLeveneUnits units; a larger design keeps the
+// (conservative) F reference and says so, so that its cost stays linear.
+func TestLargeRCBDLevene(t *testing.T) {
+	for _, tt := range []struct {
+		blocks int
+		mc     bool
+	}{{10, true}, {mcLeveneUnits/4 + 1, false}} {
+		res, err := Run(blockData(tt.blocks, []int{4}, 0, 5), RunOptions{})
+		if err != nil {
+			t.Fatal(err)
+		}
+		name := res.Assumptions.LeveneName
+		if got := strings.Contains(name, "null draws"); got != tt.mc {
+			t.Errorf("%d blocks: variance test %q", tt.blocks, name)
+		}
+		if !(res.Assumptions.LeveneP > 0 && res.Assumptions.LeveneP <= 1) {
+			t.Errorf("%d blocks: p = %g", tt.blocks, res.Assumptions.LeveneP)
 		}
 	}
 }

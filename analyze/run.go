@@ -626,7 +626,7 @@ func checkAssumptions(d Data, t *Table) Assumptions {
 	a.Stud = make([]float64, len(t.Residuals))
 	a.Deleted = make([]float64, len(t.Residuals))
 	nu := float64(t.Residual.DF)
-	var usable []int
+	usable := make([]int, 0, len(t.Residuals))
 	for i, e := range t.Residuals {
 		h := t.Leverage[i]
 		a.Stud[i], a.Deleted[i] = math.NaN(), math.NaN()
@@ -653,7 +653,7 @@ func checkAssumptions(d Data, t *Table) Assumptions {
 		}
 	}
 	sort.Slice(a.Outliers, func(i, j int) bool { return math.Abs(a.Outliers[i].Studentized) > math.Abs(a.Outliers[j].Studentized) })
-	var normal []float64
+	normal := make([]float64, 0, len(t.Residuals))
 	var groups [][]float64
 	knownZero := false // the values have mean 0 by construction: Levene about 0
 	cs := t.cells
@@ -662,13 +662,26 @@ func checkAssumptions(d Data, t *Table) Assumptions {
 	// appearance, each with its observations.
 	trtKey := func(i int) int { return int(cs.treat[cs.of[i]]) }
 	byKey := func(idx []int, key func(int) int, nk int) ([]int, [][]int) {
-		members := make([][]int, nk)
+		// A counting sort into one array: keys in order of first
+		// appearance, each key's observations in their order.
+		count := make([]int, nk)
 		var order []int
 		for _, i := range idx {
 			k := key(i)
-			if members[k] == nil {
+			if count[k] == 0 {
 				order = append(order, k)
 			}
+			count[k]++
+		}
+		flat := make([]int, len(idx))
+		members := make([][]int, nk)
+		at := 0
+		for _, k := range order {
+			members[k] = flat[at : at : at+count[k]]
+			at += count[k]
+		}
+		for _, i := range idx {
+			k := key(i)
 			members[k] = append(members[k], i)
 		}
 		return order, members
@@ -769,7 +782,12 @@ func checkAssumptions(d Data, t *Table) Assumptions {
 	if knownZero {
 		a.Levene, df1, df2, a.LeveneP, a.LeveneOK = leveneAbout0(groups)
 		a.LeveneName = "Levene (absolute contrasts)"
-		if rcbd && a.LeveneOK {
+		switch {
+		case rcbd && a.LeveneOK && len(t.Residuals) > mcLeveneUnits:
+			// The simulation costs 1999 draws of the whole table; beyond
+			// mcLeveneUnits units the F reference stands, conservative.
+			a.LeveneName = "Levene (absolute contrasts, F reference: conservative here, as contrasts of different treatments are correlated; too many units for the Monte-Carlo p)"
+		case rcbd && a.LeveneOK:
 			// The contrasts of different treatments are correlated
 			// (−1/(t−1)), so the F reference is conservative; the statistic
 			// is pivotal under the model, and its p-value is taken from its
@@ -787,6 +805,11 @@ func checkAssumptions(d Data, t *Table) Assumptions {
 	a.Verdicts = verdicts(a, t.Alpha)
 	return a
 }
+
+// mcLeveneUnits is the largest complete block design (units) whose Levene
+// p-value is simulated (rcbdLeveneP costs 1999 normal tables of that size:
+// about 4·10^6 deviates at the limit).
+const mcLeveneUnits = 2000
 
 // rcbdLeveneP returns the Monte-Carlo p-value (Barnard 1963, J. R. Statist.
 // Soc. B 25, 294; (1 + #{F* ≥ F})/(B + 1), B = 1999) of the Levene
@@ -917,7 +940,7 @@ func saturated(d Data) bool {
 
 // helmert returns the Helmert contrasts of the values at idx.
 func helmert(e []float64, idx []int) []float64 {
-	var out []float64
+	out := make([]float64, 0, max(len(idx)-1, 0))
 	var sum float64
 	for j, i := range idx {
 		if j > 0 {

@@ -263,9 +263,9 @@ type PreparedRange struct {
 	sd    scaleDensity
 
 	mu      sync.Mutex
-	wide    map[float64]rangeNodes // inner nodes on [rangeZLo, zhi] for the upper tail, by zhi
-	logTail [][tableDegree]float64 // log(1 − W) by panel (integer K), grown on demand
-	tailEnd bool                   // 1 − W underflows beyond logTail
+	wide    map[[2]float64]rangeNodes // inner nodes on [zlo, zhi] for the upper tail
+	logTail [][tableDegree]float64    // log(1 − W) by panel (integer K), grown on demand
+	tailEnd bool                      // 1 − W underflows beyond logTail
 }
 
 // w returns W(w), from the table when K is a whole number (W is then an
@@ -321,11 +321,12 @@ func (p *PreparedRange) CDF(q float64) float64 {
 // piecewise Chebyshev polynomials of degree tableDegree−1 on panels of
 // width tableStep, each panel's values from the direct, cancellation-free
 // inner integral (rangeSF). The table is built panel by panel as larger q
-// need it (up to w = q·hi) and kept; it ends where 1 − W underflows. W's
+// need it (up to w = q·hi) and kept; it ends where 1 − W < 1e-40. W's
 // own table cannot serve here, since 1 − W from it carries the table's
 // absolute error. Non-integer K uses the quadrature at every node.
-// Accuracy: as StudentizedRange.Survival (TestPreparedSurvival checks the
-// two agree to 1e-11 relative down to 1e-15).
+// Accuracy: as StudentizedRange.Survival where P(Q > q) is above about
+// 1e-30 (TestPreparedSurvival checks the two agree to 1e-11 relative down
+// to 1e-15); below, an absolute error under 1e-40.
 func (p *PreparedRange) Survival(q float64) float64 {
 	if p == nil || math.IsNaN(q) {
 		return math.NaN()
@@ -370,29 +371,38 @@ func (p *PreparedRange) tail(w float64) float64 {
 	return math.Min(1, math.Exp(u*b1-b2+c[0]))
 }
 
+// tailFloor is where the table of log(1 − W) ends: beyond it 1 − W is
+// taken as 0, an absolute error below 1e-40 in P(Q > q).
+const tailFloor = 1e-40
+
 // addTailPanel appends the next panel of log(1 − W(w)); the table ends
-// (tailEnd) before the first panel on which 1 − W underflows.
+// (tailEnd) before the first panel on which 1 − W falls below tailFloor.
 func (p *PreparedRange) addTailPanel() {
 	const n = tableDegree
 	a := float64(len(p.logTail)) * tableStep
+	// The inner integrand of the tail peaks at z = w/2 and falls as
+	// exp(−(z − w/2)²) about it, so the nodes cover w/2 ± 8 (and at least
+	// [−8.5, 8.5]); what lies outside is below 1e-27 of the peak.
+	zlo := rangeZLo + math.Max(0, math.Floor(a/2))
 	zhi := math.Max(rangeZHi, math.Ceil((a+tableStep)/2+6)+0.5)
-	nodes, ok := p.wide[zhi]
-	if !ok && zhi <= rangeZHi {
+	key := [2]float64{zlo, zhi}
+	nodes, ok := p.wide[key]
+	if !ok && zlo == rangeZLo && zhi <= rangeZHi {
 		nodes, ok = p.nodes, true
 	}
 	if !ok {
 		if p.wide == nil {
-			p.wide = map[float64]rangeNodes{}
+			p.wide = map[[2]float64]rangeNodes{}
 		}
-		nodes = newRangeNodesOn(p.rule, rangeZLo, zhi)
-		p.wide[zhi] = nodes
+		nodes = newRangeNodesOn(p.rule, zlo, zhi)
+		p.wide[key] = nodes
 	}
 	var f [n]float64
 	for j := range f {
 		x := math.Cos(math.Pi * (float64(j) + 0.5) / n)
 		w := a + tableStep/2*(1+x)
 		v := nodes.rangeSF(w, p.d.K)
-		if !(v > 1e-290) {
+		if !(v > tailFloor) {
 			p.tailEnd = true
 			return
 		}
@@ -418,14 +428,15 @@ func (p *PreparedRange) tailNodes(zhi float64) rangeNodes {
 	}
 	p.mu.Lock()
 	defer p.mu.Unlock()
-	if n, ok := p.wide[zhi]; ok {
+	key := [2]float64{rangeZLo, zhi}
+	if n, ok := p.wide[key]; ok {
 		return n
 	}
 	if p.wide == nil {
-		p.wide = map[float64]rangeNodes{}
+		p.wide = map[[2]float64]rangeNodes{}
 	}
 	n := newRangeNodesOn(p.rule, rangeZLo, zhi)
-	p.wide[zhi] = n
+	p.wide[key] = n
 	return n
 }
 
