@@ -4,11 +4,10 @@ import (
 	"errors"
 	"fmt"
 	"math"
+	"math/big"
 	"strings"
 
 	"github.com/allotproject/allot/prob"
-
-	"gonum.org/v1/gonum/stat/distuv"
 )
 
 // Options controls a fit.
@@ -41,6 +40,16 @@ type Term struct {
 	Block   bool     `json:"block,omitempty"`
 	// BlockInteraction marks a block × treatment term.
 	BlockInteraction bool `json:"block_interaction,omitempty"`
+	// SSZero is set when the term's SS is exactly zero (decided in exact
+	// arithmetic, see exact.go), not merely small.
+	SSZero bool `json:"ss_exactly_zero,omitempty"`
+	// ErrorTerm names the mean square the F divides by: "residual", or
+	// the block × treatment term with --blocks random.
+	ErrorTerm string `json:"error_term"`
+	// ErrorDF is the df of that error (the residual df unless stated).
+	ErrorDF int `json:"error_df"`
+	// NotTestable says why no test is given (Type III with an empty cell).
+	NotTestable string `json:"not_testable,omitempty"`
 }
 
 // Residual is the error line of the table.
@@ -52,7 +61,7 @@ type Residual struct {
 
 // Table is the fitted ANOVA of one response.
 type Table struct {
-	Response  string   `json:"response"`
+	Response  string   `json:"-"` // in JSON once, at the response level
 	SSType    int      `json:"ss_type"`
 	N         int      `json:"n"`
 	Terms     []Term   `json:"terms"`
@@ -70,6 +79,26 @@ type Table struct {
 	Fitted        []float64 `json:"-"`
 	// Leverage holds the diagonal of the hat matrix, h_ii.
 	Leverage []float64 `json:"-"`
+	// ExactFit is set when the residual SS is exactly zero: every
+	// observation equals its fitted value, and no F can be formed.
+	ExactFit bool `json:"exact_fit,omitempty"`
+	// ZeroRule says how zero sums of squares were decided: "exact"
+	// (rational arithmetic from the decimal texts), "bound" (below 1e-20 of
+	// the total SS) or "" (no SS was close to zero).
+	ZeroRule string `json:"zero_rule,omitempty"`
+	// SSExp10 is the power of ten the SS and MS columns are in units of
+	// (0 normally; 2k when the data were scaled by 10^−k to avoid
+	// underflow or overflow).
+	SSExp10 int `json:"ss_exponent10,omitempty"`
+	// EmptyCells is set when some combination of levels has no
+	// observations: terms have the df they can estimate, and LS means of
+	// the factors involved are not estimable.
+	EmptyCells bool `json:"empty_cells,omitempty"`
+	// NotEstimable names the terms left out of the model because no
+	// contrast of them can be estimated (for example A × B in a 2×2 with
+	// an empty cell).
+	NotEstimable []string `json:"not_estimable,omitempty"`
+	scale        float64
 	// est holds what least-squares means need: coefficients, their
 	// unscaled covariance and the coding of each factor's main effect.
 	est   *estimates
@@ -89,16 +118,23 @@ type Table struct {
 // factor levels and block, and the terms. Columns are coded on demand, per
 // cell (codeRow), never stored per observation.
 type model struct {
-	n      int
-	terms  []modelTerm
-	shift  float64
-	y      []float64
-	ints   []int64 // exact centred values ·10^-exp, or nil (see centring)
-	exp    int
-	levels [][]string // per factor
-	index  [][]int32  // per factor: level of each observation
-	blockL []string
-	blockI []int32
+	n     int
+	terms []modelTerm
+	shift float64
+	// shiftRat is the exact shift; scale and exp10 the scaling of y
+	// (scale = 10^exp10, 1 when none; see rescale).
+	shiftRat *big.Rat
+	scale    float64
+	exp10    int
+	// emptyCells marks a model pruned of dependent interaction columns.
+	emptyCells bool
+	y          []float64
+	ints       []int64 // exact centred values ·10^-exp, or nil (see centring)
+	exp        int
+	levels     [][]string // per factor
+	index      [][]int32  // per factor: level of each observation
+	blockL     []string
+	blockI     []int32
 }
 
 type modelTerm struct {
@@ -107,6 +143,10 @@ type modelTerm struct {
 	block    bool
 	blockInt bool // block × treatment-term interaction
 	df       int
+	// keep, when not nil, lists the coded columns (positions in the full
+	// Kronecker coding) the term keeps after empty cells removed the
+	// dependent ones (see pruned); df is then len(keep).
+	keep []int
 }
 
 // levels32 is Column.levels with 32-bit indices and one map look-up a value.
@@ -163,7 +203,7 @@ func buildModel(d Data) (*model, error) {
 		return nil, fmt.Errorf("response %q: %w", d.Response, err)
 	}
 	sh, _ := c.shift.Float64()
-	m := &model{n: n, y: c.y, shift: sh, ints: c.ints, exp: c.exp}
+	m := &model{n: n, y: c.y, shift: sh, shiftRat: c.shift, scale: 1, ints: c.ints, exp: c.exp}
 	if d.Block != nil {
 		if len(d.Block.Values) != n {
 			return nil, fmt.Errorf("block column %q has %d values for %d observations", d.Block.Name, len(d.Block.Values), n)
@@ -175,15 +215,8 @@ func buildModel(d Data) (*model, error) {
 		if len(lv) < 2 {
 			return nil, fmt.Errorf("block column %q has only one block in the data: analyse without blocks", d.Block.Name)
 		}
-		size := make([]int, len(lv))
-		for _, b := range idx {
-			size[b]++
-		}
-		for b, n := range size {
-			if n < 2 {
-				return nil, fmt.Errorf("%s %s has a single unit: a block must hold at least two units to compare treatments within it; check the %s column", d.Block.Name, lv[b], d.Block.Name)
-			}
-		}
+		// A block with a single unit is fitted as the simulation's
+		// engine fits it: its own effect absorbs the unit (Run notes it).
 		m.blockL, m.blockI = lv, idx
 		m.terms = append(m.terms, modelTerm{name: d.Block.Name, block: true, df: len(lv) - 1})
 	}
@@ -250,6 +283,12 @@ func (m *model) codeTerm(dst []float64, t *modelTerm, b int, lv []int32) []float
 		for _, fi := range t.factors {
 			kron(int(lv[fi]), len(m.levels[fi]))
 		}
+	}
+	if t.keep != nil {
+		for a, c := range t.keep { // keep is increasing, so c ≥ a
+			dst[start+a] = dst[start+c]
+		}
+		dst = dst[:start+len(t.keep)]
 	}
 	return dst
 }
@@ -330,6 +369,11 @@ func (m *model) contains(a, b int) bool {
 var ErrEmptyCell = errors.New("analyze: empty cell")
 
 // Fit fits the full model to d and returns its ANOVA table.
+//
+// Sums of squares that are zero in exact arithmetic are reported as exactly
+// zero (see exact.go): a term with SS exactly 0 has F = 0 and p = 1, and when
+// the residual SS is exactly zero every F is undefined (NaN, with
+// Table.ExactFit set) instead of a ratio of rounding noise.
 func Fit(d Data, opt Options) (*Table, error) {
 	return fit(d, opt, absorbMin)
 }
@@ -345,6 +389,9 @@ func fit(d Data, opt Options, absorb int) (*Table, error) {
 	if opt.Alpha == 0 {
 		opt.Alpha = 0.05
 	}
+	if err := checkFactors(d); err != nil {
+		return nil, err
+	}
 	d, _, err := Average(d)
 	if err != nil {
 		return nil, err
@@ -353,72 +400,153 @@ func fit(d Data, opt Options, absorb int) (*Table, error) {
 	if err != nil {
 		return nil, err
 	}
+	m.rescale(d.Values)
 	cs := m.collapse()
 	m.ints = nil // the exact values live on in the cell sums
 	full := m.fitCells(cs, absorb)
-	ranges := full.ranges
 	p := 1
 	for _, t := range m.terms {
 		p += t.df
 	}
+	var untestable []bool
+	var dropped []string
 	if !full.full() {
-		var bad []string
-		for k, r := range ranges {
-			if r[1] > r[0] && full.qr.dependent(r[0], r[1]) {
-				bad = append(bad, m.terms[k].name)
-			}
+		if len(d.Factors) < 2 {
+			return nil, m.emptyCellError(full)
 		}
-		return nil, fmt.Errorf("%w: some combinations of levels have no observations, so these terms cannot be estimated: %s", ErrEmptyCell, strings.Join(bad, ", "))
+		pm, lost := m.pruned(cs, absorb)
+		bad := m.notTestable(lost)
+		kept := *pm
+		kept.terms = nil
+		for k, t := range pm.terms {
+			if t.df == 0 {
+				dropped = append(dropped, t.name)
+				continue
+			}
+			kept.terms = append(kept.terms, t)
+			untestable = append(untestable, bad[k])
+		}
+		m = &kept
+		full = m.fitCells(cs, absorb)
+		p = 1
+		for _, t := range m.terms {
+			p += t.df
+		}
+		if !full.full() {
+			return nil, m.emptyCellError(full)
+		}
+		m.emptyCells = true
 	}
 	n := m.n
 	resDF := n - p
 	if resDF < 1 {
 		return nil, fmt.Errorf("response %q: %d observations for %d parameters leave no residual degrees of freedom; at least 2 observations are needed in some group", d.Response, n, p)
 	}
-	t := &Table{Response: d.Response, SSType: opt.SSType, N: n, Alpha: opt.Alpha}
+	t := &Table{Response: d.Response, SSType: opt.SSType, N: n, Alpha: opt.Alpha, SSExp10: 2 * m.exp10, scale: m.scale, EmptyCells: m.emptyCells, NotEstimable: dropped}
 	t.Residual.DF = resDF
 	t.Residual.SS = full.resSS
-	t.Residual.MS = t.Residual.SS / float64(resDF)
 	t.TotalDF = n - 1
 	t.TotalSS = full.totalSS
+	all := make([]int, len(m.terms))
+	for i := range all {
+		all[i] = i
+	}
+	zj := newZeroJudge(m, cs, d.Values, t.TotalSS)
+	if zj.residualZero(all, t.Residual.SS) {
+		t.Residual.SS = 0
+		t.ExactFit = true
+	}
+	t.Residual.MS = t.Residual.SS / float64(resDF)
 
 	for k, term := range m.terms {
 		ss := full.ss(m, k, opt.SSType)
+		zero := zj.suspect(ss) && zj.termZero(m.ssOrder(k, opt.SSType), ss)
+		if zero {
+			ss = 0
+		}
 		df := term.df
-		row := Term{Source: term.name, DF: df, SS: ss, MS: ss / float64(df), Block: term.block, BlockInteraction: term.blockInt}
+		row := Term{Source: term.name, DF: df, SS: ss, MS: ss / float64(df), Block: term.block, BlockInteraction: term.blockInt, SSZero: zero}
 		for _, fi := range term.factors {
 			row.Factors = append(row.Factors, d.Factors[fi].Name)
 		}
-		row.F = row.MS / t.Residual.MS
-		row.P = distuv.F{D1: float64(df), D2: float64(resDF)}.Survival(row.F)
-		if t.Residual.MS == 0 {
-			row.F, row.P = math.Inf(1), 0
+		switch {
+		case t.ExactFit:
+			row.F, row.P = math.NaN(), math.NaN()
+			row.PartialEta2, row.PartialOmega2 = math.NaN(), math.NaN()
+		default:
+			row.F = row.MS / t.Residual.MS
+			row.P = prob.FSurvival(row.F, float64(df), float64(resDF))
+			row.PartialEta2 = ss / (ss + t.Residual.SS)
+			row.PartialOmega2 = (ss - float64(df)*t.Residual.MS) / (ss + float64(n-df)*t.Residual.MS)
 		}
-		row.PartialEta2 = ss / (ss + t.Residual.SS)
-		row.PartialOmega2 = (ss - float64(df)*t.Residual.MS) / (ss + float64(n-df)*t.Residual.MS)
+		if term.block {
+			// Blocks are a nuisance, not an effect of interest: no effect size.
+			row.PartialEta2, row.PartialOmega2 = math.NaN(), math.NaN()
+		}
+		row.ErrorTerm, row.ErrorDF = "residual", resDF
+		if untestable != nil && opt.SSType == 3 && untestable[k] {
+			row.SS, row.MS, row.F, row.P = math.NaN(), math.NaN(), math.NaN(), math.NaN()
+			row.PartialEta2, row.PartialOmega2 = math.NaN(), math.NaN()
+			row.NotTestable = "its Type III hypothesis (equal means averaged over every cell) involves the mean of an empty cell, which the data cannot estimate; Types I and II test the estimable hypotheses"
+		}
 		t.Terms = append(t.Terms, row)
 	}
+	t.ZeroRule = zj.rule
 	t.R2 = 1 - t.Residual.SS/t.TotalSS
-	t.ResidSD = math.Sqrt(t.Residual.MS)
-	t.GrandMean = shiftedMean(m.y, m.shift, nil)
+	if t.TotalSS == 0 {
+		t.R2 = math.NaN()
+	}
+	t.ResidSD = m.scale * math.Sqrt(t.Residual.MS)
+	t.GrandMean = m.shift + m.scale*(shiftedMean(m.y, 0, nil))
 	t.CV = 100 * t.ResidSD / math.Abs(t.GrandMean)
 	cellRes := full.cellResiduals(cs)
 	cellLev := full.cellLeverage(m, cs)
+	if t.ExactFit {
+		clear(cellRes)
+	}
 	t.Residuals = make([]float64, n)
 	t.Fitted = make([]float64, n)
 	t.Leverage = make([]float64, n)
 	for i, c := range cs.of {
 		e := m.y[i] - cs.mean[c] + cellRes[c]
-		t.Residuals[i] = e
-		t.Fitted[i] = m.y[i] - e + m.shift
+		if t.ExactFit {
+			e = 0
+		}
+		t.Residuals[i] = m.scale * e
+		t.Fitted[i] = m.shift + m.scale*(m.y[i]-e)
 		t.Leverage[i] = cellLev[c]
 	}
 	t.est = full.estimates(m)
 	t.m, t.cells = m, cs
-	if d.Block != nil && !d.BlockInteraction {
+	if d.Block != nil && !d.BlockInteraction && !t.ExactFit {
 		t.RelEfficiency = relEfficiency(t)
 	}
 	return t, nil
+}
+
+// ssOrder returns the terms in the order whose last term's sum of squares
+// is term k's of the given type: the terms before it (Type I), every term
+// not containing it (Type II) or every other term (Type III), then k.
+func (m *model) ssOrder(k, ssType int) []int {
+	var order []int
+	for j := range m.terms {
+		if ssType == 1 && j >= k || j == k || ssType == 2 && m.contains(j, k) {
+			continue
+		}
+		order = append(order, j)
+	}
+	return append(order, k)
+}
+
+// emptyCellError names the terms that cannot be estimated.
+func (m *model) emptyCellError(full *cellFit) error {
+	var bad []string
+	for k, r := range full.ranges {
+		if r[1] > r[0] && full.qr.dependent(r[0], r[1]) {
+			bad = append(bad, m.terms[k].name)
+		}
+	}
+	return fmt.Errorf("%w: some combinations of levels have no observations, so these terms cannot be estimated: %s", ErrEmptyCell, strings.Join(bad, ", "))
 }
 
 // relEfficiency returns the efficiency of the block design relative to a

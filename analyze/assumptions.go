@@ -5,6 +5,8 @@ import (
 	"slices"
 	"sort"
 
+	"github.com/allotproject/allot/prob"
+
 	"gonum.org/v1/gonum/stat/distuv"
 )
 
@@ -27,8 +29,23 @@ func ShapiroWilk(x []float64) (w, p float64, ok bool) {
 	}
 	y := append([]float64(nil), x...)
 	sort.Float64s(y)
+	for _, v := range y {
+		if math.IsNaN(v) || math.IsInf(v, 0) {
+			return math.NaN(), math.NaN(), false
+		}
+	}
 	if y[n-1]-y[0] < 1e-19*math.Abs(y[0]) || y[n-1] == y[0] {
 		return math.NaN(), math.NaN(), false
+	}
+	// W is unchanged by y ↦ (y − y_(1))/(y_(n) − y_(1)); the scaled values
+	// lie in [0, 1], so their squares neither underflow (data near 1e-300)
+	// nor overflow (near 1e154).
+	lo, rng := y[0], y[n-1]-y[0]
+	if math.IsInf(rng, 0) {
+		lo, rng = 0, math.Max(math.Abs(y[0]), math.Abs(y[n-1]))
+	}
+	for i := range y {
+		y[i] = (y[i] - lo) / rng
 	}
 	nn2 := n / 2
 	a := make([]float64, nn2+1) // 1-based as in AS R94
@@ -163,6 +180,23 @@ func brownForsythe(groups [][]float64) (f float64, df1, df2 int, p float64, ok b
 	if k < 2 || n <= k {
 		return math.NaN(), 0, 0, math.NaN(), false
 	}
+	// F is scale-free: scale the deviations by the largest, so that their
+	// squares neither underflow nor overflow.
+	var big0 float64
+	for _, d := range z {
+		for _, v := range d {
+			big0 = math.Max(big0, v)
+		}
+	}
+	if big0 == 0 || math.IsNaN(big0) || math.IsInf(big0, 0) {
+		return math.NaN(), k - 1, n - k, math.NaN(), false
+	}
+	for _, d := range z {
+		for i := range d {
+			d[i] /= big0
+		}
+	}
+	grand /= big0
 	grand /= float64(n)
 	var ssb, ssw float64
 	for _, d := range z {
@@ -181,6 +215,6 @@ func brownForsythe(groups [][]float64) (f float64, df1, df2 int, p float64, ok b
 	}
 	df1, df2 = k-1, n-k
 	f = (ssb / float64(df1)) / (ssw / float64(df2))
-	p = distuv.F{D1: float64(df1), D2: float64(df2)}.Survival(f)
+	p = prob.FSurvival(f, float64(df1), float64(df2))
 	return f, df1, df2, p, true
 }

@@ -293,7 +293,6 @@ type cellFit struct {
 	resSS     float64
 	totalSS   float64
 	grand     float64
-	cellRes   []float64 // per cell: ȳ_c − fitted_c
 	// Absorbed blocks: per block the count, centred mean and mean of each
 	// treatment column.
 	nb    []int

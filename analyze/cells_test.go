@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"math"
 	"strconv"
+	"strings"
 	"testing"
 
 	"golang.org/x/exp/rand"
@@ -168,6 +169,77 @@ func TestMedianIndex(t *testing.T) {
 			if want := idx[n/2]; got != want {
 				t.Fatalf("n=%d: median index %d, want %d (%v)", n, got, want, x)
 			}
+		}
+	}
+}
+
+// TestAbsorbedEmptyCells: with a treatment combination missing from every
+// block, the pruned model (dependent interaction columns removed) is the
+// same whether the blocks are coded or absorbed: the same df and Type I
+// and II sums of squares, and Type III marks the same terms untestable.
+func TestAbsorbedEmptyCells(t *testing.T) {
+	full := blockData(20, []int{3, 2}, 0.1, 11)
+	var d Data
+	d.Response, d.Block = full.Response, &Column{Name: "block"}
+	d.Factors = []Column{{Name: "F1"}, {Name: "F2"}}
+	for i, v := range full.Values {
+		if full.Factors[0].Values[i] == "L2" && full.Factors[1].Values[i] == "L1" {
+			continue // the cell L2 × L1 is empty throughout
+		}
+		d.Values = append(d.Values, v)
+		d.Block.Values = append(d.Block.Values, full.Block.Values[i])
+		for f := range d.Factors {
+			d.Factors[f].Values = append(d.Factors[f].Values, full.Factors[f].Values[i])
+		}
+	}
+	for ss := 1; ss <= 3; ss++ {
+		coded, err := fit(d, Options{SSType: ss}, math.MaxInt)
+		if err != nil {
+			t.Fatal(err)
+		}
+		abs, err := fit(d, Options{SSType: ss}, 2)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if !coded.EmptyCells || !abs.EmptyCells {
+			t.Fatalf("type %d: empty cells not detected (coded %v, absorbed %v)", ss, coded.EmptyCells, abs.EmptyCells)
+		}
+		if len(abs.Terms) != len(coded.Terms) || abs.Residual.DF != coded.Residual.DF {
+			t.Fatalf("type %d: %d terms, residual df %d absorbed; %d, %d coded", ss, len(abs.Terms), abs.Residual.DF, len(coded.Terms), coded.Residual.DF)
+		}
+		for k, c := range coded.Terms {
+			a := abs.Terms[k]
+			if a.DF != c.DF || (a.NotTestable == "") != (c.NotTestable == "") {
+				t.Errorf("type %d %s: df %d/%d, untestable %q/%q", ss, c.Source, a.DF, c.DF, a.NotTestable, c.NotTestable)
+			}
+			if c.NotTestable == "" && math.Abs(a.SS-c.SS) > 1e-9*math.Max(1, c.SS) {
+				t.Errorf("type %d %s: SS %.12g absorbed, %.12g coded", ss, c.Source, a.SS, c.SS)
+			}
+		}
+		if math.Abs(abs.Residual.SS-coded.Residual.SS) > 1e-9*coded.Residual.SS {
+			t.Errorf("type %d: residual SS %.12g, %.12g", ss, abs.Residual.SS, coded.Residual.SS)
+		}
+	}
+}
+
+// TestLargeRCBDLevene: the Monte-Carlo Levene p-value of complete block
+// designs is simulated up to mcLeveneUnits units; a larger design keeps the
+// (conservative) F reference and says so, so that its cost stays linear.
+func TestLargeRCBDLevene(t *testing.T) {
+	for _, tt := range []struct {
+		blocks int
+		mc     bool
+	}{{10, true}, {mcLeveneUnits/4 + 1, false}} {
+		res, err := Run(blockData(tt.blocks, []int{4}, 0, 5), RunOptions{})
+		if err != nil {
+			t.Fatal(err)
+		}
+		name := res.Assumptions.LeveneName
+		if got := strings.Contains(name, "null draws"); got != tt.mc {
+			t.Errorf("%d blocks: variance test %q", tt.blocks, name)
+		}
+		if !(res.Assumptions.LeveneP > 0 && res.Assumptions.LeveneP <= 1) {
+			t.Errorf("%d blocks: p = %g", tt.blocks, res.Assumptions.LeveneP)
 		}
 	}
 }

@@ -36,6 +36,22 @@ type Data struct {
 	// Units and Where identify each observation (unit ID; for example
 	// `Entry!F7`), for listing unusual residuals. Either may be nil.
 	Units, Where []string
+	// Lost lists the enrolled units that are not among the observations
+	// (no value, or excluded), for the loss table. Nil when the reader
+	// knows of none.
+	Lost []LostUnit
+}
+
+// LostUnit is an enrolled unit with no analysed value.
+type LostUnit struct {
+	Unit string
+	// Levels holds the unit's level of each factor, in Data.Factors order.
+	Levels []string
+	// Status is "lost" (no value; also when empty) or "excluded" (a value
+	// was recorded and set aside, for example by protocol).
+	Status string
+	// Reason is the recorded reason, if any.
+	Reason string
 }
 
 // levels returns the level order of c and the index of each observation.

@@ -47,15 +47,6 @@ func fitQR(x []float64, n, p int, y []float64) *qrFit {
 	return f
 }
 
-// ss returns the sum of squares of Qᵀy over rows [from, to).
-func (f *qrFit) ss(from, to int) float64 {
-	var s float64
-	for _, v := range f.qty[from:to] {
-		s += v * v
-	}
-	return s
-}
-
 // dependent reports whether any column in [from, to) is linearly dependent on
 // the columns before it.
 func (f *qrFit) dependent(from, to int) bool {

@@ -7,6 +7,7 @@ type estimates struct {
 	b      []float64
 	cov    [][]float64 // (XᵀX)⁻¹ = R⁻¹R⁻ᵀ
 	shift  float64
+	scale  float64
 	main   map[int][2]int    // factor index → column range of its main effect
 	pair   map[[2]int][2]int // factors (i < j) → column range of their interaction
 	levels [][]string
@@ -15,7 +16,7 @@ type estimates struct {
 }
 
 func newEstimates(m *model, b []float64, cov [][]float64, ranges [][2]int) *estimates {
-	e := &estimates{b: b, cov: cov, shift: m.shift, main: map[int][2]int{}, pair: map[[2]int][2]int{}, levels: m.levels}
+	e := &estimates{b: b, cov: cov, shift: m.shift, scale: m.scale, main: map[int][2]int{}, pair: map[[2]int][2]int{}, levels: m.levels}
 	for k, t := range m.terms {
 		switch {
 		case t.block || t.blockInt:
@@ -79,7 +80,7 @@ func (t *Table) LSCells() []LSMean {
 			for i := range c {
 				m += c[i] * e.b[i]
 			}
-			out = append(out, LSMean{Level: a + " × " + b, Mean: e.shift + m, SE: math.Sqrt(t.Residual.MS * e.quad(c))})
+			out = append(out, LSMean{Level: a + " × " + b, Mean: e.shift + e.scale*m, SE: t.ResidSD * math.Sqrt(e.quad(c))})
 		}
 	}
 	return out
@@ -133,7 +134,7 @@ func (t *Table) LSMeans(fi int) []LSMean {
 		for i := range c {
 			m += c[i] * e.b[i]
 		}
-		out = append(out, LSMean{Level: name, Mean: e.shift + m, SE: math.Sqrt(t.Residual.MS * e.quad(c))})
+		out = append(out, LSMean{Level: name, Mean: e.shift + e.scale*m, SE: t.ResidSD * math.Sqrt(e.quad(c))})
 	}
 	return out
 }
@@ -146,5 +147,5 @@ func (t *Table) DiffSE(fi, a, b int) float64 {
 	for i := range ca {
 		ca[i] -= cb[i]
 	}
-	return math.Sqrt(t.Residual.MS * e.quad(ca))
+	return t.ResidSD * math.Sqrt(e.quad(ca))
 }

@@ -2,6 +2,7 @@ package analyze
 
 import (
 	"math"
+	"strconv"
 	"strings"
 	"testing"
 )
@@ -21,7 +22,7 @@ func TestHolmAdjust(t *testing.T) {
 }
 
 func TestLetters(t *testing.T) {
-	g := []Group{{Level: "A", Mean: 30}, {Level: "B", Mean: 20}, {Level: "C", Mean: 10}, {Level: "D", Mean: 5}}
+	g := []Group{{Level: "A", LSMean: 30}, {Level: "B", LSMean: 20}, {Level: "C", LSMean: 10}, {Level: "D", LSMean: 5}}
 	tests := []struct {
 		name string
 		sig  [][2]int
@@ -169,8 +170,36 @@ func TestFitErrors(t *testing.T) {
 		empty.Factors[1].Values = append(empty.Factors[1].Values, c[1])
 		empty.Values = append(empty.Values, c[2])
 	}
-	if _, err := Fit(empty, Options{}); err == nil || !strings.Contains(err.Error(), "cannot be estimated: A × B") {
-		t.Errorf("empty cell: %v", err)
+	// An empty cell: Types I and II of the main effects are estimable (and
+	// equal, by hand, to those of the additive model A + B); A × B is left
+	// out; Type III says A and B are not testable.
+	// Source: testdata/reference/extras.json "empty_cell" (statsmodels
+	// anova_lm of y ~ A + B, gen_extras.py): SS, F, p to 1e-10.
+	ref := loadExtras(t).EmptyCell
+	for typ := 1; typ <= 3; typ++ {
+		tab, err := Fit(empty, Options{SSType: typ})
+		if err != nil {
+			t.Fatalf("type %d: %v", typ, err)
+		}
+		if len(tab.Terms) != 2 || len(tab.NotEstimable) != 1 || tab.NotEstimable[0] != "A × B" || !tab.EmptyCells {
+			t.Fatalf("type %d: terms %+v, not estimable %v", typ, tab.Terms, tab.NotEstimable)
+		}
+		for _, r := range tab.Terms {
+			if typ == 3 && (r.NotTestable == "" || !math.IsNaN(r.F)) || typ < 3 && (r.NotTestable != "" || math.IsNaN(r.F)) {
+				t.Errorf("type %d %s: F %g, not testable %q", typ, r.Source, r.F, r.NotTestable)
+			}
+		}
+		if typ < 3 {
+			for i, w := range ref[strconv.Itoa(typ)] {
+				r := tab.Terms[i]
+				if !near(r.SS, w.SS, 1e-10, 1e-12) || !near(r.F, w.F, 1e-10, 0) || !near(r.P, w.P, 1e-10, 0) {
+					t.Errorf("type %d %s: SS %g F %g p %g; statsmodels %g %g %g", typ, r.Source, r.SS, r.F, r.P, w.SS, w.F, w.P)
+				}
+			}
+		}
+	}
+	if res, err := Run(empty, RunOptions{Options: Options{SSType: 2}}); err != nil || !strings.Contains(strings.Join(res.Notes, " "), "empty cells") {
+		t.Errorf("Run with an empty cell: %v", err)
 	}
 }
 

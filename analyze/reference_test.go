@@ -212,8 +212,8 @@ func TestLSMeansAgainstStatsmodels(t *testing.T) {
 				t.Fatal(err)
 			}
 			for i, g := range res.Groups[0] {
-				if !near(g.Mean, got[i].Mean, 1e-12, 1e-12) {
-					t.Errorf("Run reports mean %g for %s, LS mean %g", g.Mean, g.Level, got[i].Mean)
+				if !near(g.LSMean, got[i].Mean, 1e-12, 1e-12) || !near(g.SE, got[i].SE, 1e-12, 1e-15) {
+					t.Errorf("Run reports LS mean %g (SE %g) for %s, LS mean %g (SE %g)", g.LSMean, g.SE, g.Level, got[i].Mean, got[i].SE)
 				}
 			}
 			cells := tab.LSCells()

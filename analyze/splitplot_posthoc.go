@@ -22,6 +22,10 @@ func SplitPlotTukey(d SplitPlot, res *SplitPlotResult, alpha float64) ([]*PostHo
 		if err != nil {
 			return nil, err
 		}
+		// Balanced: each level's least-squares mean is its mean.
+		for i := range g {
+			g[i].LSMean = g[i].Mean
+		}
 		t := &Table{Alpha: alpha, Residual: Residual{DF: int(se.DF)}}
 		ph := tukeyGroups(g, t, c.Name, func(i, j int) float64 { return se.SE })
 		ph.Within = within

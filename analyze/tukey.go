@@ -4,17 +4,27 @@ import (
 	"fmt"
 	"math"
 
+	"gonum.org/v1/gonum/stat/distuv"
+
 	"github.com/allotproject/allot/prob"
 )
 
-// Group is a level of a factor with its observations' summary.
+// Group is a level of a term with its observations' summary and its
+// least-squares mean.
 type Group struct {
+	// Term names the factor (or the combination of factors) the level
+	// belongs to.
+	Term  string  `json:"term"`
 	Level string  `json:"level"`
 	N     int     `json:"n"`
-	Mean  float64 `json:"mean"`
+	Mean  float64 `json:"mean"` // raw mean of the observations
 	SD    float64 `json:"sd"`
-	// Lower and Upper bound the 95% confidence interval of the mean from
-	// the fitted model's error, mean ± t_{.975, df}·sqrt(MSe/n) (set by Run).
+	// LSMean is the least-squares mean (equal to Mean in a balanced
+	// design) and SE its standard error from the model's error.
+	LSMean float64 `json:"ls_mean"`
+	SE     float64 `json:"se"`
+	// Lower and Upper bound the 95% confidence interval of the LS mean,
+	// LSMean ± t_{.975, df}·SE (set by lsGroups).
 	Lower float64 `json:"ci_lower"`
 	Upper float64 `json:"ci_upper"`
 }
@@ -41,15 +51,41 @@ type PostHoc struct {
 	// Dunnett and Holm's Bonferroni intervals).
 	Crit     float64      `json:"critical_value"`
 	StatName string       `json:"statistic"`
-	Groups   []Group      `json:"groups"`
+	Groups   []Group      `json:"-"`
 	Pairs    []Comparison `json:"pairs"`
 	Control  string       `json:"control,omitempty"`
 	// Letters is the compact letter display, one entry per group (all-pairs
 	// methods only).
-	Letters []string `json:"letters,omitempty"`
+	Letters []string `json:"-"`
+	// LetterDisplay is Letters with the level each belongs to.
+	LetterDisplay []LevelLetters `json:"letters,omitempty"`
+	// Family describes the family of comparisons, ErrorRate the error
+	// rate the method controls over it, and Note what to bear in mind
+	// (the F test was not significant; an interaction is significant).
+	Family    string   `json:"family"`
+	ErrorRate string   `json:"error_rate"`
+	Notes     []string `json:"notes,omitempty"`
+	// Intervals names the kind of intervals (simultaneous, Bonferroni).
+	Intervals string `json:"intervals"`
+	// ErrorBound is the stated absolute error bound of the p-values when
+	// they come from randomised quasi-Monte-Carlo integration (Dunnett with
+	// general correlations), 0 otherwise.
+	ErrorBound float64 `json:"p_error_bound,omitempty"`
 	// Within names the level of another factor when these are simple
 	// effects ("N1" for comparisons of K within N = N1).
 	Within string `json:"within,omitempty"`
+}
+
+// LevelLetters is the compact-letter entry of one level.
+type LevelLetters struct {
+	Term    string `json:"term"`
+	Level   string `json:"level"`
+	Letters string `json:"letters"`
+}
+
+// tCrit975 is the 97.5% point of t on the table's error df.
+func tCrit975(t *Table) float64 {
+	return distuv.StudentsT{Mu: 0, Sigma: 1, Nu: float64(t.Residual.DF)}.Quantile(0.975)
 }
 
 // Summaries returns the level summaries of factor fi of d.
@@ -72,18 +108,26 @@ func Summaries(d Data, fi int) ([]Group, error) {
 	}
 	out := make([]Group, len(lv))
 	for l, ms := range members {
-		var m float64
+		var m, big0 float64
 		for _, i := range ms {
 			m += y[i]
 		}
 		m /= float64(len(ms))
-		var ss float64
 		for _, i := range ms {
-			ss += (y[i] - m) * (y[i] - m)
+			big0 = math.Max(big0, math.Abs(y[i]-m))
 		}
-		g := Group{Level: lv[l], N: len(ms), Mean: shiftedMean(y, sh, ms), SD: math.NaN()}
+		var ss float64
+		if big0 > 0 {
+			// Scaled by the largest deviation, so that data near 1e-300
+			// or 1e200 do not underflow or overflow when squared.
+			for _, i := range ms {
+				v := (y[i] - m) / big0
+				ss += v * v
+			}
+		}
+		g := Group{Term: d.Factors[fi].Name, Level: lv[l], N: len(ms), Mean: shiftedMean(y, sh, ms), SD: math.NaN(), LSMean: math.NaN(), SE: math.NaN(), Lower: math.NaN(), Upper: math.NaN()}
 		if len(ms) > 1 {
-			g.SD = math.Sqrt(ss / float64(len(ms)-1))
+			g.SD = big0 * math.Sqrt(ss/float64(len(ms)-1))
 		}
 		out[l] = g
 	}
@@ -110,8 +154,10 @@ func Tukey(d Data, t *Table, fi int) (*PostHoc, error) {
 
 // summaries returns the count, mean and SD of the observations in each
 // group g[i] ∈ [0, len(names)), means with Neumaier's compensated sums and
-// SDs by two passes; a group without observations has N 0 and NaN mean.
-func (m *model) summaries(g []int32, names []string) []Group {
+// SDs by two passes (in the scaled units of m.y, multiplied back by
+// m.scale); a group without observations has N 0 and NaN mean. term names
+// the groups' term; the LS mean, its SE and interval are left NaN.
+func (m *model) summaries(g []int32, names []string, term string) []Group {
 	k := len(names)
 	sums := make([]neumaier, k)
 	count := make([]int, k)
@@ -130,9 +176,9 @@ func (m *model) summaries(g []int32, names []string) []Group {
 	}
 	out := make([]Group, k)
 	for l := range out {
-		out[l] = Group{Level: names[l], N: count[l], Mean: m.shift + mean[l], SD: math.NaN()}
+		out[l] = Group{Term: term, Level: names[l], N: count[l], Mean: m.shift + m.scale*mean[l], SD: math.NaN(), LSMean: math.NaN(), SE: math.NaN(), Lower: math.NaN(), Upper: math.NaN()}
 		if count[l] > 1 {
-			out[l].SD = math.Sqrt(sums[l].sum() / float64(count[l]-1))
+			out[l].SD = m.scale * math.Sqrt(sums[l].sum()/float64(count[l]-1))
 		}
 	}
 	return out
@@ -151,7 +197,7 @@ func lsGroups(d Data, t *Table, fi int) ([]Group, func(i, j int) float64, error)
 			t.sums = make([][]Group, len(t.m.index))
 		}
 		if t.sums[fi] == nil {
-			t.sums[fi] = t.m.summaries(t.m.index[fi], t.m.levels[fi])
+			t.sums[fi] = t.m.summaries(t.m.index[fi], t.m.levels[fi], d.Factors[fi].Name)
 		}
 		groups = append([]Group(nil), t.sums[fi]...)
 	} else if groups, err = Summaries(d, fi); err != nil {
@@ -161,8 +207,10 @@ func lsGroups(d Data, t *Table, fi int) ([]Group, func(i, j int) float64, error)
 	if len(ls) != len(groups) {
 		return nil, nil, fmt.Errorf("factor %s: %d levels in the data, %d in the model", d.Factors[fi].Name, len(groups), len(ls))
 	}
+	tq := tCrit975(t)
 	for i := range groups {
-		groups[i].Mean = ls[i].Mean
+		groups[i].LSMean, groups[i].SE = ls[i].Mean, ls[i].SE
+		groups[i].Lower, groups[i].Upper = ls[i].Mean-tq*ls[i].SE, ls[i].Mean+tq*ls[i].SE
 	}
 	return groups, func(i, j int) float64 { return t.DiffSE(fi, i, j) }, nil
 }
@@ -171,7 +219,7 @@ func lsGroups(d Data, t *Table, fi int) ([]Group, func(i, j int) float64, error)
 // table's error: sqrt(MSe (1/n_i + 1/n_j)).
 func rawSE(groups []Group, t *Table) func(i, j int) float64 {
 	return func(i, j int) float64 {
-		return math.Sqrt(t.Residual.MS * (1/float64(groups[i].N) + 1/float64(groups[j].N)))
+		return t.ResidSD * math.Sqrt(1/float64(groups[i].N)+1/float64(groups[j].N))
 	}
 }
 
@@ -219,12 +267,16 @@ func tukeyGroups(groups []Group, t *Table, term string, se func(i, j int) float6
 	sr := t.studentizedRange(len(groups))
 	ph := &PostHoc{Method: "Tukey HSD", Term: term, Alpha: t.Alpha, DF: t.Residual.DF, Groups: groups, StatName: "q"}
 	ph.Crit = t.rangeCrit(len(groups), sr)
+	m := len(groups) * (len(groups) - 1) / 2
+	ph.Family = fmt.Sprintf("all %d pairwise differences of the means of %s", m, term)
+	ph.ErrorRate = fmt.Sprintf("familywise error rate at most α = %s (exact for equal groups, conservative otherwise: Tukey–Kramer)", fmtAlpha(t.Alpha))
+	ph.Intervals = fmt.Sprintf("%s%% simultaneous confidence intervals", fmtAlpha(100*(1-t.Alpha)))
 	for i := 0; i < len(groups); i++ {
 		for j := i + 1; j < len(groups); j++ {
 			a, b := groups[i], groups[j]
 			// The studentized range is in units of SE/√2.
 			s := se(i, j) / math.Sqrt2
-			c := Comparison{A: a.Level, B: b.Level, Pair: a.Level + " − " + b.Level, Diff: a.Mean - b.Mean, SE: se(i, j)}
+			c := Comparison{A: a.Level, B: b.Level, Pair: a.Level + " − " + b.Level, Diff: a.LSMean - b.LSMean, SE: se(i, j)}
 			c.Q = math.Abs(c.Diff) / s
 			c.P = sr.Survival(c.Q)
 			c.Lower, c.Upper = c.Diff-ph.Crit*s, c.Diff+ph.Crit*s

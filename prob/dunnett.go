@@ -89,6 +89,68 @@ func (d Dunnett) CDF(c float64) float64 {
 	return clamp01(v + sTail*d.inner(nodes, c*sd.hi))
 }
 
+// innerTail returns ∫ φ(z) (1 − Π_i P_i(z, w)) dz with the complement
+// formed as −expm1(Σ_i log1p(−Q_i)), Q_i = 1 − P_i from erfc, so that it
+// keeps its digits when it is small.
+func (d Dunnett) innerTail(nodes rangeNodes, w float64) float64 {
+	var v float64
+	for i, z := range nodes.z {
+		var lg float64
+		for _, l := range d.Lambda {
+			r := math.Sqrt(1 - l*l)
+			q := 0.5 * math.Erfc((l*z+w)/r/math.Sqrt2)
+			if d.Sides == 2 {
+				q += 0.5 * math.Erfc(-(l*z-w)/r/math.Sqrt2)
+			}
+			lg += math.Log1p(-math.Min(q, 1))
+		}
+		v += nodes.c[i] * -math.Expm1(lg)
+	}
+	return clamp01(v)
+}
+
+// Survival returns P(max T > c) (one-sided) or P(max |T| > c) (two-sided),
+// the adjusted p-value, computed directly from the complement of the
+// inner product (innerTail) and an outer integral from s = 0 to a relative
+// tolerance of 1e-9 (as StudentizedRange.Survival), not as 1 − CDF(c), so
+// small p-values keep their digits. Accuracy: 1e-13 relative against
+// 30-digit mpmath for tails from 0.05 down to 1e-14 (testdata/reference/
+// tails_mpmath.tsv).
+func (d Dunnett) Survival(c float64) float64 {
+	if !d.valid() || math.IsNaN(c) {
+		return math.NaN()
+	}
+	if c <= 0 && d.Sides == 2 {
+		return 1
+	}
+	if math.IsInf(c, 1) {
+		return 0
+	}
+	if math.IsInf(c, -1) {
+		return 1
+	}
+	rule := newGaussRule(16)
+	var lmax float64
+	for _, l := range d.Lambda {
+		lmax = math.Max(lmax, l)
+	}
+	span := func(w float64) rangeNodes {
+		z := math.Max(rangeZHi, math.Ceil(lmax*w+6)+0.5)
+		return newRangeNodesOn(rule, -z, z)
+	}
+	if math.IsInf(d.Nu, 1) {
+		return d.innerTail(span(c), c)
+	}
+	sd := newScaleDensity(d.Nu)
+	nodes := span(c * sd.hi)
+	if c < 0 {
+		// One-sided with a negative threshold: the tail is large, and the
+		// CDF route is accurate.
+		return 1 - d.CDF(c)
+	}
+	return sd.expectTail(rule, func(s float64) float64 { return d.innerTail(nodes, c*s) })
+}
+
 // Quantile returns the critical value c with CDF(c) = p, 0 < p < 1.
 func (d Dunnett) Quantile(p float64) float64 {
 	if !d.valid() || !(p > 0 && p < 1) {

@@ -3,6 +3,7 @@ package report
 import (
 	"fmt"
 	"io"
+	"math"
 	"strings"
 
 	"github.com/allotproject/allot/analyze"
@@ -27,13 +28,29 @@ func (a Analysis) anovaTable() table {
 		right: []bool{false, true, true, true, true, true, true},
 	}
 	for _, r := range t.Terms {
-		tb.rows = append(tb.rows, []string{r.Source, fmt.Sprint(r.DF), num(r.SS, 5), num(r.MS, 5), num(r.F, 4), pval(r.P), fixed(r.PartialEta2, 3)})
+		f, p := num(r.F, 4), pval(r.P)
+		if t.ExactFit {
+			f, p = "undefined", "–"
+		}
+		eta := fixed(r.PartialEta2, 3)
+		if r.Block {
+			eta = ""
+		}
+		tb.rows = append(tb.rows, []string{r.Source, fmt.Sprint(r.DF), ssNum(r.SS, r.SSZero), ssNum(r.MS, r.SSZero), f, p, eta})
 	}
 	tb.rows = append(tb.rows,
-		[]string{"residual", fmt.Sprint(t.Residual.DF), num(t.Residual.SS, 5), num(t.Residual.MS, 5), "", "", ""},
-		[]string{"total (corrected)", fmt.Sprint(t.TotalDF), num(t.TotalSS, 5), "", "", "", ""},
+		[]string{"residual", fmt.Sprint(t.Residual.DF), ssNum(t.Residual.SS, t.ExactFit), ssNum(t.Residual.MS, t.ExactFit), "", "", ""},
+		[]string{"total", fmt.Sprint(t.TotalDF), num(t.TotalSS, 5), "", "", "", ""},
 	)
 	return tb
+}
+
+// ssNum writes a sum of squares, "0 (exact)" when it is exactly zero.
+func ssNum(x float64, exact bool) string {
+	if exact && x == 0 {
+		return "0 (exact)"
+	}
+	return num(x, 5)
 }
 
 func ssTypeText(k int) string {
@@ -58,21 +75,34 @@ func (a Analysis) summaryLines() []string {
 		lines = append(lines, fmt.Sprintf("Subsamples: %d measurements on %d units (%s per unit) were averaged to the unit, the unit of analysis; variance between subsamples of a unit %s (df %d).",
 			s.Measurements, s.Units, per, num(s.Variance, 4), s.DF))
 	}
-	if t.RelEfficiency > 0 {
+	if t.SSExp10 != 0 {
+		lines = append(lines, fmt.Sprintf("The values are of order 1e%d: the SS and MS columns are in units of 1e%d (the response unit squared), because the plain squares would underflow or overflow; F, p and every mean, SD and interval are unaffected.", t.SSExp10/2, t.SSExp10))
+	}
+	for _, r := range t.Terms {
+		if r.NotTestable != "" {
+			lines = append(lines, fmt.Sprintf("%s: not testable — %s.", r.Source, r.NotTestable))
+		}
+		if r.ErrorTerm != "" && r.ErrorTerm != "residual" {
+			lines = append(lines, fmt.Sprintf("F for %s uses the %s mean square as its error (df %d).", r.Source, r.ErrorTerm, r.ErrorDF))
+		}
+	}
+	if t.RelEfficiency > 0 && !math.IsInf(t.RelEfficiency, 0) {
 		lines = append(lines, fmt.Sprintf("Relative efficiency of blocking by %s: %s (a completely randomised layout would have needed about %s times as many units for the same precision; Cochran and Cox 1957).",
 			a.BlockName, num(t.RelEfficiency, 3), num(t.RelEfficiency, 2)))
 	}
 	return lines
 }
 
-func groupTable(gs []analyze.Group, letters []string) table {
-	tb := table{head: []string{"level", "n", "mean", "SD"}, right: []bool{false, true, true, true}}
+// meansTable is the means table of one term: n, raw mean, SD, LS mean,
+// its SE and 95% confidence interval, and the letters when given.
+func meansTable(gs []analyze.Group, letters []string) table {
+	tb := table{head: []string{"level", "n", "mean", "SD", "LS mean", "SE", "95% CI"}, right: []bool{false, true, true, true, true, true, false}}
 	if letters != nil {
 		tb.head = append(tb.head, "group")
 		tb.right = append(tb.right, false)
 	}
 	for i, g := range gs {
-		row := []string{g.Level, fmt.Sprint(g.N), num(g.Mean, 5), num(g.SD, 4)}
+		row := []string{g.Level, fmt.Sprint(g.N), num(g.Mean, 5), num(g.SD, 4), num(g.LSMean, 5), num(g.SE, 4), num(g.Lower, 5) + " to " + num(g.Upper, 5)}
 		if letters != nil {
 			row = append(row, letters[i])
 		}
@@ -94,14 +124,27 @@ func postHocTitle(ph *analyze.PostHoc) string {
 	if ph.Within != "" {
 		s += " within " + ph.Within
 	}
-	return fmt.Sprintf("%s: %s%% simultaneous intervals, df %d, critical %s %s", s, short(100*(1-ph.Alpha)), ph.DF, ph.StatName, num(ph.Crit, 4))
+	return fmt.Sprintf("%s: %s, df %d, critical %s %s", s, ph.Intervals, ph.DF, ph.StatName, num(ph.Crit, 4))
+}
+
+// postHocLines states the family, the error rate and the notes of a set
+// of comparisons.
+func postHocLines(ph *analyze.PostHoc) []string {
+	var out []string
+	if ph.Family != "" {
+		out = append(out, fmt.Sprintf("Family: %s. Error rate controlled: %s. p-values are adjusted for the family.", ph.Family, ph.ErrorRate))
+	}
+	if ph.ErrorBound > 0 {
+		out = append(out, fmt.Sprintf("p-values are within ±%.1g (randomised quasi-Monte-Carlo error bound).", ph.ErrorBound))
+	}
+	return append(out, ph.Notes...)
 }
 
 func letterNote(ph *analyze.PostHoc) string {
 	if ph.Letters == nil {
 		return ""
 	}
-	return fmt.Sprintf("Levels sharing a letter in the group column do not differ at α = %s.", short(ph.Alpha))
+	return fmt.Sprintf("Levels sharing a letter in the group column are not significantly different at α = %s (which is not evidence that they are equal).", short(ph.Alpha))
 }
 
 func outlierTable(os []analyze.Outlier) table {
@@ -118,8 +161,18 @@ func outlierTable(os []analyze.Outlier) table {
 func (a Analysis) Reading() []string {
 	t := a.Table
 	var out []string
+	if t.ExactFit {
+		return []string{"No F test can be read: the residual variation is exactly zero, so every F is undefined (0/0 or a difference divided by nothing). The data neither show nor rule out differences; see the note above."}
+	}
 	for _, r := range t.Terms {
-		stat := fmt.Sprintf("F(%d, %d) = %s, p %s", r.DF, t.Residual.DF, num(r.F, 4), pvalPhrase(r.P))
+		edf := t.Residual.DF
+		if r.ErrorDF > 0 {
+			edf = r.ErrorDF
+		}
+		stat := fmt.Sprintf("F(%d, %d) = %s, p %s", r.DF, edf, num(r.F, 4), pvalPhrase(r.P))
+		if r.SSZero {
+			stat = fmt.Sprintf("SS exactly 0, F(%d, %d) = 0, p = 1", r.DF, edf)
+		}
 		switch {
 		case r.BlockInteraction:
 			verdict := "the data are consistent with the same treatment effect in every " + a.BlockName
@@ -168,45 +221,176 @@ func (a Analysis) Cautions() []string {
 	return c
 }
 
+// block is one part of a rendered analysis: a heading, paragraphs and an
+// optional table.
+type block struct {
+	title string
+	lines []string
+	tab   *table
+	// bullets renders lines as a list (Markdown, HTML).
+	bullets bool
+}
+
+// blocks lays out the analysis in reading order: model, ANOVA, means,
+// simple effects, comparisons, trends, losses, notes, checks, reading,
+// cautions.
+func (a Analysis) blocks() []block {
+	t := a.Table
+	var out []block
+	anova := a.anovaTable()
+	head := []string{ssTypeText(t.SSType) + "."}
+	if a.Model != "" {
+		head = append(head, a.Model)
+	}
+	out = append(out, block{title: "Analysis of variance: " + t.Response, lines: head, tab: &anova})
+	out = append(out, block{lines: a.summaryLines()})
+	letters := map[string][]string{}
+	for _, ph := range a.PostHoc {
+		if ph.Letters != nil {
+			letters[ph.Term] = ph.Letters
+		}
+	}
+	for _, gs := range a.Groups {
+		if len(gs) == 0 {
+			continue
+		}
+		mt := meansTable(gs, letters[gs[0].Term])
+		b := block{title: "Means of " + gs[0].Term, tab: &mt}
+		for _, ph := range a.PostHoc {
+			if ph.Term == gs[0].Term {
+				if n := letterNote(ph); n != "" {
+					b.lines = append(b.lines, n)
+				}
+			}
+		}
+		b.lines = append(b.lines, fmt.Sprintf("95%% confidence intervals of the LS means use the model's error (df %d).", t.Residual.DF))
+		out = append(out, b)
+	}
+	for _, ph := range a.Simple {
+		mt := meansTable(ph.Groups, ph.Letters)
+		out = append(out, block{title: fmt.Sprintf("Simple effects: %s within %s", ph.Term, ph.Within), tab: &mt, lines: nonEmpty(letterNote(ph))})
+		pt := pairTable(ph)
+		out = append(out, block{lines: append([]string{postHocTitle(ph)}, postHocLines(ph)...), tab: &pt})
+	}
+	for _, ph := range a.PostHoc {
+		pt := pairTable(ph)
+		out = append(out, block{title: fmt.Sprintf("Comparisons of %s (%s)", ph.Term, ph.Method), lines: append([]string{postHocTitle(ph)}, postHocLines(ph)...), tab: &pt})
+	}
+	for _, tr := range a.Trends {
+		tt := trendTable(tr)
+		out = append(out, block{title: "Trend contrasts of " + tr.Term, lines: []string{tr.Note}, tab: &tt})
+	}
+	if l := a.Losses; l != nil {
+		lt := lossTable(l)
+		b := block{title: "Units enrolled, lost, excluded and analysed", tab: &lt}
+		for _, r := range l.Rows {
+			for _, why := range r.Reasons {
+				b.lines = append(b.lines, r.Treatment+" — "+why)
+			}
+		}
+		if l.Test != nil {
+			b.lines = append(b.lines, fmt.Sprintf("%s: χ² = %s, df %d, p %s.", l.Test.Name, num(l.Test.Chi2, 3), l.Test.DF, pvalPhrase(l.Test.P)))
+		}
+		if l.Warning != "" {
+			b.lines = append(b.lines, "Warning: "+l.Warning)
+		}
+		b.bullets = true
+		out = append(out, b)
+	}
+	if len(a.Notes) > 0 {
+		out = append(out, block{title: "Notes", lines: a.Notes, bullets: true})
+	}
+	chk := block{title: "Checks of the assumptions", lines: a.Assumptions.Verdicts, bullets: true}
+	if a.Assumptions.Basis != "" && a.Assumptions.Basis != "residuals" {
+		chk.lines = append([]string{"Normality and equal variances were checked on " + a.Assumptions.Basis + "."}, chk.lines...)
+	}
+	if len(a.Assumptions.Outliers) > 0 {
+		ot := outlierTable(a.Assumptions.Outliers)
+		chk.tab = &ot
+	}
+	out = append(out, chk)
+	out = append(out, block{title: "Reading", lines: a.Reading(), bullets: true})
+	out = append(out, block{title: "Cautions", lines: a.Cautions(), bullets: true})
+	return out
+}
+
+func nonEmpty(s string) []string {
+	if s == "" {
+		return nil
+	}
+	return []string{s}
+}
+
+func trendTable(tr *analyze.Trend) table {
+	tb := table{head: []string{"degree", "coefficients", "estimate", "SE", "t", "p"}, right: []bool{false, false, true, true, true, true}}
+	for _, r := range tr.Rows {
+		var cs []string
+		for _, c := range r.Coef {
+			cs = append(cs, fixed(c, 3))
+		}
+		tb.rows = append(tb.rows, []string{r.Name, strings.Join(cs, " "), num(r.Estimate, 4), num(r.SE, 4), num(r.T, 4), pval(r.P)})
+	}
+	return tb
+}
+
+func lossTable(l *analyze.Losses) table {
+	tb := table{head: []string{"treatment", "enrolled", "lost", "excluded", "analysed"}, right: []bool{false, true, true, true, true}}
+	for _, r := range l.Rows {
+		tb.rows = append(tb.rows, []string{r.Treatment, fmt.Sprint(r.Enrolled), fmt.Sprint(r.Lost), fmt.Sprint(r.Excluded), fmt.Sprint(r.Analysed)})
+	}
+	return tb
+}
+
 // AnalysisText writes the analysis as aligned text.
 func AnalysisText(w io.Writer, a Analysis) error {
 	var b strings.Builder
-	t := a.Table
-	fmt.Fprintf(&b, "Analysis of variance: %s (%s)\n", t.Response, ssTypeText(t.SSType))
-	b.WriteString(a.anovaTable().text("  "))
-	for _, l := range a.summaryLines() {
-		b.WriteString(wrap(l, 78, "  "))
-	}
-	for _, ph := range append(append([]*analyze.PostHoc{}, a.PostHoc...), a.Simple...) {
-		if ph.Within == "" {
-			fmt.Fprintf(&b, "\nMeans of %s\n", ph.Term)
-		} else {
-			fmt.Fprintf(&b, "\nMeans of %s within %s\n", ph.Term, ph.Within)
+	for i, bl := range a.blocks() {
+		if bl.title != "" {
+			if i > 0 {
+				b.WriteString("\n")
+			}
+			b.WriteString(bl.title + "\n")
 		}
-		b.WriteString(groupTable(ph.Groups, ph.Letters).text("  "))
-		if n := letterNote(ph); n != "" {
-			b.WriteString(wrap(n, 78, "  "))
+		indent := "  "
+		if bl.title == "" && i > 0 && bl.tab != nil {
+			b.WriteString("\n")
 		}
-		b.WriteString("\n" + wrap(postHocTitle(ph), 78, ""))
-		b.WriteString(pairTable(ph).text("  "))
+		for _, l := range bl.lines {
+			b.WriteString(wrap(l, 78, indent))
+		}
+		if bl.tab != nil {
+			b.WriteString(bl.tab.text("  "))
+		}
 	}
-	for _, n := range a.Notes {
-		b.WriteString("\n" + wrap("Note: "+n, 78, ""))
-	}
-	b.WriteString("\nChecks of the assumptions\n")
-	for _, v := range a.Assumptions.Verdicts {
-		b.WriteString(wrap(v, 78, "  "))
-	}
-	if len(a.Assumptions.Outliers) > 0 {
-		b.WriteString(outlierTable(a.Assumptions.Outliers).text("  "))
-	}
-	b.WriteString("\nReading\n")
-	for _, r := range a.Reading() {
-		b.WriteString(wrap(r, 78, "  "))
-	}
-	b.WriteString("\nCautions\n")
-	for _, c := range a.Cautions() {
-		b.WriteString(wrap(c, 78, "  "))
+	_, err := io.WriteString(w, b.String())
+	return err
+}
+
+// AnalysisMarkdown writes the analysis as Markdown.
+func AnalysisMarkdown(w io.Writer, a Analysis) error {
+	var b strings.Builder
+	for i, bl := range a.blocks() {
+		if bl.title != "" {
+			level := "###"
+			if i == 0 {
+				level = "##"
+			}
+			b.WriteString(level + " " + bl.title + "\n\n")
+		}
+		for _, l := range bl.lines {
+			if bl.bullets {
+				b.WriteString("- " + l + "\n")
+			} else {
+				b.WriteString(l + "\n\n")
+			}
+		}
+		if bl.bullets && len(bl.lines) > 0 {
+			b.WriteString("\n")
+		}
+		if bl.tab != nil {
+			b.WriteString(bl.tab.markdown())
+			b.WriteString("\n")
+		}
 	}
 	_, err := io.WriteString(w, b.String())
 	return err
@@ -221,65 +405,72 @@ func PostHocText(w io.Writer, ph *analyze.PostHoc) error {
 	return err
 }
 
-// AnalysisMarkdown writes the analysis as Markdown.
-func AnalysisMarkdown(w io.Writer, a Analysis) error {
-	var b strings.Builder
-	t := a.Table
-	fmt.Fprintf(&b, "## Analysis of variance: %s\n\n%s.\n\n", t.Response, ssTypeText(t.SSType))
-	b.WriteString(a.anovaTable().markdown())
-	b.WriteString("\n")
-	for _, l := range a.summaryLines() {
-		b.WriteString(l + "\n\n")
-	}
-	for _, ph := range append(append([]*analyze.PostHoc{}, a.PostHoc...), a.Simple...) {
-		if ph.Within == "" {
-			fmt.Fprintf(&b, "### Means of %s\n\n", ph.Term)
-		} else {
-			fmt.Fprintf(&b, "### Means of %s within %s\n\n", ph.Term, ph.Within)
-		}
-		b.WriteString(groupTable(ph.Groups, ph.Letters).markdown())
-		if n := letterNote(ph); n != "" {
-			b.WriteString("\n" + n + "\n")
-		}
-		b.WriteString("\n" + postHocTitle(ph) + ".\n\n")
-		b.WriteString(pairTable(ph).markdown())
-		b.WriteString("\n")
-	}
-	for _, n := range a.Notes {
-		b.WriteString("**Note.** " + n + "\n\n")
-	}
-	b.WriteString("### Checks of the assumptions\n\n")
-	for _, v := range a.Assumptions.Verdicts {
-		b.WriteString("- " + v + "\n")
-	}
-	if len(a.Assumptions.Outliers) > 0 {
-		b.WriteString("\n" + outlierTable(a.Assumptions.Outliers).markdown())
-	}
-	b.WriteString("\n### Reading\n\n")
-	for _, r := range a.Reading() {
-		b.WriteString("- " + r + "\n")
-	}
-	b.WriteString("\n### Cautions\n\n")
-	for _, c := range a.Cautions() {
-		b.WriteString("- " + c + "\n")
-	}
-	_, err := io.WriteString(w, b.String())
-	return err
+// AnalysisFormat names the JSON document format of analyses.
+const AnalysisFormat = "allot.analysis/v1"
+
+// analysisDoc is the JSON of one response: each field once.
+type analysisDoc struct {
+	Response    string              `json:"response"`
+	Model       string              `json:"model"`
+	Anova       *analyze.Table      `json:"anova"`
+	Means       []analyze.Group     `json:"means"`
+	Cells       []analyze.Cell      `json:"cells,omitempty"`
+	Simple      []*analyze.PostHoc  `json:"simple_effects,omitempty"`
+	Comparisons []*analyze.PostHoc  `json:"comparisons"`
+	Trends      []*analyze.Trend    `json:"trends,omitempty"`
+	Subsampling *analyze.Sampling   `json:"subsampling,omitempty"`
+	Losses      *analyze.Losses     `json:"losses,omitempty"`
+	Assumptions analyze.Assumptions `json:"assumptions"`
+	Undefined   bool                `json:"f_undefined,omitempty"`
+	Notes       []string            `json:"notes,omitempty"`
+	Missing     int                 `json:"missing"`
+	Unit        string              `json:"unit"`
+	BlockName   string              `json:"block_name,omitempty"`
+	Simulated   bool                `json:"simulated,omitempty"`
+	Reading     []string            `json:"reading"`
+	Cautions    []string            `json:"cautions"`
 }
 
-// AnalysisJSON writes the analysis as one JSON object.
-func AnalysisJSON(w io.Writer, a Analysis) error {
-	t := a.Table
+func (a Analysis) doc() analysisDoc {
+	d := analysisDoc{Response: a.Table.Response, Model: a.Model, Anova: a.Table, Cells: a.Cells, Simple: a.Simple,
+		Comparisons: a.PostHoc, Trends: a.Trends, Subsampling: a.Sampling, Losses: a.Losses, Assumptions: a.Assumptions,
+		Undefined: a.Undefined, Notes: a.Notes, Missing: a.Missing, Unit: a.Unit, BlockName: a.BlockName, Simulated: a.Simulated,
+		Reading: a.Reading(), Cautions: a.Cautions()}
+	for _, gs := range a.Groups {
+		d.Means = append(d.Means, gs...)
+	}
+	if d.Comparisons == nil {
+		d.Comparisons = []*analyze.PostHoc{}
+	}
+	for _, ph := range append(append([]*analyze.PostHoc{}, a.Simple...), a.PostHoc...) {
+		ph.LetterDisplay = nil
+		for i, l := range ph.Letters {
+			term := ph.Term
+			if i < len(ph.Groups) && ph.Groups[i].Term != "" {
+				term = ph.Groups[i].Term
+			}
+			ph.LetterDisplay = append(ph.LetterDisplay, analyze.LevelLetters{Term: term, Level: ph.Groups[i].Level, Letters: l})
+		}
+	}
+	return d
+}
+
+// AnalysesJSON writes one JSON document for a run: the format name, the
+// program version and one object per response.
+func AnalysesJSON(w io.Writer, version string, as []Analysis) error {
+	var docs []analysisDoc
+	for _, a := range as {
+		docs = append(docs, a.doc())
+	}
 	return writeJSON(w, struct {
-		Analysis
-		Terms     []analyze.Term   `json:"terms"`
-		Residual  analyze.Residual `json:"residual"`
-		R2        float64          `json:"r2"`
-		ResidSD   float64          `json:"resid_sd"`
-		GrandMean float64          `json:"grand_mean"`
-		CV        float64          `json:"cv_percent"`
-		SSType    int              `json:"ss_type"`
-		Reading   []string         `json:"reading"`
-		Cautions  []string         `json:"cautions"`
-	}{a, t.Terms, t.Residual, t.R2, t.ResidSD, t.GrandMean, t.CV, t.SSType, a.Reading(), a.Cautions()})
+		Format    string        `json:"format"`
+		Version   string        `json:"allot_version,omitempty"`
+		Responses []analysisDoc `json:"responses"`
+	}{AnalysisFormat, version, docs})
+}
+
+// AnalysisJSON writes one analysis as a complete document (AnalysesJSON
+// with one response).
+func AnalysisJSON(w io.Writer, a Analysis) error {
+	return AnalysesJSON(w, "", []Analysis{a})
 }

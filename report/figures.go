@@ -149,7 +149,7 @@ func MeansFigure(a Analysis, unit string) (Figure, error) {
 		e := errorBars{color: palette[0]}
 		for i, gr := range g {
 			names = append(names, gr.Level)
-			e.xy = append(e.xy, plotter.XY{X: float64(i), Y: gr.Mean})
+			e.xy = append(e.xy, plotter.XY{X: float64(i), Y: gr.LSMean})
 			e.lo, e.hi = append(e.lo, gr.Lower), append(e.hi, gr.Upper)
 		}
 		p.Add(e)
@@ -188,7 +188,7 @@ func MeansFigure(a Analysis, unit string) (Figure, error) {
 			if c.B != b {
 				continue
 			}
-			pt := plotter.XY{X: float64(ai[c.A]) + off, Y: c.Mean}
+			pt := plotter.XY{X: float64(ai[c.A]) + off, Y: c.LSMean}
 			xy = append(xy, pt)
 			e.xy = append(e.xy, pt)
 			e.lo, e.hi = append(e.lo, c.Lower), append(e.hi, c.Upper)

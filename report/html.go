@@ -6,7 +6,6 @@ import (
 	"io"
 	"strings"
 
-	"github.com/allotproject/allot/analyze"
 	"github.com/allotproject/allot/design"
 )
 
@@ -33,16 +32,18 @@ func toHTML(t table, caption string) htmlTable {
 
 type htmlSection struct {
 	Response string
-	SSType   string
-	Anova    htmlTable
-	Summary  []string
-	PostHoc  []htmlTable
-	Notes    []string
+	Blocks   []htmlBlock
 	Figures  []htmlFigure
-	Verdicts []string
-	Outliers *htmlTable
-	Reading  []string
-	Cautions []string
+}
+
+// htmlBlock is one block of the analysis (see Analysis.blocks).
+type htmlBlock struct {
+	Title   string
+	Lines   []string
+	Bullets bool
+	Table   *htmlTable
+	Caution bool
+	ID      string
 }
 
 type htmlFigure struct {
@@ -55,18 +56,17 @@ type htmlFigure struct {
 func HTML(w io.Writer, r HTMLReport) error {
 	var secs []htmlSection
 	for _, a := range r.Analyses {
-		s := htmlSection{Response: a.Table.Response, SSType: ssTypeText(a.Table.SSType), Anova: toHTML(a.anovaTable(), "Analysis of variance"),
-			Summary: a.summaryLines(), Notes: a.Notes, Verdicts: a.Assumptions.Verdicts, Reading: a.Reading(), Cautions: a.Cautions()}
-		for _, ph := range append(append([]*analyze.PostHoc{}, a.PostHoc...), a.Simple...) {
-			cap := "Means of " + ph.Term
-			if ph.Within != "" {
-				cap += " within " + ph.Within
+		s := htmlSection{Response: a.Table.Response}
+		for _, b := range a.blocks() {
+			hb := htmlBlock{Title: b.title, Lines: b.lines, Bullets: b.bullets, Caution: b.title == "Cautions"}
+			if b.title == "Checks of the assumptions" {
+				hb.ID = "assumptions-" + a.Table.Response
 			}
-			s.PostHoc = append(s.PostHoc, toHTML(groupTable(ph.Groups, ph.Letters), cap), toHTML(pairTable(ph), postHocTitle(ph)))
-		}
-		if len(a.Assumptions.Outliers) > 0 {
-			t := toHTML(outlierTable(a.Assumptions.Outliers), "Studentized (deleted) residuals beyond ±3: check these cells first")
-			s.Outliers = &t
+			if b.tab != nil {
+				t := toHTML(*b.tab, "")
+				hb.Table = &t
+			}
+			s.Blocks = append(s.Blocks, hb)
 		}
 		figs, err := AnalysisFigures(a, r.Unit)
 		if err != nil {
@@ -156,19 +156,12 @@ code { background: #f1f4f6; padding: .1rem .3rem; }
 {{range .Sections}}
 <section class="analysis" id="analysis-{{.Response}}">
 <h2>Analysis of {{.Response}}</h2>
-<p>{{.SSType}}.</p>
-{{template "table" .Anova}}
-{{range .Summary}}<p>{{.}}</p>{{end}}
-{{if .PostHoc}}<h3>Comparisons</h3>{{range .PostHoc}}{{template "table" .}}{{end}}{{end}}
-{{range .Notes}}<p><strong>Note.</strong> {{.}}</p>{{end}}
+{{range .Blocks}}{{if .Caution}}<div class="caution">{{end}}{{if .Title}}<h3{{if .ID}} id="{{.ID}}"{{end}}>{{.Title}}</h3>{{end}}
+{{if .Bullets}}{{if .Lines}}<ul>{{range .Lines}}<li>{{.}}</li>{{end}}</ul>{{end}}{{else}}{{range .Lines}}<p>{{.}}</p>{{end}}{{end}}
+{{with .Table}}{{template "table" .}}{{end}}{{if .Caution}}</div>{{end}}
+{{end}}
 <h3>Figures</h3>
 {{range .Figures}}<figure>{{.SVG}}<figcaption>{{.Title}}</figcaption></figure>{{end}}
-<h3 id="assumptions-{{.Response}}">Checks of the assumptions</h3>
-<ul>{{range .Verdicts}}<li>{{.}}</li>{{end}}</ul>
-{{with .Outliers}}{{template "table" .}}{{end}}
-<h3>Reading</h3>
-<ul>{{range .Reading}}<li>{{.}}</li>{{end}}</ul>
-<div class="caution"><h3>Cautions</h3><ul>{{range .Cautions}}<li>{{.}}</li>{{end}}</ul></div>
 </section>
 {{end}}
 <section id="reproduce">

@@ -143,22 +143,42 @@ func TestHTMLReport(t *testing.T) {
 	if err := AnalysisJSON(&js, a); err != nil {
 		t.Fatal(err)
 	}
-	var out struct {
-		Terms []struct {
-			DF         int
-			SS, MS, F  float64
-			P          float64
-			PartialEta float64 `json:"partial_eta2"`
-		} `json:"terms"`
-		Residual struct {
-			SS float64 `json:"ss"`
-		} `json:"residual"`
+	var jdoc struct {
+		Format    string `json:"format"`
+		Responses []struct {
+			Anova struct {
+				Terms []struct {
+					DF         int
+					SS, MS, F  float64
+					P          float64
+					PartialEta *float64 `json:"partial_eta2"`
+					Block      bool     `json:"block"`
+				} `json:"terms"`
+				Residual struct {
+					SS float64 `json:"ss"`
+				} `json:"residual"`
+			} `json:"anova"`
+		} `json:"responses"`
 	}
-	if err := json.Unmarshal(js.Bytes(), &out); err != nil {
+	if err := json.Unmarshal(js.Bytes(), &jdoc); err != nil {
 		t.Fatal(err)
 	}
+	if jdoc.Format != "allot.analysis/v1" || len(jdoc.Responses) != 1 {
+		t.Fatalf("JSON document: format %q, %d responses", jdoc.Format, len(jdoc.Responses))
+	}
+	out := jdoc.Responses[0].Anova
 	for _, term := range out.Terms {
-		for _, cell := range []string{num(term.SS, 5), num(term.MS, 5), num(term.F, 4), pval(term.P), fixed(term.PartialEta, 3)} {
+		// No effect size for blocks: they are not a question the study asks.
+		if term.Block != (term.PartialEta == nil) {
+			t.Errorf("term block=%v has partial η² %v", term.Block, term.PartialEta)
+		}
+	}
+	for _, term := range out.Terms {
+		cells := []string{num(term.SS, 5), num(term.MS, 5), num(term.F, 4), pval(term.P)}
+		if term.PartialEta != nil {
+			cells = append(cells, fixed(*term.PartialEta, 3))
+		}
+		for _, cell := range cells {
 			if !strings.Contains(page, "<td class=\"n\">"+cell+"</td>") {
 				t.Errorf("HTML lacks the JSON value %s", cell)
 			}

@@ -73,7 +73,7 @@ func (a StrataAnalysis) sections() []strataSection {
 			if ph.Within != "" {
 				title += " within " + ph.Within
 			}
-			out = append(out, strataSection{title: title, tb: groupTable(ph.Groups, nil)},
+			out = append(out, strataSection{title: title, tb: levelMeansTable(ph.Groups)},
 				strataSection{title: postHocTitle(ph), tb: pairTable(ph)})
 		}
 		if len(a.Comparisons) > 0 {
@@ -174,4 +174,13 @@ func StrataJSON(w io.Writer, a StrataAnalysis) error {
 		StrataAnalysis
 		Cautions []string `json:"cautions"`
 	}{a, a.cautions()})
+}
+
+// levelMeansTable lists each level's n, mean and SD.
+func levelMeansTable(gs []analyze.Group) table {
+	tb := table{head: []string{"level", "n", "mean", "SD"}, right: []bool{false, true, true, true}}
+	for _, g := range gs {
+		tb.rows = append(tb.rows, []string{g.Level, fmt.Sprint(g.N), num(g.Mean, 5), num(g.SD, 4)})
+	}
+	return tb
 }

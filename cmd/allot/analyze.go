@@ -19,23 +19,26 @@ import (
 )
 
 type analyzeOptions struct {
-	read     checkOptions
-	response string
-	factors  []string
-	block    string
-	unitCol  string
-	ss       int
-	posthoc  string
-	control  string
-	sides    int
-	alpha    float64
-	format   string
-	json     bool
-	html     string
-	plots    string
-	unit     string
-	force    bool
-	command  string
+	read      checkOptions
+	response  string
+	factors   []string
+	block     string
+	unitCol   string
+	ss        int
+	posthoc   string
+	control   string
+	sides     int
+	direction string
+	blocks    string
+	trend     []string
+	alpha     float64
+	format    string
+	json      bool
+	html      string
+	plots     string
+	unit      string
+	force     bool
+	command   string
 }
 
 func newAnalyzeCmd(s *streams, runF func(*analyzeOptions) error) *cobra.Command {
@@ -50,12 +53,22 @@ plain CSV table with the roles of its columns given by --response, --factor
 one-way, factorial with all interactions, randomised complete blocks, or a
 factorial in blocks, with Type I, II or III sums of squares (--ss, default 3).
 
-Terms significant at --alpha are followed by --posthoc tukey (Tukey–Kramer,
-default), dunnett (each level against --control, the plan's control by
-default; --sides 1 for one-sided), holm (Holm-adjusted t tests) or none,
-with a compact letter display; a significant interaction is followed by
-simple effects. The residuals are checked (Shapiro–Wilk, Brown–Forsythe, SD
-ratio, studentized residuals beyond ±3 listed by unit and cell).
+Every treatment factor is followed by the requested comparisons, whatever
+its F test says (the output states the family, the error rate controlled,
+and notes a non-significant F): --posthoc tukey (Tukey–Kramer, default),
+dunnett (each level against --control, the plan's control by default;
+--sides 1 with --direction higher or lower for one side), holm (Holm-adjusted
+t tests, Bonferroni intervals) or none, with a compact letter display; a
+significant interaction puts simple effects first. --trend FACTOR adds
+orthogonal polynomial contrasts of a numeric factor. Blocks are fixed unless
+--blocks random (generalised block designs: treatments tested against the
+block × treatment term). The means table, the loss table and the residual
+checks (Shapiro–Wilk and an equal-variance test valid for the design, SD
+ratio, studentized residuals beyond ±3 listed by unit and cell) follow.
+
+When the residual variation is exactly zero (decided in exact arithmetic),
+F is undefined: the output says so, runs no comparison or check, and the
+exit status is 1.
 
 Each experimental unit is one observation: the unit that was randomised is the
 unit of analysis.` + "\n" + exitHelp,
@@ -93,7 +106,10 @@ unit of analysis.` + "\n" + exitHelp,
 	f.IntVar(&o.ss, "ss", 3, "sum-of-squares type `1`, 2 or 3")
 	f.StringVar(&o.posthoc, "posthoc", "tukey", "follow-up comparisons: `tukey`, dunnett, holm or none")
 	f.StringVar(&o.control, "control", "", "the control `LEVEL` for dunnett (default: the plan's control)")
-	f.IntVar(&o.sides, "sides", 2, "dunnett: `2` sides, or 1 (treatment > control)")
+	f.IntVar(&o.sides, "sides", 2, "dunnett: `2` sides, or 1 (one-sided; see --direction)")
+	f.StringVar(&o.direction, "direction", "", "one-sided dunnett: `higher` (treatment > control, the default) or lower")
+	f.StringVar(&o.blocks, "blocks", "fixed", "blocks as `fixed` effects, or random (generalised block designs: treatments tested against block × treatment)")
+	f.StringArrayVar(&o.trend, "trend", nil, "orthogonal polynomial trend contrasts of the numeric `FACTOR` (doses, rates); repeatable")
 	f.Float64Var(&o.alpha, "alpha", 0.05, "significance level `A`")
 	f.StringVar(&o.format, "format", "text", "output: `text`, markdown or json")
 	f.BoolVar(&o.json, "json", false, "print JSON (same as --format json)")
@@ -108,7 +124,22 @@ func (o *analyzeOptions) validate() error {
 	if err := o.settings().Validate(); err != nil {
 		return usagef("%s", err)
 	}
+	switch o.direction {
+	case "":
+	case "higher", "lower":
+		if o.sides != 1 {
+			return usagef("--direction %s: is for a one-sided test; add --sides 1", o.direction)
+		}
+	default:
+		return usagef("--direction %s: must be higher (treatment > control) or lower (treatment < control)", o.direction)
+	}
+	if o.blocks != "fixed" && o.blocks != "random" {
+		return usagef("--blocks %s: must be fixed or random", o.blocks)
+	}
 	if o.json {
+		if o.format != "text" && o.format != "json" {
+			return usagef("--json and --format %s ask for two formats: give one of them", o.format)
+		}
 		o.format = "json"
 	}
 	if o.html != "" && !strings.HasSuffix(strings.ToLower(o.html), ".html") {
@@ -136,7 +167,8 @@ type job = options.Job
 
 // settings are the analysis flags as package options takes them.
 func (o *analyzeOptions) settings() options.Analysis {
-	return options.Analysis{SS: o.ss, Alpha: o.alpha, PostHoc: o.posthoc, Control: o.control, Sides: o.sides}
+	return options.Analysis{SS: o.ss, Alpha: o.alpha, PostHoc: o.posthoc, Control: o.control, Sides: o.sides,
+		Direction: o.direction, Trend: o.trend, RandomBlocks: o.blocks == "random"}
 }
 
 func analyzeRun(s *streams, o *analyzeOptions) error {
@@ -148,6 +180,7 @@ func analyzeRun(s *streams, o *analyzeOptions) error {
 		return err
 	}
 	var all []report.Analysis
+	var undefined []string
 	for i, j := range jobs {
 		res, err := j.Run(o.settings())
 		var oe *options.Error
@@ -157,20 +190,32 @@ func analyzeRun(s *streams, o *analyzeOptions) error {
 		if err != nil {
 			return inputErr(fmt.Errorf("%s: %s: %w", o.read.file, j.Data.Response, err))
 		}
+		if j.ModelNote != "" {
+			res.Notes = append(res.Notes, j.ModelNote)
+		}
+		if res.Undefined {
+			undefined = append(undefined, j.Data.Response)
+		}
 		a := report.Analysis{Result: res, Missing: j.Missing, Unit: j.Unit, BlockName: j.BlockName, Simulated: j.Simulated}
 		all = append(all, a)
-		if i > 0 && o.format != "json" {
+		if o.format == "json" {
+			continue
+		}
+		if i > 0 {
 			fmt.Fprintln(s.Out)
 		}
 		switch o.format {
-		case "json":
-			err = report.AnalysisJSON(s.Out, a)
 		case "markdown":
 			err = report.AnalysisMarkdown(s.Out, a)
 		default:
 			err = report.AnalysisText(s.Out, a)
 		}
 		if err != nil {
+			return err
+		}
+	}
+	if o.format == "json" {
+		if err := report.AnalysesJSON(s.Out, version.String(), all); err != nil {
 			return err
 		}
 	}
@@ -194,6 +239,9 @@ func analyzeRun(s *streams, o *analyzeOptions) error {
 		}
 		fmt.Fprintf(s.Err, "allot analyze: wrote %s\n", o.html)
 	}
+	if len(undefined) > 0 {
+		return &failedError{err: fmt.Errorf("%s: %s: the residual variation is exactly zero, so no F test is defined (see the note in the output)", o.read.file, strings.Join(undefined, ", "))}
+	}
 	return nil
 }
 
@@ -214,7 +262,7 @@ func (o *analyzeOptions) jobs() ([]job, *design.Plan, []string, error) {
 		if missing > 0 {
 			check = append(check, fmt.Sprintf("%s: %d row(s) have no %s and were left out", o.read.file, missing, o.response))
 		}
-		return []job{{Data: options.DataOf(o.response, obs, o.factors, nil, o.block), Missing: missing, Unit: "unit", BlockName: o.block}}, nil, check, nil
+		return []job{options.PlainJob(o.response, obs, o.factors, o.block, missing)}, nil, check, nil
 	}
 	fl, err := readFilled(&o.read)
 	if err != nil {

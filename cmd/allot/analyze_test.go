@@ -56,13 +56,30 @@ func TestAnalyzeRun(t *testing.T) {
 		t.Error("analysis of simulated data does not say so")
 	}
 	code, out, _ := runArgs(t, "analyze", wb, "--json")
-	var m map[string]any
-	if code != 0 || json.Unmarshal([]byte(out), &m) != nil {
+	var doc struct {
+		Format    string           `json:"format"`
+		Responses []map[string]any `json:"responses"`
+	}
+	if code != 0 || json.Unmarshal([]byte(out), &doc) != nil {
 		t.Fatalf("json: exit %d", code)
 	}
-	for _, k := range []string{"terms", "residual", "r2", "resid_sd", "grand_mean", "cv_percent", "ss_type", "posthoc", "assumptions"} {
+	if doc.Format != "allot.analysis/v1" || len(doc.Responses) == 0 {
+		t.Fatalf("JSON document: format %q, %d responses", doc.Format, len(doc.Responses))
+	}
+	m := doc.Responses[0]
+	for _, k := range []string{"response", "model", "anova", "means", "comparisons", "assumptions", "reading", "cautions"} {
 		if _, ok := m[k]; !ok {
 			t.Errorf("JSON lacks %q", k)
+		}
+	}
+	for _, k := range []string{"terms", "residual", "groups", "posthoc"} {
+		if _, ok := m[k]; ok {
+			t.Errorf("JSON repeats %q at the response level", k)
+		}
+	}
+	for _, g := range m["means"].([]any) {
+		if g.(map[string]any)["term"] == nil {
+			t.Errorf("means entry without its term: %v", g)
 		}
 	}
 }
@@ -92,7 +109,7 @@ func TestAnalyzeBadInput(t *testing.T) {
 	text := write("text.csv", "g,y\na,x\nb,y\n")
 	one := write("one.csv", "g,y\na,1\na,2\na,3\n")
 	single := write("single.csv", "g,y\na,1\nb,2\nc,3\n")
-	blocks := write("blocks.csv", "g,b,y\na,1,1\nb,1,2\na,2,3\nb,2,4\na,3,5\n")
+	blocks := write("blocks.csv", "g,b,y\na,1,1\nb,1,2\na,2,3\nb,2,4.5\na,3,5\n")
 	empty := write("empty.csv", "g,y\na,\nb,\n")
 	two := write("two.csv", "g,y\na,1\na,2\nb,3\nb,5\n")
 	tests := []struct {
@@ -108,7 +125,10 @@ func TestAnalyzeBadInput(t *testing.T) {
 		{[]string{one, "--response", "y", "--factor", "g", "--ss", "4"}, "--ss 4: must be 1, 2 or 3"},
 		{[]string{two, "--response", "y", "--factor", "g", "--posthoc", "dunnett", "--control", "z"}, `control "z" is not a level of g`},
 		{[]string{one}, "needs --response COLUMN and --factor COLUMN"},
-		{[]string{blocks, "--response", "y", "--factor", "g", "--block", "b"}, `b 3 has a single unit`},
+		{[]string{two, "--response", "y", "--factor", "g", "--json", "--format", "markdown"}, "--json and --format markdown ask for two formats"},
+		{[]string{two, "--response", "y", "--factor", "g", "--factor", "g"}, `factor "g" is given twice`},
+		{[]string{two, "--response", "y", "--factor", "g", "--direction", "lower"}, "--direction lower: is for a one-sided test"},
+		{[]string{two, "--response", "y", "--factor", "g", "--blocks", "mixed"}, "--blocks mixed: must be fixed or random"},
 	}
 	for _, tt := range tests {
 		t.Run(tt.want, func(t *testing.T) {
@@ -117,6 +137,33 @@ func TestAnalyzeBadInput(t *testing.T) {
 				t.Errorf("exit %d, stderr %q; want 2 and %q", code, errs, tt.want)
 			}
 		})
+	}
+	// A block left with one unit is analysed, as the simulation does, and
+	// said so.
+	code, out, errs := runArgs(t, "analyze", blocks, "--response", "y", "--factor", "g", "--block", "b")
+	if code != 0 || !strings.Contains(out, "b 3 hold(s) a single unit") {
+		t.Errorf("single-unit block: exit %d, %s%s", code, out, errs)
+	}
+}
+
+// Constant-within-group data: the residual SS is exactly zero (exact
+// fractions), so F is undefined, no comparison or check runs, and the
+// command exits 1 (an analysis that ran and found a problem).
+func TestAnalyzeExactFit(t *testing.T) {
+	dir := t.TempDir()
+	p := filepath.Join(dir, "flat.csv")
+	os.WriteFile(p, []byte("g,y\na,1.1\na,1.1\nb,2.3\nb,2.3\nc,0.7\nc,0.7\n"), 0o644)
+	code, out, errs := runArgs(t, "analyze", p, "--response", "y", "--factor", "g")
+	if code != exitFailed || !strings.Contains(errs, "no F test is defined") {
+		t.Fatalf("exit %d, stderr %q", code, errs)
+	}
+	for _, want := range []string{"undefined", "exactly zero", "The residual checks were not run"} {
+		if !strings.Contains(out, want) {
+			t.Errorf("output lacks %q:\n%s", want, out)
+		}
+	}
+	if strings.Contains(out, "Tukey HSD comparisons") || strings.Contains(out, "Shapiro–Wilk") {
+		t.Errorf("comparisons or checks ran on an exact fit:\n%s", out)
 	}
 }
 
@@ -191,6 +238,34 @@ func TestLayoutMap(t *testing.T) {
 		}
 		if st, err := os.Stat(p); err != nil || st.Size() < 1000 {
 			t.Errorf("%s: %v", p, err)
+		}
+	}
+}
+
+// A plain CSV table with every treatment twice in every block gets the
+// generalised block model, as the same data through its plan would, and
+// says so.
+func TestAnalyzePlainCSVReplicatedBlocks(t *testing.T) {
+	dir := t.TempDir()
+	p := filepath.Join(dir, "rep.csv")
+	var b strings.Builder
+	b.WriteString("v,bench,y\n")
+	vals := []string{"5.1", "5.4", "6.0", "6.3", "4.9", "5.0", "6.2", "6.6", "5.3", "5.8", "6.1", "6.9"}
+	k := 0
+	for _, bench := range []string{"1", "2", "3"} {
+		for _, v := range []string{"A", "A", "B", "B"} {
+			b.WriteString(v + "," + bench + "," + vals[k] + "\n")
+			k++
+		}
+	}
+	os.WriteFile(p, []byte(b.String()), 0o644)
+	code, out, errs := runArgs(t, "analyze", p, "--response", "y", "--factor", "v", "--block", "bench")
+	if code != 0 {
+		t.Fatalf("exit %d: %s", code, errs)
+	}
+	for _, want := range []string{"bench × v", "generalised randomised block design", "Every treatment appears at least twice in every bench"} {
+		if !strings.Contains(out, want) {
+			t.Errorf("output lacks %q:\n%s", want, out)
 		}
 	}
 }

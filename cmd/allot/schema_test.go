@@ -76,6 +76,7 @@ func TestSchemasRefuse(t *testing.T) {
 		{"layout", `{"fingerprint": "00", "plan": {}, "units": []}`},
 		{"check", `{"file": "x.xlsx", "errors": 0}`},
 		{"analysis", `{"anova": {"response": "y"}}`},
+		{"analysis", `{"format": "allot.analysis/v1", "responses": [{"response": "y", "anova": {}}]}`},
 		{"simulation", `{"design": "crd", "seed": -1}`},
 		{"layout", `{"format": "allot.size/v1"}`},
 	} {

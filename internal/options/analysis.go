@@ -16,6 +16,11 @@ type Analysis struct {
 	PostHoc string  // --posthoc tukey|dunnett|holm|none
 	Control string  // --control LEVEL (default: the plan's control)
 	Sides   int     // --sides 1 or 2
+	// Direction is --direction higher|lower (one-sided Dunnett), Trend the
+	// --trend factors, RandomBlocks --blocks random.
+	Direction    string
+	Trend        []string
+	RandomBlocks bool
 }
 
 // Validate checks the settings; errors are *Error naming the flag.
@@ -45,6 +50,8 @@ type Job struct {
 	Unit      string
 	BlockName string
 	Simulated bool
+	// ModelNote says why the model differs from the obvious one.
+	ModelNote string
 }
 
 // Run analyses the job with the settings a; the plan's control is the
@@ -59,7 +66,8 @@ func (j Job) Run(a Analysis) (*analyze.Result, error) {
 	}
 	return analyze.Run(j.Data, analyze.RunOptions{
 		Options: analyze.Options{SSType: a.SS, Alpha: a.Alpha},
-		PostHoc: a.PostHoc, Control: control, Sides: a.Sides,
+		PostHoc: a.PostHoc, Control: control, Sides: a.Sides, Direction: a.Direction,
+		Trend: a.Trend, RandomBlocks: a.RandomBlocks,
 	})
 }
 
@@ -108,6 +116,7 @@ func WorkbookJobs(fl *workbook.Filled, file, response string) ([]Job, *design.Pl
 		}
 		d := DataOf(r, obs, fnames, names, block)
 		d.BlockInteraction = p.Generalised()
+		d.Lost = LostUnits(fl, k, obs)
 		out = append(out, Job{Data: d, Missing: len(fl.Layout.Units) - len(obs.Units), Control: p.Control, Unit: "unit", BlockName: p.BlockName, Simulated: fl.Simulated()})
 	}
 	if len(out) == 0 {
@@ -118,6 +127,41 @@ func WorkbookJobs(fl *workbook.Filled, file, response string) ([]Job, *design.Pl
 		check = append(check, pr.String())
 	}
 	return out, &p, check, nil
+}
+
+// PlainJob is the job of a plain CSV table with the roles of its columns:
+// with blocks in which every treatment appears twice or more, the block ×
+// treatment term is in the model, as it would be for the same data read
+// through its plan, and the job says so.
+func PlainJob(response string, obs workbook.Observations, factors []string, block string, missing int) Job {
+	d := DataOf(response, obs, factors, nil, block)
+	j := Job{Data: d, Missing: missing, Unit: "unit", BlockName: block}
+	if d.Block != nil && analyze.Replicated(d) {
+		j.Data.BlockInteraction = true
+		j.ModelNote = fmt.Sprintf("Every treatment appears at least twice in every %s, so the %s × treatment interaction is in the model (a generalised block design), as it would be for the same data read through its plan.", block, block)
+	}
+	return j
+}
+
+// LostUnits lists the units of the layout that are not analysed for
+// response r: those marked lost or excluded in the Status column (with
+// their reason), then those with no value. Data plumbing only: analyze
+// builds the loss table from it.
+func LostUnits(fl *workbook.Filled, r int, obs workbook.Observations) []analyze.LostUnit {
+	tr := fl.Layout.Plan.Treatments()
+	seen := map[string]bool{}
+	var out []analyze.LostUnit
+	for _, l := range obs.Losses {
+		seen[l.Unit] = true
+		out = append(out, analyze.LostUnit{Unit: l.Unit, Levels: l.Levels, Status: l.Status, Reason: l.Reason})
+	}
+	for i, u := range fl.Layout.Units {
+		if !fl.Values[r][i].Missing || seen[u.ID] || u.Treatment < 0 {
+			continue
+		}
+		out = append(out, analyze.LostUnit{Unit: u.ID, Levels: tr[u.Treatment].Levels, Status: "lost", Reason: "no value recorded"})
+	}
+	return out
 }
 
 // DataOf turns observations into analysis data.
