@@ -6,6 +6,7 @@ import (
 	"strconv"
 	"testing"
 
+	//lint:ignore SA1019 allot-pcg-v1 is defined by this package's PCG stream; go.mod pins it
 	"golang.org/x/exp/rand"
 )
 

@@ -246,10 +246,10 @@ func Friedman(d Data, alpha float64) (*RankResult, error) {
 		alpha = 0.05
 	}
 	if d.Block == nil {
-		return nil, fmt.Errorf("Friedman's test needs blocks: give the block column (--block), or use the Kruskal–Wallis test without blocks")
+		return nil, fmt.Errorf("the Friedman test needs blocks: give the block column (--block), or use the Kruskal–Wallis test without blocks")
 	}
 	if len(d.Factors) != 1 {
-		return nil, fmt.Errorf("Friedman's test is for one treatment factor in blocks: this design has %d factors", len(d.Factors))
+		return nil, fmt.Errorf("the Friedman test is for one treatment factor in blocks: this design has %d factors", len(d.Factors))
 	}
 	d, _, err := Average(d)
 	if err != nil {
@@ -265,7 +265,7 @@ func Friedman(d Data, alpha float64) (*RankResult, error) {
 	}
 	k, b := len(lv), len(bl)
 	if k < 2 || b < 2 {
-		return nil, fmt.Errorf("Friedman's test needs at least 2 treatments and 2 blocks (the data have %d and %d)", k, b)
+		return nil, fmt.Errorf("the Friedman test needs at least 2 treatments and 2 blocks (the data have %d and %d)", k, b)
 	}
 	c0, shift, err := centred(d.Values)
 	if err != nil {
@@ -281,7 +281,7 @@ func Friedman(d Data, alpha float64) (*RankResult, error) {
 	for i := range c0 {
 		bi, ti := bIdx[i], tIdx[i]
 		if seen[bi][ti] {
-			return nil, fmt.Errorf("Friedman's test needs exactly one unit of each treatment in each block: %s %s has %s more than once (average subsamples or replicates first, or use --method anova)", d.Block.Name, bl[bi], lv[ti])
+			return nil, fmt.Errorf("the Friedman test needs exactly one unit of each treatment in each block: %s %s has %s more than once (average subsamples or replicates first, or use --method anova)", d.Block.Name, bl[bi], lv[ti])
 		}
 		seen[bi][ti] = true
 		cell[bi][ti] = c0[i]
@@ -289,7 +289,7 @@ func Friedman(d Data, alpha float64) (*RankResult, error) {
 	for bi := range seen {
 		for ti, ok := range seen[bi] {
 			if !ok {
-				return nil, fmt.Errorf("Friedman's test needs complete blocks: %s %s has no value for %s (drop the block or use --method anova)", d.Block.Name, bl[bi], lv[ti])
+				return nil, fmt.Errorf("the Friedman test needs complete blocks: %s %s has no value for %s (drop the block or use --method anova)", d.Block.Name, bl[bi], lv[ti])
 			}
 		}
 	}

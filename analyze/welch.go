@@ -153,7 +153,7 @@ func Welch(d Data, alpha float64) (*WelchResult, error) {
 	k := float64(len(gs))
 	for _, g := range gs {
 		if g.N < 2 {
-			return nil, fmt.Errorf("Welch's ANOVA: group %q has %d observation; each group needs at least 2 to estimate its variance", g.Level, g.N)
+			return nil, fmt.Errorf("the Welch ANOVA: group %q has %d observation; each group needs at least 2 to estimate its variance", g.Level, g.N)
 		}
 		if g.SD == 0 {
 			return nil, fmt.Errorf("%w: group %q (all %d values equal %g); Welch's test weights groups by 1/variance and is undefined; use --method rank", ErrZeroVariance, g.Level, g.N, g.Mean)

@@ -12,6 +12,7 @@ import (
 	"github.com/allotproject/allot/design/workbook"
 	"github.com/allotproject/allot/randomize"
 
+	//lint:ignore SA1019 allot-pcg-v1 is defined by this package's PCG stream; go.mod pins it
 	"golang.org/x/exp/rand"
 )
 

@@ -156,7 +156,7 @@ func (c Comparisons) validate() error {
 		return fmt.Errorf("control group %d out of range", c.Control+1)
 	}
 	if c.Tukey && (!c.AllPair || c.Sides != 2) {
-		return fmt.Errorf("Tukey's comparisons are of all pairs, two-sided")
+		return fmt.Errorf("the Tukey comparisons are of all pairs, two-sided")
 	}
 	return nil
 }

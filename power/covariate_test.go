@@ -4,7 +4,6 @@ import (
 	"encoding/json"
 	"math"
 	"os"
-	"strconv"
 	"testing"
 )
 
@@ -27,10 +26,6 @@ func TestCovariatePowerReference(t *testing.T) {
 		t.Fatal(err)
 	}
 	for _, c := range ref.Rows {
-		var lv []string
-		for i := 0; i < c.K; i++ {
-			lv = append(lv, strconv.Itoa(i))
-		}
 		d := Design{Factors: []Factor{{Name: "g", Levels: c.K}}}
 		r := d.EvaluateCovariate(c.N, c.F, 0.05, c.Rho)
 		if r.DF2 != c.DF2 || math.Abs(r.Lambda-c.Lambda) > 1e-12*c.Lambda || math.Abs(r.Power-c.Power) > 1e-9 {

@@ -10,6 +10,7 @@ import (
 	"github.com/allotproject/allot/design"
 	"github.com/allotproject/allot/randomize"
 
+	//lint:ignore SA1019 allot-pcg-v1 is defined by this package's PCG stream; go.mod pins it
 	"golang.org/x/exp/rand"
 	"gonum.org/v1/gonum/stat/distuv"
 )

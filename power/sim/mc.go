@@ -240,7 +240,7 @@ func (s Spec) validate() error {
 		}
 	}
 	if s.PostHoc == "tukey" && s.Sides == 1 {
-		return fmt.Errorf("Tukey's comparisons are two-sided")
+		return fmt.Errorf("the Tukey comparisons are two-sided")
 	}
 	return nil
 }
