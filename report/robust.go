@@ -301,3 +301,27 @@ func MethodMarkdown(w io.Writer, m Method) error {
 	}
 	return nil
 }
+
+// MethodDoc is one response analysed by a method other than the ANOVA, in
+// the analysis JSON document.
+type MethodDoc struct {
+	Response string `json:"response"`
+	// Method names the analysis: welch, rank, glm, ancova or repeated.
+	Method string `json:"method"`
+	Result any    `json:"result"`
+}
+
+// AnalysesWithMethodsJSON writes one allot.analysis/v1 document for a run:
+// the ANOVA analyses under "responses", the other methods under "methods".
+func AnalysesWithMethodsJSON(w io.Writer, version string, as []Analysis, others []MethodDoc) error {
+	docs := make([]analysisDoc, 0, len(as))
+	for _, a := range as {
+		docs = append(docs, a.doc())
+	}
+	return writeJSON(w, struct {
+		Format    string        `json:"format"`
+		Version   string        `json:"allot_version,omitempty"`
+		Responses []analysisDoc `json:"responses"`
+		Methods   []MethodDoc   `json:"methods,omitempty"`
+	}{AnalysisFormat, version, docs, others})
+}

@@ -8,6 +8,7 @@ import (
 	"path/filepath"
 	"strings"
 
+	"github.com/allotproject/allot/analyze"
 	"github.com/allotproject/allot/design"
 	"github.com/allotproject/allot/design/workbook"
 	"github.com/allotproject/allot/internal/atomicfile"
@@ -39,6 +40,7 @@ type analyzeOptions struct {
 	unit      string
 	force     bool
 	command   string
+	methods   options.Methods
 }
 
 func newAnalyzeCmd(s *streams, runF func(*analyzeOptions) error) *cobra.Command {
@@ -71,7 +73,7 @@ F is undefined: the output says so, runs no comparison or check, and the
 exit status is 1.
 
 Each experimental unit is one observation: the unit that was randomised is the
-unit of analysis.` + "\n" + exitHelp,
+unit of analysis.` + "\n" + methodsHelp + "\n" + exitHelp,
 		Example: `  allot analyze trial-filled.xlsx
   allot analyze trial-filled.xlsx --response height_cm --posthoc dunnett --json
   allot analyze yields.csv --response yield --factor variety --block field --format markdown`,
@@ -113,6 +115,7 @@ unit of analysis.` + "\n" + exitHelp,
 	f.Float64Var(&o.alpha, "alpha", 0.05, "significance level `A`")
 	f.StringVar(&o.format, "format", "text", "output: `text`, markdown or json")
 	f.BoolVar(&o.json, "json", false, "print JSON (same as --format json)")
+	o.addMethodFlags(f)
 	return cmd
 }
 
@@ -132,6 +135,12 @@ func (o *analyzeOptions) validate() error {
 		}
 	default:
 		return usagef("--direction %s: must be higher (treatment > control) or lower (treatment < control)", o.direction)
+	}
+	if err := o.methods.Validate(); err != nil {
+		return usagef("%s", err)
+	}
+	if (o.methods.Method != "" && o.methods.Method != analyze.MethodANOVA || o.methods.Family != "" || o.methods.Covariate != "") && o.html != "" {
+		return usagef("--report draws the ANOVA's report; for --method, --family and --covariate use --format markdown")
 	}
 	if o.blocks != "fixed" && o.blocks != "random" {
 		return usagef("--blocks %s: must be fixed or random", o.blocks)
@@ -176,12 +185,32 @@ func analyzeRun(s *streams, o *analyzeOptions) error {
 	if sw, ok := err.(*strataWorkbook); ok {
 		return analyzeStrata(s, o, sw.fl) // split plots and Latin squares: analyze_strata.go
 	}
+	if rw, ok := err.(*repeatedWorkbook); ok {
+		return analyzeRepeated(s, o, rw.fl)
+	}
 	if err != nil {
 		return err
 	}
 	var all []report.Analysis
 	var undefined []string
+	var others []report.MethodDoc
 	for i, j := range jobs {
+		if i > 0 && o.format != "json" {
+			fmt.Fprintln(s.Out)
+		}
+		doc, handled, err := o.methodRun(s.Out, &j, plan)
+		if err != nil {
+			return err
+		}
+		if handled {
+			others = append(others, *doc)
+			continue
+		}
+		if o.methods.Transform != "" {
+			if j.Data, err = analyze.Transform(j.Data, o.methods.Transform); err != nil {
+				return inputErr(fmt.Errorf("%s: --transform %s: %w", o.read.file, o.methods.Transform, err))
+			}
+		}
 		res, err := j.Run(o.settings())
 		var oe *options.Error
 		if errors.As(err, &oe) {
@@ -193,6 +222,9 @@ func analyzeRun(s *streams, o *analyzeOptions) error {
 		if j.ModelNote != "" {
 			res.Notes = append(res.Notes, j.ModelNote)
 		}
+		if note := options.TransformNote(o.methods.Transform, res); note != "" {
+			res.Notes = append(res.Notes, note)
+		}
 		if res.Undefined {
 			undefined = append(undefined, j.Data.Response)
 		}
@@ -200,9 +232,6 @@ func analyzeRun(s *streams, o *analyzeOptions) error {
 		all = append(all, a)
 		if o.format == "json" {
 			continue
-		}
-		if i > 0 {
-			fmt.Fprintln(s.Out)
 		}
 		switch o.format {
 		case "markdown":
@@ -215,7 +244,7 @@ func analyzeRun(s *streams, o *analyzeOptions) error {
 		}
 	}
 	if o.format == "json" {
-		if err := report.AnalysesJSON(s.Out, version.String(), all); err != nil {
+		if err := report.AnalysesWithMethodsJSON(s.Out, version.String(), all, others); err != nil {
 			return err
 		}
 	}
@@ -262,7 +291,11 @@ func (o *analyzeOptions) jobs() ([]job, *design.Plan, []string, error) {
 		if missing > 0 {
 			check = append(check, fmt.Sprintf("%s: %d row(s) have no %s and were left out", o.read.file, missing, o.response))
 		}
-		return []job{options.PlainJob(o.response, obs, o.factors, o.block, missing)}, nil, check, nil
+		j := options.PlainJob(o.response, obs, o.factors, o.block, missing)
+		if err := o.attachPlainExtras(&j, obs); err != nil {
+			return nil, nil, nil, err
+		}
+		return []job{j}, nil, check, nil
 	}
 	fl, err := readFilled(&o.read)
 	if err != nil {
@@ -272,6 +305,12 @@ func (o *analyzeOptions) jobs() ([]job, *design.Plan, []string, error) {
 		// Split plots and Latin squares have analyses of their own
 		// (analyze_strata.go).
 		return nil, nil, nil, &strataWorkbook{fl: fl}
+	}
+	for _, r := range fl.Layout.Plan.Responses {
+		if r.Of != "" {
+			// Measured at several times: analyze_methods.go.
+			return nil, nil, nil, &repeatedWorkbook{fl: fl}
+		}
 	}
 	out, plan, check, err := options.WorkbookJobs(fl, o.read.file, o.response)
 	var cf *options.CheckFailedError
@@ -283,6 +322,9 @@ func (o *analyzeOptions) jobs() ([]job, *design.Plan, []string, error) {
 		return nil, nil, nil, usagef("%s", err)
 	case err != nil:
 		return nil, nil, nil, inputErr(err)
+	}
+	if err := o.attachExtras(out, fl); err != nil {
+		return nil, nil, nil, err
 	}
 	return out, plan, check, nil
 }

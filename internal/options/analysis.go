@@ -52,6 +52,11 @@ type Job struct {
 	Simulated bool
 	// ModelNote says why the model differs from the obvious one.
 	ModelNote string
+	// Covariate holds a baseline covariate's value per observation and
+	// Trials the trials of a binomial response, when the analysis uses
+	// them.
+	Covariate []string
+	Trials    []float64
 }
 
 // Run analyses the job with the settings a; the plan's control is the
@@ -96,9 +101,18 @@ func WorkbookJobs(fl *workbook.Filled, file, response string) ([]Job, *design.Pl
 	}
 	p := fl.Layout.Plan
 	var out []Job
+	trialsCols := map[string]bool{}
+	for _, r := range p.Responses {
+		if r.TrialsColumn != "" {
+			trialsCols[r.TrialsColumn] = true
+		}
+	}
 	for k, r := range fl.Responses {
 		if response != "" && r != response {
 			continue
+		}
+		if response == "" && k < len(p.Responses) && (p.Responses[k].Covariate || trialsCols[r]) {
+			continue // a baseline covariate or a trials column is not an outcome
 		}
 		obs := fl.Observations(k)
 		if len(obs.Values) == 0 && len(obs.Subsamples) == 0 {
