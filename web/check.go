@@ -230,16 +230,17 @@ func (s *Server) checkAnswer(f *Form, m *multipart.Form) *checkResult {
 			}
 			return res
 		}
-		a := report.Analysis{Result: r, Missing: j.Missing, Unit: j.Unit, BlockName: j.BlockName, Simulated: j.Simulated}
-		all = append(all, a)
-		var one bytes.Buffer
-		if err := report.AnalysisJSON(&one, a); err != nil {
-			res.AnalysisNote = err.Error()
-			return res
+		if j.ModelNote != "" {
+			r.Notes = append(r.Notes, j.ModelNote)
 		}
-		res.JSON = append(res.JSON, one.String())
-		js.Write(one.Bytes())
+		all = append(all, report.Analysis{Result: r, Missing: j.Missing, Unit: j.Unit, BlockName: j.BlockName, Simulated: j.Simulated})
 	}
+	// One document for the run, as allot analyze --json writes it.
+	if err := report.AnalysesJSON(&js, s.cfg.Version, all); err != nil {
+		res.AnalysisNote = err.Error()
+		return res
+	}
+	res.JSON = []string{js.String()}
 	var html bytes.Buffer
 	if err := report.HTML(&html, report.HTMLReport{Analyses: all, Plan: plan, Check: check, Command: res.Command, Version: s.cfg.Version}); err != nil {
 		res.AnalysisNote = err.Error()

@@ -781,7 +781,7 @@ func TestCheckValid(t *testing.T) {
 		t.Fatal(err)
 	}
 	var want bytes.Buffer
-	report.AnalysisJSON(&want, report.Analysis{Result: res, Missing: jobs[0].Missing, Unit: jobs[0].Unit, BlockName: jobs[0].BlockName, Simulated: jobs[0].Simulated})
+	report.AnalysesJSON(&want, s.cfg.Version, []report.Analysis{{Result: res, Missing: jobs[0].Missing, Unit: jobs[0].Unit, BlockName: jobs[0].BlockName, Simulated: jobs[0].Simulated}})
 	if got := section(t, body, "analysis-json-0"); got != want.String() {
 		t.Errorf("analysis JSON differs:\n%s\nwant\n%s", got, want.String())
 	}
