@@ -980,7 +980,7 @@ func verdicts(a Assumptions, alpha float64) []string {
 	case !a.NormalOK:
 		v = append(v, "Normality of the residuals could not be tested (fewer than 3 or more than 5000 values, all equal, or not finite).")
 	case a.ShapiroP < alpha:
-		v = append(v, fmt.Sprintf("The residuals depart from a normal distribution (Shapiro–Wilk W = %.4f, p = %.4g). With moderate group sizes the F test is fairly robust to this, but look at the quantile plot. allot does not transform data or run rank-based tests itself: analyse a transformed response (for example the logarithm, entered as its own response column) or ask a statistician.", a.ShapiroW, a.ShapiroP))
+		v = append(v, fmt.Sprintf("The residuals depart from a normal distribution (Shapiro–Wilk W = %.4f, p = %.4g). With moderate group sizes the F test is fairly robust to this, but look at the quantile plot. Options in allot: a transformed response (allot analyze --transform log, sqrt or logit), a rank test (--method rank: Kruskal–Wallis, or Friedman with blocks), or for counts and proportions a GLM (--family poisson or binomial); or ask a statistician.", a.ShapiroW, a.ShapiroP))
 	default:
 		v = append(v, fmt.Sprintf("The residuals are consistent with a normal distribution (Shapiro–Wilk W = %.4f, p = %.4g); this does not prove normality, and small samples have little power to show departures.", a.ShapiroW, a.ShapiroP))
 	}
@@ -988,7 +988,7 @@ func verdicts(a Assumptions, alpha float64) []string {
 	case !a.LeveneOK:
 		v = append(v, "Equal variances could not be tested (too few units per treatment, or no spread to compare).")
 	case a.LeveneP < alpha:
-		v = append(v, fmt.Sprintf("The spread differs between treatments (%s F(%d, %d) = %.3f, p = %.4g): the equal-variance assumption is doubtful. allot has no unequal-variance (Welch-type) analysis: a transformed response (for example the logarithm when the spread grows with the mean, entered as its own response column) may stabilise it; otherwise ask a statistician.", a.LeveneName, a.LeveneDF[0], a.LeveneDF[1], a.Levene, a.LeveneP))
+		v = append(v, fmt.Sprintf("The spread differs between treatments (%s F(%d, %d) = %.3f, p = %.4g): the equal-variance assumption is doubtful. Options in allot: Welch's ANOVA with Games–Howell comparisons for one factor (allot analyze --method welch), or a transformation that may stabilise the spread (--transform log when the spread grows with the mean); otherwise ask a statistician.", a.LeveneName, a.LeveneDF[0], a.LeveneDF[1], a.Levene, a.LeveneP))
 	default:
 		v = append(v, fmt.Sprintf("The spread is consistent with equal variances across treatments (%s F(%d, %d) = %.3f, p = %.4g).", a.LeveneName, a.LeveneDF[0], a.LeveneDF[1], a.Levene, a.LeveneP))
 	}

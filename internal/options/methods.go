@@ -203,10 +203,10 @@ func TransformNote(kind string, res *analyze.Result) string {
 	}
 	var parts []string
 	for _, gs := range res.Groups {
+		// Every factor's levels, as the means table lists them.
 		for _, g := range gs {
-			parts = append(parts, fmt.Sprintf("%s %s [%s, %s]", g.Level, trim(analyze.BackTransform(kind, g.LSMean)), trim(analyze.BackTransform(kind, g.Lower)), trim(analyze.BackTransform(kind, g.Upper))))
+			parts = append(parts, fmt.Sprintf("%s %s %s [%s, %s]", g.Term, g.Level, trim(analyze.BackTransform(kind, g.LSMean)), trim(analyze.BackTransform(kind, g.Lower)), trim(analyze.BackTransform(kind, g.Upper))))
 		}
-		break
 	}
 	what := map[string]string{analyze.TransformLog: "natural logarithm; back-transformed, a mean is a geometric mean and a difference a ratio",
 		analyze.TransformSqrt:  "square root; back-transformed means are medians on the original scale if the roots are symmetric",
