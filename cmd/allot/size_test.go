@@ -109,6 +109,7 @@ func TestSizeRun(t *testing.T) {
 		{"size_covariate", []string{"size", "--groups", "3", "--means", "30,33,35", "--sd", "4", "--covariate-r", "0.6", "--subjects", "animals", "--justify"}},
 		{"size_proportions", []string{"size", "--proportions", "0.6,0.75", "--trials", "50", "--levels", "peat,coir", "--dropout", "0.1"}},
 		{"size_counts_json", []string{"size", "--counts", "4,6,5", "--n", "10", "--json"}},
+		{"size_counts_simulate", []string{"size", "--counts", "4,6", "--blocks", "6", "--simulate", "--block-sd", "0.3", "--overdispersion", "0.2", "--sims", "200", "--seed", "2", "--quiet"}},
 		{"size_rcbd_power", []string{"size", "--design", "rcbd", "--groups", "5", "--f", "0.6", "--blocks", "6"}},
 		{"size_ttest_detect", []string{"size", "--groups", "2", "--sides", "1", "--n", "10", "--detect", "--sd", "4"}},
 		{"size_factorial_json", []string{"size", "--factor", "dose=3", "--factor", "diet=chow,fat", "--term", "dose,diet", "--f", "0.3", "--json"}},
@@ -171,6 +172,7 @@ func TestSizeBadInput(t *testing.T) {
 		{[]string{"--proportions", "0.5,1.2", "--trials", "10"}, "--proportions: proportion 1.2: must be strictly between 0 and 1"},
 		{[]string{"--proportions", "0.5,0.7", "--trials", "10", "--f", "0.3"}, "--f goes with a measured response"},
 		{[]string{"--counts", "3,3"}, "all equal: there is no effect to detect"},
+		{[]string{"--counts", "3,4", "--blocks", "4"}, "need --simulate"},
 		{[]string{"--counts", "3,4", "--proportions", "0.2,0.3"}, "give one"},
 		{[]string{"--groups", "3", "--f", "0.3", "--covariate-r", "1"}, "--covariate-r 1: the correlation must be strictly between -1 and 1"},
 		// Explicit zeros are refused, not replaced by the default.

@@ -159,8 +159,8 @@ func RunGLM(ctx context.Context, s GLMSpec) (Result, error) {
 	res.MeanLost = float64(total.lost) / float64(total.n)
 	for k, name := range names {
 		res.Terms = append(res.Terms,
-			estimate("test of "+name+" (likelihood-ratio χ²)", total.terms[2*k], total.n),
-			estimate("test of "+name+" (as analysed: quasi-likelihood F when the dispersion exceeds 1)", total.terms[2*k+1], total.n))
+			estimate(name+": χ² test", total.terms[2*k], total.n),
+			estimate(name+": as analysed", total.terms[2*k+1], total.n))
 	}
 	return res, nil
 }
