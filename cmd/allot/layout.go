@@ -171,6 +171,15 @@ file (keys are these flag names, with _ for -); flags override it.` + "\n" + exi
 
 // resolveSpec merges the spec file and the flags that were set.
 func (o *layoutOptions) resolveSpec(c *cobra.Command) error {
+	for _, f := range []struct{ name, value string }{{"out", o.out}, {"map", o.mapFile}, {"key", o.key}} {
+		if c.Flags().Changed(f.name) && strings.TrimSpace(f.value) == "" {
+			flag := "--" + f.name
+			if f.name == "out" {
+				flag = "-o"
+			}
+			return usagef("%s '': give a file name, or leave %s out", flag, flag)
+		}
+	}
 	flags := o.spec
 	if o.specFile != "" {
 		b, err := os.ReadFile(o.specFile)
