@@ -2,7 +2,9 @@ package report
 
 import (
 	"fmt"
+	"html"
 	"io"
+	"strings"
 
 	"github.com/allotproject/allot/analyze"
 
@@ -194,4 +196,60 @@ func ProfileFigure(p Profiles) (Figure, error) {
 	pl.Legend.Top = true
 	pl.Legend.YOffs = -vg.Points(14)
 	return Figure{Name: "profiles", Title: pl.Title.Text, plot: pl, w: 16 * vg.Centimeter, h: 11 * vg.Centimeter}, nil
+}
+
+// sectionsHTML renders sections as HTML (headings, paragraphs, tables),
+// escaping all text.
+func sectionsHTML(b *strings.Builder, secs []section) {
+	esc := html.EscapeString
+	for _, s := range secs {
+		fmt.Fprintf(b, "<h2>%s</h2>\n", esc(s.title))
+		for _, p := range s.parts {
+			switch v := p.(type) {
+			case string:
+				fmt.Fprintf(b, "<p>%s</p>\n", esc(v))
+			case table:
+				b.WriteString("<table><thead><tr>")
+				for _, h := range v.head {
+					fmt.Fprintf(b, "<th>%s</th>", esc(h))
+				}
+				b.WriteString("</tr></thead><tbody>\n")
+				for _, r := range v.rows {
+					b.WriteString("<tr>")
+					for i, c := range r {
+						cls := ""
+						if v.right != nil && i < len(v.right) && v.right[i] {
+							cls = ` class="num"`
+						}
+						fmt.Fprintf(b, "<td%s>%s</td>", cls, esc(c))
+					}
+					b.WriteString("</tr>\n")
+				}
+				b.WriteString("</tbody></table>\n")
+			}
+		}
+	}
+}
+
+// ProfilesHTML writes a self-contained page (inline CSS and SVG, no
+// scripts) of a repeated-measurements analysis: the tables, the profile
+// plot and the command that reproduces it.
+func ProfilesHTML(w io.Writer, p Profiles, command, version string) error {
+	fig, err := ProfileFigure(p)
+	if err != nil {
+		return err
+	}
+	svg, err := fig.InlineSVG()
+	if err != nil {
+		return err
+	}
+	var b strings.Builder
+	fmt.Fprintf(&b, "<!DOCTYPE html>\n<html lang=\"en\"><head><meta charset=\"utf-8\"><title>%s</title>\n", html.EscapeString("Repeated measurements of "+p.Response))
+	b.WriteString("<style>body{font-family:sans-serif;max-width:60em;margin:2em auto;padding:0 1em;color:#222}table{border-collapse:collapse;margin:.5em 0}th,td{border-bottom:1px solid #ccc;padding:.2em .6em;text-align:left}td.num{text-align:right;font-variant-numeric:tabular-nums}figure{margin:1em 0}code{background:#f3f3f3;padding:.1em .3em}</style></head><body>\n")
+	fmt.Fprintf(&b, "<h1>%s</h1>\n", html.EscapeString("Repeated measurements of "+p.Response))
+	sectionsHTML(&b, p.sections())
+	fmt.Fprintf(&b, "<figure>%s<figcaption>%s</figcaption></figure>\n", svg, html.EscapeString(fig.Title))
+	fmt.Fprintf(&b, "<p>Made with allot %s by the command <code>%s</code>.</p>\n</body></html>\n", html.EscapeString(version), html.EscapeString(command))
+	_, err = io.WriteString(w, b.String())
+	return err
 }

@@ -4,10 +4,12 @@ import (
 	"fmt"
 	"io"
 	"os"
+	"strings"
 
 	"github.com/allotproject/allot/analyze"
 	"github.com/allotproject/allot/design"
 	"github.com/allotproject/allot/design/workbook"
+	"github.com/allotproject/allot/internal/atomicfile"
 	"github.com/allotproject/allot/internal/options"
 	"github.com/allotproject/allot/internal/version"
 	"github.com/allotproject/allot/report"
@@ -58,6 +60,9 @@ func (o *analyzeOptions) methodRun(w io.Writer, j *job, plan *design.Plan) (*rep
 		if err != nil {
 			return nil, true, inputErr(fmt.Errorf("%s: %s: %w", o.read.file, j.Data.Response, err))
 		}
+		if j.ModelNote != "" {
+			res.Notes = append(res.Notes, j.ModelNote)
+		}
 		c := report.Covariance{ANCOVAResult: res, Unit: o.unit}
 		return &report.MethodDoc{Response: j.Data.Response, Method: "ancova", Result: res}, true, o.render(w, func() error {
 			if md {
@@ -78,6 +83,9 @@ func (o *analyzeOptions) methodRun(w io.Writer, j *job, plan *design.Plan) (*rep
 	res, err := analyze.RunMethod(j.Data, opt)
 	if err != nil {
 		return nil, true, inputErr(fmt.Errorf("%s: %s: %w", o.read.file, j.Data.Response, err))
+	}
+	if res.GLM != nil && j.ModelNote != "" {
+		res.GLM.Notes = append(res.GLM.Notes, j.ModelNote)
 	}
 	m := report.Method{MethodResult: res, Unit: j.Unit, Missing: j.Missing, Simulated: j.Simulated}
 	return &report.MethodDoc{Response: j.Data.Response, Method: method, Result: res}, true, o.render(w, func() error {
@@ -114,7 +122,7 @@ func (o *analyzeOptions) attachExtras(jobs []job, fl *workbook.Filled) error {
 			}
 			keep, x := options.AlignTo(obs, fl.Observations(kc))
 			if len(keep) < len(obs.Units) {
-				j.ModelNote = fmt.Sprintf("%d unit(s) with no value of %s were left out of the analysis of covariance.", len(obs.Units)-len(keep), name)
+				j.ModelNote = strings.TrimSpace(j.ModelNote + " " + fmt.Sprintf("%d unit(s) with no value of %s were left out of the analysis of covariance.", len(obs.Units)-len(keep), name))
 			}
 			j.Data, j.Covariate = options.Subset(j.Data, keep), x
 		}
@@ -241,7 +249,14 @@ func analyzeRepeated(s *streams, o *analyzeOptions, fl *workbook.Filled) error {
 	}
 	var docs []report.MethodDoc
 	var anovas []report.Analysis
-	for i, rm := range options.Repeated(fl) {
+	groups := options.Repeated(fl)
+	if o.html != "" && o.response == "" && len(groups) > 1 {
+		return usagef("--report %s: %d responses are measured at several times; name one with --response", o.html, len(groups))
+	}
+	if o.html != "" && o.methods.Summary != "" {
+		return usagef("--report with --summary: the summary's ANOVA has no page of its own yet; use --format markdown")
+	}
+	for i, rm := range groups {
 		if o.response != "" && rm.Response != o.response {
 			continue
 		}
@@ -285,6 +300,12 @@ func analyzeRepeated(s *streams, o *analyzeOptions, fl *workbook.Filled) error {
 			return report.ProfilesText(s.Out, pr)
 		}); err != nil {
 			return err
+		}
+		if o.html != "" {
+			if err := atomicfile.Write(o.html, o.force, func(w io.Writer) error { return report.ProfilesHTML(w, pr, o.command, version.String()) }); err != nil {
+				return inputErr(err)
+			}
+			fmt.Fprintf(s.Err, "allot analyze: wrote %s\n", o.html)
 		}
 		if o.plots != "" {
 			fig, err := report.ProfileFigure(pr)

@@ -107,8 +107,34 @@ func TestAnalyzeDeclaredKindsAndTimes(t *testing.T) {
 	if code != 0 || !strings.Contains(out, "Repeated measurements of w") || !strings.Contains(out, "Mauchly") {
 		t.Fatalf("times: exit %d %s\n%s", code, errs, out)
 	}
+	page := filepath.Join(dir, "rm.html")
+	if code, _, errs := runArgs(t, "analyze", filled, "--report", page); code != 0 {
+		t.Fatalf("--report: %s", errs)
+	}
+	if b, _ := os.ReadFile(page); !strings.Contains(string(b), "<svg") || !strings.Contains(string(b), "Mauchly") || strings.Contains(string(b), "<script") {
+		t.Errorf("report page lacks the profile plot or the sphericity line, or has a script")
+	}
 	code, out, errs = runArgs(t, "analyze", filled, "--summary", "slope")
 	if code != 0 || !strings.Contains(out, "w (slope)") {
 		t.Fatalf("summary: exit %d %s\n%s", code, errs, out)
+	}
+}
+
+// TestMatchedBlocksSaySo: blocks formed by matching on a covariate are
+// named as such in the analysis, beside any --covariate adjustment.
+func TestMatchedBlocksSaySo(t *testing.T) {
+	dir := t.TempDir()
+	list := filepath.Join(dir, "mice.csv")
+	os.WriteFile(list, []byte("id,weight\nm1,20.1\nm2,21.4\nm3,19.8\nm4,22.0\nm5,20.5\nm6,23.1\n"), 0o644)
+	wb, filled := filepath.Join(dir, "w.xlsx"), filepath.Join(dir, "w-filled.xlsx")
+	if code, _, errs := runArgs(t, "layout", "--factor", "diet=chow,fat", "--units", list, "--match-on", "weight", "--response", "gain", "--seed", "2", "-o", wb); code != 0 {
+		t.Fatal(errs)
+	}
+	if err := workbook.Fill(wb, filled, [][]float64{{1.2, 2.1, 1.0, 2.4, 1.4, 2.2}}, "", false); err != nil {
+		t.Fatal(err)
+	}
+	code, out, errs := runArgs(t, "analyze", filled)
+	if code != 0 || !strings.Contains(out, "formed by matching units on a covariate") {
+		t.Fatalf("exit %d %s\n%s", code, errs, out)
 	}
 }

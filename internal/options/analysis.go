@@ -131,7 +131,11 @@ func WorkbookJobs(fl *workbook.Filled, file, response string) ([]Job, *design.Pl
 		d := DataOf(r, obs, fnames, names, block)
 		d.BlockInteraction = p.Generalised()
 		d.Lost = LostUnits(fl, k, obs)
-		out = append(out, Job{Data: d, Missing: len(fl.Layout.Units) - len(obs.Units), Control: p.Control, Unit: "unit", BlockName: p.BlockName, Simulated: fl.Simulated()})
+		note := ""
+		if matchedBlocks(p) {
+			note = fmt.Sprintf("The %s were formed by matching units on a covariate measured before allocation (weight-matched blocks), so the %s term already adjusts for it; a baseline covariate given with --covariate is adjusted for within the blocks as well.", design.Plural(p.BlockName), p.BlockName)
+		}
+		out = append(out, Job{ModelNote: note, Data: d, Missing: len(fl.Layout.Units) - len(obs.Units), Control: p.Control, Unit: "unit", BlockName: p.BlockName, Simulated: fl.Simulated()})
 	}
 	if len(out) == 0 {
 		return nil, nil, nil, errorf("response", "--response %s: the plan has no such response (responses: %s)", response, strings.Join(fl.Responses, ", "))
@@ -141,6 +145,17 @@ func WorkbookJobs(fl *workbook.Filled, file, response string) ([]Job, *design.Pl
 		check = append(check, pr.String())
 	}
 	return out, &p, check, nil
+}
+
+// matchedBlocks reports whether the plan's blocks were formed by matching on
+// a covariate (layout --match-on): its units carry the covariate's values.
+func matchedBlocks(p design.Plan) bool {
+	for _, u := range p.Units {
+		if u.Covariate != nil {
+			return true
+		}
+	}
+	return false
 }
 
 // PlainJob is the job of a plain CSV table with the roles of its columns:
