@@ -242,3 +242,57 @@ func GLMSimulationJSON(w io.Writer, s GLMSimulation) error {
 	enc.SetIndent("", "  ")
 	return enc.Encode(doc)
 }
+
+// LatinSize is the power of a series of Latin squares.
+type LatinSize struct {
+	Plan     power.LatinPlan
+	Test     power.LatinTest
+	Target   float64
+	Evaluate bool
+	Command  string
+}
+
+// LatinSizeText renders the answer, leading with it in words.
+func LatinSizeText(s LatinSize) string {
+	var b strings.Builder
+	t := len(s.Plan.Means)
+	r := s.Test
+	if s.Evaluate {
+		b.WriteString(wrap(fmt.Sprintf("With %d %d × %d Latin square(s) (%d units) the F test of the treatments has power %s.", r.Squares, t, t, r.Units, fixed(r.Power, 3)), DefaultWidth, ""))
+	} else {
+		b.WriteString(wrap(fmt.Sprintf("You need %d %d × %d Latin square(s), %d units in total, for power %s (%s reached).", r.Squares, t, t, r.Units, fixed(s.Target, 2), fixed(r.Power, 3)), DefaultWidth, ""))
+	}
+	b.WriteString("\nWhat this assumes\n")
+	b.WriteString(wrap(fmt.Sprintf("treatment means %s with residual SD %s (within rows and columns); rows and columns are blocking directions within each square; alpha %s.", joinShort(s.Plan.Means), short(s.Plan.SD), short(s.Plan.Alpha)), DefaultWidth-2, "  "))
+	b.WriteString("\nHow it was computed\n")
+	b.WriteString(wrap(fmt.Sprintf("exact noncentral F of the treatment test of the additive model (squares, rows and columns within squares, treatments): df %s and %s, noncentrality %s, critical F %s.", dfNum(r.DF1), dfNum(r.DF2), num(r.Lambda, 5), num(r.FCrit, 5)), DefaultWidth-2, "  "))
+	b.WriteString("\nCautions\n")
+	b.WriteString(wrap("- A power calculation supports, but does not replace, review of the study by the ethics committee or other body that approves the work, the institution's rules and a qualified statistician.", DefaultWidth-2, "  "))
+	return b.String()
+}
+
+// LatinSizeJSON writes the answer as an allot.size/v1 document.
+func LatinSizeJSON(w io.Writer, s LatinSize) error {
+	t := len(s.Plan.Means)
+	doc := struct {
+		Format  string          `json:"format"`
+		Method  string          `json:"method"`
+		Design  string          `json:"design"`
+		Test    string          `json:"test"`
+		Mode    string          `json:"mode"`
+		Alpha   float64         `json:"alpha"`
+		Target  float64         `json:"target_power"`
+		N       int             `json:"n_per_group"`
+		Total   int             `json:"total_n"`
+		DF1     float64         `json:"df1"`
+		DF2     float64         `json:"df2"`
+		Power   float64         `json:"achieved_power"`
+		Squares power.LatinTest `json:"latin"`
+		Command string          `json:"command"`
+	}{"allot.size/v1", "exact noncentral F", fmt.Sprintf("latin squares, %d treatments", t), "F test of the treatments",
+		map[bool]string{true: "power", false: "sample size"}[s.Evaluate], s.Plan.Alpha, s.Target, s.Test.Squares * t, s.Test.Units,
+		s.Test.DF1, s.Test.DF2, s.Test.Power, s.Test, s.Command}
+	enc := json.NewEncoder(w)
+	enc.SetIndent("", "  ")
+	return enc.Encode(doc)
+}

@@ -41,6 +41,7 @@ func TestSchemasMatchOutput(t *testing.T) {
 		{"size", []string{"size", "--d", "0.8", "--n", "20", "--json"}},
 		{"size", []string{"size", "--factor", "dose=3", "--factor", "diet=chow,fat", "--term", "dose,diet", "--f", "0.3", "--design", "rcbd", "--json"}},
 		{"size", []string{"size", "--proportions", "0.5,0.7", "--trials", "10", "--json"}},
+		{"size", []string{"size", "--design", "latin", "--means", "20,21,23", "--sd", "1", "--squares", "2", "--json"}},
 		{"simulation", []string{"size", "--groups", "3", "--means", "10,12,14", "--sd", "3", "--n", "8", "--simulate", "--sims", "50", "--seed", "18446744073709551615", "--json"}},
 		{"layout", []string{"layout", "--factor", "feed=A,B,C", "--design", "rcbd", "--blocks", "2", "--seed", "18446744073709551615", "--json"}},
 		{"layout", []string{"layout", "--factor", "feed=A,B", "--factor", "dose=0,1", "--reps", "1", "--blocks", "2", "--grid", "2x2", "--order", "--seed", "3", "--json"}},

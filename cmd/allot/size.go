@@ -41,6 +41,8 @@ type sizeOptions struct {
 	sim      simOptions
 	glm      glmSizeFlags
 	split    *splitPlotSize // --design split-plot (size_strata.go)
+	latin    *latinSize     // --design latin (size_latin.go)
+	squares  int
 }
 
 func newSizeCmd(s *streams, runF func(*sizeOptions) error) *cobra.Command {
@@ -147,7 +149,8 @@ number of --workers; Ctrl-C stops early and prints what is done.` + "\n" + exitH
 	f.IntVar(&o.req.Groups, "groups", 0, fmt.Sprintf("number of groups `K` of a one-way layout (2 to %d)", power.MaxCells))
 	f.StringArrayVar(&o.factors, "factor", nil, "factor `NAME=LEVELS` (a count or a comma list); repeat for a factorial")
 	f.StringVar(&o.term, "term", "", "effect to plan for in a factorial: `NAME` or NAME1,NAME2 for an interaction")
-	f.StringVar(&o.design, "design", "crd", "`crd` (completely randomised), rcbd (randomised complete blocks) or split-plot")
+	f.StringVar(&o.design, "design", "crd", "`crd` (completely randomised), rcbd (randomised complete blocks), split-plot or latin")
+	f.IntVar(&o.squares, "squares", 0, "latin: evaluate the power with `S` Latin squares (default: the fewest for --power)")
 	f.IntVar(&o.blocks, "blocks", 0, "evaluate `B` blocks (implies --design rcbd and --n B)")
 	f.StringVar(&o.ratios, "ratios", "", "unequal allocation, one `RATIO` per group, for example 2,1,1")
 	f.Float64Var(&o.req.Alpha, "alpha", 0.05, "significance level `A`")
@@ -194,6 +197,9 @@ number of --workers; Ctrl-C stops early and prints what is done.` + "\n" + exitH
 func (o *sizeOptions) resolve(c *cobra.Command) error {
 	if o.design == "split-plot" {
 		return o.resolveSplitPlot(c)
+	}
+	if o.design == "latin" {
+		return o.resolveLatin(c)
 	}
 	given := map[string]bool{}
 	c.Flags().Visit(func(f *pflag.Flag) { given[f.Name] = true })
@@ -263,6 +269,9 @@ func floatList(flag, s string) ([]float64, error) {
 func sizeRun(s *streams, o *sizeOptions) error {
 	if o.design == "split-plot" {
 		return splitPlotSizeRun(s, o)
+	}
+	if o.design == "latin" {
+		return latinSizeRun(s, o)
 	}
 	if o.sim.on {
 		return simulateRun(s, o)

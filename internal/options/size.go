@@ -65,7 +65,7 @@ func (s Size) Request() (power.Request, report.Study, error) {
 	case "rcbd":
 		r.Blocked = true
 	default:
-		return r, st, errorf("design", "--design %s: must be crd (completely randomised) or rcbd (randomised complete blocks)", s.Design)
+		return r, st, errorf("design", "--design %s: must be crd (completely randomised), rcbd (randomised complete blocks), split-plot or latin", s.Design)
 	}
 	if s.Given["blocks"] {
 		if s.Blocks < 2 {
