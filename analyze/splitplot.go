@@ -4,6 +4,7 @@ import (
 	"errors"
 	"fmt"
 	"math"
+	"strings"
 
 	"gonum.org/v1/gonum/stat/distuv"
 )
@@ -22,6 +23,12 @@ type SplitPlot struct {
 	MainPlot Column
 	Block    *Column
 	Units    []string
+	// WholeFactors and SubFactors, when the whole-plot or sub-plot
+	// treatments are a factorial (Whole and Sub then hold their
+	// combinations), hold the factors one by one: the analysis then splits
+	// each stratum's treatment sum of squares into main effects and
+	// interactions.
+	WholeFactors, SubFactors []Column
 }
 
 // StratumTerm is a row of a multi-stratum ANOVA table.
@@ -283,6 +290,11 @@ func SplitPlotANOVA(d SplitPlot) (*SplitPlotResult, error) {
 		{Kind: "two " + d.Sub.Name + " means at one " + d.Whole.Name + " level", SE: math.Sqrt(2 * res.MSb / R), DF: float64(res.DFb)},
 		{Kind: "two " + d.Whole.Name + " means at one or different " + d.Sub.Name + " levels", SE: math.Sqrt(2 * comb / (R * B)), DF: satt, Satterthwaite: true},
 	}
+	if len(d.WholeFactors) > 1 || len(d.SubFactors) > 1 {
+		if err := res.decompose(d, y, one, blkCols, mpCols); err != nil {
+			return nil, err
+		}
+	}
 	// The naive one-stratum test of A against the pooled residual.
 	naiveDF := n - 1 - dfBlk - dfA - dfB - dfAB
 	naiveMS := (ssEa + rAB) / float64(naiveDF)
@@ -292,3 +304,132 @@ func SplitPlotANOVA(d SplitPlot) (*SplitPlotResult, error) {
 
 // ErrUnbalanced reports data that a balanced-design method cannot take.
 var ErrUnbalanced = errors.New("analyze: unbalanced")
+
+// factorTerm is one term of a factorial: its name and coded columns.
+type factorTerm struct {
+	name string
+	cols [][]float64
+}
+
+// factorialTerms returns the main effects and interactions of factors in
+// hierarchical order (sum-to-zero codings, interactions as products).
+func factorialTerms(factors []Column) ([]factorTerm, [][][]float64, error) {
+	codes := make([][][]float64, len(factors))
+	for i, f := range factors {
+		lv, idx, err := f.levels()
+		if err != nil {
+			return nil, nil, err
+		}
+		codes[i] = contrasts(idx, len(lv))
+	}
+	var out []factorTerm
+	for deg := 1; deg <= len(factors); deg++ {
+		for _, set := range subsets(len(factors), deg) {
+			var names []string
+			var sets [][][]float64
+			for _, k := range set {
+				names = append(names, factors[k].Name)
+				sets = append(sets, codes[k])
+			}
+			out = append(out, factorTerm{strings.Join(names, " × "), kronCols(sets...)})
+		}
+	}
+	return out, codes, nil
+}
+
+// kronCols returns the element-wise products of one column from each set,
+// the first set's index varying slowest.
+func kronCols(sets ...[][]float64) [][]float64 {
+	cols := [][]float64{nil}
+	for _, set := range sets {
+		var next [][]float64
+		for _, a := range cols {
+			for _, b := range set {
+				c := make([]float64, len(b))
+				for i := range c {
+					c[i] = b[i]
+					if a != nil {
+						c[i] *= a[i]
+					}
+				}
+				next = append(next, c)
+			}
+		}
+		cols = next
+	}
+	return cols
+}
+
+// decompose replaces the whole-plot, sub-plot and interaction rows by their
+// factorial terms: sequential sums of squares, which are orthogonal in the
+// balanced split plot, the whole-plot terms after the blocks and tested
+// against error (a), the sub-plot terms and the whole × sub terms within
+// main plots and tested against error (b).
+func (res *SplitPlotResult) decompose(d SplitPlot, y, one []float64, blkCols, mpCols [][]float64) error {
+	wf, sf := d.WholeFactors, d.SubFactors
+	if len(wf) == 0 {
+		wf = []Column{d.Whole}
+	}
+	if len(sf) == 0 {
+		sf = []Column{d.Sub}
+	}
+	wt, _, err := factorialTerms(wf)
+	if err != nil {
+		return err
+	}
+	st, _, err := factorialTerms(sf)
+	if err != nil {
+		return err
+	}
+	var cross []factorTerm
+	for _, a := range wt {
+		for _, b := range st {
+			cross = append(cross, factorTerm{a.name + " × " + b.name, kronCols(a.cols, b.cols)})
+		}
+	}
+	seq := func(base [][]float64, terms []factorTerm, stratum, errName string, ms float64, df int) ([]StratumTerm, error) {
+		cols := append([][]float64(nil), base...)
+		prev, err := ols(y, cols)
+		if err != nil {
+			return nil, err
+		}
+		var out []StratumTerm
+		for _, t := range terms {
+			cols = append(cols, t.cols...)
+			f, err := ols(y, cols)
+			if err != nil {
+				return nil, err
+			}
+			row := StratumTerm{Stratum: stratum, Source: t.name, DF: len(t.cols), SS: math.Max(0, prev.rss-f.rss), Error: errName}
+			row.MS = row.SS / float64(row.DF)
+			row.F = row.MS / ms
+			row.P = distuv.F{D1: float64(row.DF), D2: float64(df)}.Survival(row.F)
+			out = append(out, row)
+			prev = f
+		}
+		return out, nil
+	}
+	whole, err := seq(append([][]float64{one}, blkCols...), wt, "whole plots", "error (a)", res.MSa, res.DFa)
+	if err != nil {
+		return err
+	}
+	sub, err := seq(mpCols, append(st, cross...), "sub-plots", "error (b)", res.MSb, res.DFb)
+	if err != nil {
+		return err
+	}
+	var terms []StratumTerm
+	for _, t := range res.Terms {
+		switch {
+		case t.Source == d.Whole.Name:
+			terms = append(terms, whole...)
+		case t.Source == d.Sub.Name:
+			terms = append(terms, sub...)
+		case t.Source == d.Whole.Name+" × "+d.Sub.Name:
+			// Already among the sub-plot terms.
+		default:
+			terms = append(terms, t)
+		}
+	}
+	res.Terms = terms
+	return nil
+}

@@ -249,3 +249,52 @@ func TestSplitPlotTypeI(t *testing.T) {
 	}
 	t.Logf("type I error: whole-plot F %.3f (SE %.3f), naive one-stratum F %.3f", pr, se, pn)
 }
+
+// TestSplitPlotFactorialWholePlots: 2 × 2 whole-plot treatments are split
+// into their main effects and interaction in the whole-plot stratum, and
+// their interactions with the sub-plot factor in the sub-plot stratum,
+// as nested statsmodels OLS fits give them
+// (testdata/reference/splitplot_factorial.json, gen_splitplot_factorial.py).
+func TestSplitPlotFactorialWholePlots(t *testing.T) {
+	b, err := os.ReadFile("../testdata/reference/splitplot_factorial.json")
+	if err != nil {
+		t.Fatal(err)
+	}
+	var ref struct {
+		Data struct{ Y, Light, Co2, Variety, Mp []string }
+		SS   map[string]float64
+	}
+	if err := json.Unmarshal(b, &ref); err != nil {
+		t.Fatal(err)
+	}
+	var whole []string
+	for i := range ref.Data.Light {
+		whole = append(whole, ref.Data.Light[i]+" × "+ref.Data.Co2[i])
+	}
+	d := SplitPlot{Response: "y", Values: ref.Data.Y, Whole: Column{Name: "light × co2", Values: whole},
+		Sub: Column{Name: "variety", Values: ref.Data.Variety}, MainPlot: Column{Name: "main plot", Values: ref.Data.Mp},
+		WholeFactors: []Column{{Name: "light", Values: ref.Data.Light, Levels: []string{"12h", "16h"}}, {Name: "co2", Values: ref.Data.Co2, Levels: []string{"low", "high"}}},
+		SubFactors:   []Column{{Name: "variety", Values: ref.Data.Variety}}}
+	res, err := SplitPlotANOVA(d)
+	if err != nil {
+		t.Fatal(err)
+	}
+	got := map[string]StratumTerm{}
+	for _, tm := range res.Terms {
+		got[tm.Source] = tm
+	}
+	for name, w := range ref.SS {
+		g, ok := got[name]
+		if !ok {
+			t.Fatalf("no row %q (rows %v)", name, res.Terms)
+		}
+		refNear(t, name+" SS", g.SS, w, 1e-9)
+		wantErr := "error (b)"
+		if name == "light" || name == "co2" || name == "light × co2" {
+			wantErr = "error (a)"
+		}
+		if g.Error != wantErr {
+			t.Errorf("%s tested against %s, want %s", name, g.Error, wantErr)
+		}
+	}
+}

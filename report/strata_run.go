@@ -44,6 +44,18 @@ func RunStrata(p design.Plan, response string, obs workbook.StrataObservations, 
 	if p.Blocks > 1 {
 		d.Block = &analyze.Column{Name: p.BlockName, Values: obs.Blocks}
 	}
+	if nw := p.WholePlotFactors; nw > 1 || len(p.Factors)-nw > 1 {
+		// Factorial treatments within a stratum: split them into their
+		// main effects and interactions.
+		for i, f := range p.Factors {
+			c := analyze.Column{Name: f.Name, Levels: f.Levels, Values: obs.Levels[i]}
+			if i < nw {
+				d.WholeFactors = append(d.WholeFactors, c)
+			} else {
+				d.SubFactors = append(d.SubFactors, c)
+			}
+		}
+	}
 	if a.Missing == 0 {
 		res, err := analyze.SplitPlotANOVA(d)
 		if err == nil {
