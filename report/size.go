@@ -139,7 +139,7 @@ func SizeText(w io.Writer, s Size) error {
 	b.WriteString(wrap(s.lead(), 78, ""))
 	assumes := [][2]string{
 		{"design", s.Design},
-		{"test", s.TestName + " (" + s.Method + ")"},
+		{"test", s.TestName},
 	}
 	if s.Response != "" {
 		resp := s.Response
@@ -185,6 +185,7 @@ func SizeText(w io.Writer, s Size) error {
 		}
 	}
 	details := [][2]string{
+		{"computed with", s.Method},
 		{s.nUnit(), fmt.Sprint(s.N)},
 		{"total " + s.subjects(), fmt.Sprint(s.Total)},
 		{"df", dfText(s)},
