@@ -24,25 +24,34 @@ type Analysis struct {
 func (a Analysis) anovaTable() table {
 	t := a.Table
 	tb := table{
-		head:  []string{"source of variation", "df", "SS", "MS", "F", "p", "partial η²"},
-		right: []bool{false, true, true, true, true, true, true},
+		head:  []string{"source of variation", "df", "SS", "MS", "F", "p"},
+		right: []bool{false, true, true, true, true, true},
 	}
 	for _, r := range t.Terms {
 		f, p := num(r.F, 4), pval(r.P)
 		if t.ExactFit {
 			f, p = "undefined", "–"
 		}
-		eta := fixed(r.PartialEta2, 3)
-		if r.Block {
-			eta = ""
-		}
-		tb.rows = append(tb.rows, []string{r.Source, fmt.Sprint(r.DF), ssNum(r.SS, r.SSZero), ssNum(r.MS, r.SSZero), f, p, eta})
+		tb.rows = append(tb.rows, []string{r.Source, fmt.Sprint(r.DF), ssNum(r.SS, r.SSZero), ssNum(r.MS, r.SSZero), f, p})
 	}
 	tb.rows = append(tb.rows,
-		[]string{"residual", fmt.Sprint(t.Residual.DF), ssNum(t.Residual.SS, t.ExactFit), ssNum(t.Residual.MS, t.ExactFit), "", "", ""},
-		[]string{"total", fmt.Sprint(t.TotalDF), num(t.TotalSS, 5), "", "", "", ""},
+		[]string{"residual", fmt.Sprint(t.Residual.DF), ssNum(t.Residual.SS, t.ExactFit), ssNum(t.Residual.MS, t.ExactFit), "", ""},
+		[]string{"total", fmt.Sprint(t.TotalDF), num(t.TotalSS, 5), "", "", ""},
 	)
 	return tb
+}
+
+// shareTable is the effect size of each treatment term in its own small
+// table: the share of variation explained (partial η²). Blocks have none.
+func (a Analysis) shareTable() (table, bool) {
+	tb := table{head: []string{"term", "partial η²"}, right: []bool{false, true}}
+	for _, r := range a.Table.Terms {
+		if r.Block {
+			continue
+		}
+		tb.rows = append(tb.rows, []string{r.Source, fixed(r.PartialEta2, 3)})
+	}
+	return tb, len(tb.rows) > 0
 }
 
 // ssNum writes a sum of squares, "0 (exact)" when it is exactly zero.
@@ -65,8 +74,7 @@ func ssTypeText(k int) string {
 
 func (a Analysis) summaryLines() []string {
 	t := a.Table
-	lines := []string{fmt.Sprintf("n = %d, grand mean %s, residual SD %s, R² %s, CV %s%%",
-		t.N, num(t.GrandMean, 5), num(t.ResidSD, 4), fixed(t.R2, 3), num(t.CV, 3))}
+	var lines []string
 	if s := a.Sampling; s != nil {
 		per := fmt.Sprint(s.MinPerUnit)
 		if s.MaxPerUnit != s.MinPerUnit {
@@ -93,12 +101,57 @@ func (a Analysis) summaryLines() []string {
 	return lines
 }
 
+// fitTable is the fit of the model as a labelled block: the units
+// analysed, the mean of all values, the residual SD, the share of the
+// variation the model explains and, where the trade expects it (field and
+// greenhouse trials), the coefficient of variation in words.
+func (a Analysis) fitTable() table {
+	t := a.Table
+	tb := table{head: []string{"fit of the model", ""}, right: []bool{false, true}}
+	tb.rows = [][]string{
+		{"variation explained (R²)", fixed(t.R2, 3)},
+		{"residual SD", num(t.ResidSD, 4)},
+		{"mean of all values", num(t.GrandMean, 5)},
+		{"units analysed", fmt.Sprint(t.N)},
+	}
+	if plantUnit(a.Unit) && !math.IsInf(t.CV, 0) && !math.IsNaN(t.CV) {
+		tb.rows = append(tb.rows, []string{"coefficient of variation", num(t.CV, 3) + "% of the mean"})
+	}
+	return tb
+}
+
+// plantUnit reports whether the experimental unit is one of a field or
+// greenhouse trial, where the coefficient of variation is customary.
+func plantUnit(u string) bool {
+	switch strings.ToLower(strings.TrimSpace(u)) {
+	case "pot", "pots", "plot", "plots", "plant", "plants", "tray", "trays", "bed", "beds", "row", "rows", "tree", "trees",
+		"flat", "flats", "seedling", "seedlings", "strip", "strips", "bench", "benches", "container", "containers", "field", "fields":
+		return true
+	}
+	return false
+}
+
+// fitSentence is the fit in the reading's words: the share of variation
+// explained and the residual SD, as a percentage of the mean where that
+// means something.
+func (a Analysis) fitSentence() string {
+	t := a.Table
+	if t.ExactFit {
+		return ""
+	}
+	s := fmt.Sprintf("The model explains %s%% of the variation in %s; the residual SD is %s", num(100*t.R2, 3), t.Response, num(t.ResidSD, 4))
+	if t.GrandMean != 0 && !math.IsInf(t.CV, 0) && !math.IsNaN(t.CV) && t.GrandMean > 0 {
+		s += fmt.Sprintf(", %s%% of the mean", num(t.CV, 3))
+	}
+	return s + "."
+}
+
 // meansTable is the means table of one term: n, raw mean, SD, LS mean,
 // its SE and 95% confidence interval, and the letters when given.
 func meansTable(gs []analyze.Group, letters []string) table {
 	tb := table{head: []string{"level", "n", "mean", "SD", "LS mean", "SE", "95% CI"}, right: []bool{false, true, true, true, true, true, false}}
 	if letters != nil {
-		tb.head = append(tb.head, "group")
+		tb.head = append(tb.head, "letters")
 		tb.right = append(tb.right, false)
 	}
 	for i, g := range gs {
@@ -112,9 +165,9 @@ func meansTable(gs []analyze.Group, letters []string) table {
 }
 
 func pairTable(ph *analyze.PostHoc) table {
-	tb := table{head: []string{"comparison", "difference", "lower", "upper", ph.StatName, "p (adjusted)"}, right: []bool{false, true, true, true, true, true}}
+	tb := table{head: []string{"comparison", "difference [interval]", ph.StatName, "p (adjusted)"}, right: []bool{false, true, true, true}}
 	for _, c := range ph.Pairs {
-		tb.rows = append(tb.rows, []string{c.Pair, num(c.Diff, 4), num(c.Lower, 4), num(c.Upper, 4), num(c.Q, 4), pval(c.P)})
+		tb.rows = append(tb.rows, []string{c.Pair, interval(c.Diff, c.Lower, c.Upper, 4), num(c.Q, 4), pval(c.P)})
 	}
 	return tb
 }
@@ -144,7 +197,7 @@ func letterNote(ph *analyze.PostHoc) string {
 	if ph.Letters == nil {
 		return ""
 	}
-	return fmt.Sprintf("Levels sharing a letter in the group column are not significantly different at α = %s (which is not evidence that they are equal).", short(ph.Alpha))
+	return fmt.Sprintf("Letters: levels with a letter in common are not significantly different at α = %s; that is not evidence that they are equal.", short(ph.Alpha))
 }
 
 func outlierTable(os []analyze.Outlier) table {
@@ -243,7 +296,14 @@ func (a Analysis) blocks() []block {
 		head = append(head, a.Model)
 	}
 	out = append(out, block{title: "Analysis of variance: " + t.Response, lines: head, tab: &anova})
-	out = append(out, block{lines: a.summaryLines()})
+	if st, ok := a.shareTable(); ok {
+		out = append(out, block{lines: []string{"Share of variation explained (partial η²):"}, tab: &st})
+	}
+	ft := a.fitTable()
+	out = append(out, block{tab: &ft})
+	if l := a.summaryLines(); len(l) > 0 {
+		out = append(out, block{lines: l})
+	}
 	letters := map[string][]string{}
 	for _, ph := range a.PostHoc {
 		if ph.Letters != nil {
@@ -274,7 +334,7 @@ func (a Analysis) blocks() []block {
 	}
 	for _, ph := range a.PostHoc {
 		pt := pairTable(ph)
-		out = append(out, block{title: fmt.Sprintf("Comparisons of %s (%s)", ph.Term, ph.Method), lines: append([]string{postHocTitle(ph)}, postHocLines(ph)...), tab: &pt})
+		out = append(out, block{title: fmt.Sprintf("Which levels of %s differ (%s)", ph.Term, ph.Method), lines: append([]string{postHocTitle(ph)}, postHocLines(ph)...), tab: &pt})
 	}
 	for _, tr := range a.Trends {
 		tt := trendTable(tr)
@@ -309,7 +369,7 @@ func (a Analysis) blocks() []block {
 		chk.tab = &ot
 	}
 	out = append(out, chk)
-	out = append(out, block{title: "Reading", lines: a.Reading(), bullets: true})
+	out = append(out, block{title: "Reading", lines: append(a.Reading(), nonEmpty(a.fitSentence())...), bullets: true})
 	out = append(out, block{title: "Cautions", lines: a.Cautions(), bullets: true})
 	return out
 }

@@ -132,49 +132,44 @@ func errorDFNote(e float64) string {
 	return fmt.Sprintf("the error variance is estimated on %s degrees of freedom; the power above already accounts for them", short(e))
 }
 
-// SizeText writes the readable summary.
+// SizeText writes the readable summary: the answer in words first, then
+// what it assumes, how sure it is, and the details of the computation.
 func SizeText(w io.Writer, s Size) error {
 	var b strings.Builder
-	fmt.Fprintf(&b, "%s: %s, %s\n", strings.ToUpper(s.Mode[:1])+s.Mode[1:], s.TestName, s.Method)
-	rows := [][2]string{
+	b.WriteString(wrap(s.lead(), 78, ""))
+	assumes := [][2]string{
 		{"design", s.Design},
 		{"test", s.TestName},
-		{"alpha", short(s.Alpha) + sidesText(s.Sides)},
-		{"effect", s.EffectText},
 	}
 	if s.Response != "" {
 		resp := s.Response
 		if s.Unit != "" {
 			resp += " (" + s.Unit + ")"
 		}
-		rows = append(rows[:3], append([][2]string{{"response", resp}}, rows[3:]...)...)
+		assumes = append(assumes, [2]string{"response", resp})
 	}
+	assumes = append(assumes, [2]string{"effect", s.EffectText})
 	if s.SDText != "" {
 		sd := s.SDText
 		if s.SDSource != "" {
 			sd += " (source: " + s.SDSource + ")"
 		}
-		rows = append(rows, [2]string{"SD", sd})
+		assumes = append(assumes, [2]string{"SD", sd})
 	}
-	if s.Mode != "power" {
-		rows = append(rows, [2]string{"target power", fixed(s.Target, 2)})
-	}
-	rows = append(rows, [2]string{s.nUnit(), fmt.Sprint(s.N)})
+	assumes = append(assumes, [2]string{"alpha", short(s.Alpha) + sidesText(s.Sides)})
 	if len(s.GroupSizes) > 0 && !allEqual(s.GroupSizes) {
-		rows = append(rows, [2]string{"group sizes", joinInts(s.GroupSizes)})
+		assumes = append(assumes, [2]string{"group sizes", joinInts(s.GroupSizes)})
 	}
-	rows = append(rows, [2]string{"total " + s.subjects(), fmt.Sprint(s.Total)})
 	if s.Dropout > 0 {
-		rows = append(rows, [2]string{"allowing attrition", fmt.Sprintf("%d %s in total (%d %s), for %s%% expected losses", s.TotalDropout, s.subjects(), s.NDropout, s.nUnit(), short(100*s.Dropout))})
+		assumes = append(assumes, [2]string{"expected losses", fmt.Sprintf("%s%%: %d %s in total (%d %s)", short(100*s.Dropout), s.TotalDropout, s.subjects(), s.NDropout, s.nUnit())})
 	}
-	rows = append(rows,
-		[2]string{"df", dfText(s)},
-		[2]string{"noncentrality", num(s.Lambda, 5)},
-		[2]string{s.CritName, num(s.Crit, 5)},
-		[2]string{"power", fixed(s.Power, 4)},
-	)
+	sure := [][2]string{}
+	if s.Mode != "power" {
+		sure = append(sure, [2]string{"target power", fixed(s.Target, 2)})
+	}
+	sure = append(sure, [2]string{"power reached", fixed(s.Power, 4)}, [2]string{"chance of missing an effect this large", fixed(1-s.Power, 4)})
 	if s.Mode == "detectable effect" {
-		rows = append(rows, [2]string{"detectable effect", effectName(s) + " = " + num(s.Detectable, 4)})
+		sure = append(sure, [2]string{"smallest detectable effect", effectName(s) + " = " + num(s.Detectable, 4)})
 		if s.DiffDetectable > 0 {
 			what := " (response units, between the two means)"
 			if s.Adjustment != "" {
@@ -186,15 +181,29 @@ func SizeText(w io.Writer, s Size) error {
 			if s.Unit != "" {
 				what = strings.Replace(what, "response units", s.Unit, 1)
 			}
-			rows = append(rows, [2]string{"detectable difference", num(s.DiffDetectable, 4) + what})
+			sure = append(sure, [2]string{"smallest detectable difference", num(s.DiffDetectable, 4) + what})
 		}
 	}
-	width := 0
-	for _, r := range rows {
-		width = max(width, runeLen(r[0]))
+	details := [][2]string{
+		{"computed with", s.Method},
+		{s.nUnit(), fmt.Sprint(s.N)},
+		{"total " + s.subjects(), fmt.Sprint(s.Total)},
+		{"df", dfText(s)},
+		{"noncentrality", num(s.Lambda, 5)},
+		{s.CritName, num(s.Crit, 5)},
 	}
-	for _, r := range rows {
-		fmt.Fprintf(&b, "  %s%s  %s\n", r[0], strings.Repeat(" ", width-runeLen(r[0])), r[1])
+	for _, sec := range []struct {
+		title string
+		rows  [][2]string
+	}{{"What this assumes", assumes}, {"How sure", sure}, {"Details", details}} {
+		b.WriteString("\n" + sec.title + "\n")
+		width := 0
+		for _, r := range sec.rows {
+			width = max(width, runeLen(r[0]))
+		}
+		for _, r := range sec.rows {
+			fmt.Fprintf(&b, "  %s%s  %s\n", r[0], strings.Repeat(" ", width-runeLen(r[0])), r[1])
+		}
 	}
 	b.WriteString("\n")
 	for _, wn := range s.Warnings {
@@ -209,6 +218,29 @@ func SizeText(w io.Writer, s Size) error {
 	b.WriteString(wrap("Caution: "+Cautions(s.Subjects)[0], 78, "  "))
 	_, err := io.WriteString(w, b.String())
 	return err
+}
+
+// lead is the answer in one sentence, in the study's words: "You need 12
+// animals per group, 48 in total (60 allowing 15% losses)."
+func (s Size) lead() string {
+	var b strings.Builder
+	total := fmt.Sprintf("%d %s in total", s.Total, s.subjects())
+	switch s.Mode {
+	case "power":
+		fmt.Fprintf(&b, "With %d %s, %s, the power is %s", s.N, s.nUnit(), total, fixed(s.Power, 3))
+	case "detectable effect":
+		fmt.Fprintf(&b, "With %d %s, %s, the smallest effect detected with power %s is %s = %s", s.N, s.nUnit(), total, fixed(s.Target, 2), effectName(s), num(s.Detectable, 4))
+		if s.DiffDetectable > 0 {
+			fmt.Fprintf(&b, " (a difference of %s)", s.withUnit(num(s.DiffDetectable, 4)))
+		}
+	default:
+		fmt.Fprintf(&b, "You need %d %s, %s", s.N, s.nUnit(), total)
+		if s.Dropout > 0 {
+			fmt.Fprintf(&b, " (%d allowing %s%% losses)", s.TotalDropout, short(100*s.Dropout))
+		}
+		fmt.Fprintf(&b, ", for power %s (%s reached)", fixed(s.Target, 2), fixed(s.Power, 3))
+	}
+	return b.String() + "."
 }
 
 func effectName(s Size) string {

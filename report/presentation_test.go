@@ -1,0 +1,55 @@
+package report
+
+import (
+	"strings"
+	"testing"
+)
+
+// The fit block names the coefficient of variation only for the units of
+// field and greenhouse trials, and no output uses the labels of other
+// programs (the brief's list).
+func TestFitBlockAndOwnLabels(t *testing.T) {
+	for _, tc := range []struct {
+		unit   string
+		wantCV bool
+	}{{"pot", true}, {"Plots", true}, {"bench", true}, {"animal", false}, {"mouse", false}, {"", false}, {"unit", false}} {
+		a := fixedAnalysis(t)
+		a.Unit = tc.unit
+		var txt, md strings.Builder
+		if err := AnalysisText(&txt, a); err != nil {
+			t.Fatal(err)
+		}
+		if err := AnalysisMarkdown(&md, a); err != nil {
+			t.Fatal(err)
+		}
+		for name, out := range map[string]string{"text": txt.String(), "markdown": md.String()} {
+			out = strings.Join(strings.Fields(out), " ") // text wraps lines
+			if got := strings.Contains(out, "coefficient of variation"); got != tc.wantCV {
+				t.Errorf("unit %q, %s: coefficient of variation shown %v, want %v", tc.unit, name, got, tc.wantCV)
+			}
+			for _, want := range []string{"variation explained (R²)", "Share of variation explained (partial η²)", "difference [interval]", "not significantly different at α = 0.05", "The model explains 83.2% of the variation"} {
+				if !strings.Contains(out, want) {
+					t.Errorf("unit %q, %s: no %q", tc.unit, name, want)
+				}
+			}
+			for _, bad := range []string{"Pr(>F)", "Signif. codes", "Sum Sq", "Mean Sq", "F value", "p adj", "total (corrected)", "Corrected Total", "do not differ", "grand mean", "group column", "| lower |"} {
+				if strings.Contains(out, bad) {
+					t.Errorf("unit %q, %s: has %q", tc.unit, name, bad)
+				}
+			}
+		}
+	}
+}
+
+func TestSizeLead(t *testing.T) {
+	var s Size
+	s.Mode, s.N, s.Total, s.TotalDropout, s.Dropout, s.NUnit, s.Subjects, s.Target, s.Power = "sample size", 12, 48, 60, 0.2, "units per group", "animals", 0.8, 0.8123
+	want := "You need 12 animals per group, 48 animals in total (60 allowing 20% losses), for power 0.80 (0.812 reached)."
+	if got := s.lead(); got != want {
+		t.Errorf("lead\n got %q\nwant %q", got, want)
+	}
+	s.Mode = "power"
+	if got, want := s.lead(), "With 12 animals per group, 48 animals in total, the power is 0.812."; got != want {
+		t.Errorf("lead\n got %q\nwant %q", got, want)
+	}
+}
