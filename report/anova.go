@@ -114,7 +114,7 @@ func (a Analysis) fitTable() table {
 		{"mean of all values", num(t.GrandMean, 5)},
 		{"units analysed", fmt.Sprint(t.N)},
 	}
-	if plantUnit(a.Unit) && !math.IsInf(t.CV, 0) && !math.IsNaN(t.CV) {
+	if (plantUnit(a.Unit) || plantUnit(a.BlockName)) && !math.IsInf(t.CV, 0) && !math.IsNaN(t.CV) {
 		tb.rows = append(tb.rows, []string{"coefficient of variation", num(t.CV, 3) + "% of the mean"})
 	}
 	return tb

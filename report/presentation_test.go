@@ -13,8 +13,11 @@ func TestFitBlockAndOwnLabels(t *testing.T) {
 		unit   string
 		wantCV bool
 	}{{"pot", true}, {"Plots", true}, {"bench", true}, {"animal", false}, {"mouse", false}, {"", false}, {"unit", false}} {
+		// A unit word, or blocks that are benches, trays or fields, makes a
+		// plant trial (see TestFitBlockFromBenches).
 		a := fixedAnalysis(t)
 		a.Unit = tc.unit
+		a.BlockName = "litter" // the block name alone does not make it a plant trial here
 		var txt, md strings.Builder
 		if err := AnalysisText(&txt, a); err != nil {
 			t.Fatal(err)
@@ -51,5 +54,20 @@ func TestSizeLead(t *testing.T) {
 	s.Mode = "power"
 	if got, want := s.lead(), "With 12 animals per group, 48 animals in total, the power is 0.812."; got != want {
 		t.Errorf("lead\n got %q\nwant %q", got, want)
+	}
+}
+
+// TestFitBlockFromBenches: blocks that are benches mark a greenhouse trial,
+// whose fit block gives the coefficient of variation even when the unit is
+// not named.
+func TestFitBlockFromBenches(t *testing.T) {
+	a := fixedAnalysis(t)
+	a.Unit, a.BlockName = "unit", "bench"
+	var txt strings.Builder
+	if err := AnalysisText(&txt, a); err != nil {
+		t.Fatal(err)
+	}
+	if !strings.Contains(strings.Join(strings.Fields(txt.String()), " "), "coefficient of variation") {
+		t.Error("a bench-blocked trial shows no coefficient of variation")
 	}
 }
