@@ -343,13 +343,5 @@ func gallopN(lo int, guess int, power func(int) float64, target float64) (int, e
 			lo = n
 		}
 	}
-	for hi-lo > 1 {
-		mid := lo + (hi-lo)/2
-		if power(mid) >= target {
-			hi = mid
-		} else {
-			lo = mid
-		}
-	}
-	return hi, nil
+	return bisectN(lo, hi, power, target), nil
 }

@@ -111,15 +111,7 @@ func searchN(lo int, power func(int) float64, target float64) (int, error) {
 		}
 		lo = hi
 	}
-	for hi-lo > 1 {
-		mid := lo + (hi-lo)/2
-		if power(mid) >= target {
-			hi = mid
-		} else {
-			lo = mid
-		}
-	}
-	return hi, nil
+	return bisectN(lo, hi, power, target), nil
 }
 
 // tGuess returns the normal-approximation n for a t-based test whose
@@ -136,4 +128,18 @@ func tGuess(delta2, alpha float64, sides int, target float64) int {
 		return 0
 	}
 	return int(math.Ceil(g))
+}
+
+// bisectN returns the smallest n in (lo, hi] with power(n) ≥ target, given
+// power(lo) < target ≤ power(hi) and a power that rises with n.
+func bisectN(lo, hi int, power func(int) float64, target float64) int {
+	for hi-lo > 1 {
+		mid := lo + (hi-lo)/2
+		if power(mid) >= target {
+			hi = mid
+		} else {
+			lo = mid
+		}
+	}
+	return hi
 }
