@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"math"
 
+	"github.com/allotproject/allot/column"
 	"github.com/allotproject/allot/prob"
 
 	"gonum.org/v1/gonum/mat"
@@ -156,8 +157,8 @@ func ancova(d Data, covName string, x []string, opt Options, means bool) (*ANCOV
 	if opt.Alpha == 0 {
 		opt.Alpha = 0.05
 	}
-	if len(x) != len(d.Values) {
-		return nil, fmt.Errorf("covariate %q has %d values for %d observations", covName, len(x), len(d.Values))
+	if len(x) != d.Values.Len() {
+		return nil, fmt.Errorf("covariate %q has %d values for %d observations", covName, len(x), d.Values.Len())
 	}
 	if len(d.Subsamples) > 0 {
 		var err error
@@ -169,7 +170,7 @@ func ancova(d Data, covName string, x []string, opt Options, means bool) (*ANCOV
 	if err != nil {
 		return nil, err
 	}
-	xc, xs, err := centred(x)
+	xc, xs, err := centred(column.Of(x))
 	if err != nil {
 		return nil, fmt.Errorf("covariate %q: %w", covName, err)
 	}

@@ -2,6 +2,7 @@ package analyze
 
 import (
 	"encoding/json"
+	"github.com/allotproject/allot/column"
 	"os"
 	"strings"
 	"testing"
@@ -63,14 +64,14 @@ func TestANCOVAReference(t *testing.T) {
 	}
 	for _, c := range ref.Cases {
 		t.Run(c.Name, func(t *testing.T) {
-			d := Data{Response: "y", Values: c.Y}
+			d := Data{Response: "y", Values: column.Of(c.Y)}
 			for _, f := range []string{"A", "B"} {
 				if v, ok := c.Factors[f]; ok {
-					d.Factors = append(d.Factors, Column{Name: f, Values: v})
+					d.Factors = append(d.Factors, Column{Name: f, Values: column.Of(v)})
 				}
 			}
 			if c.Blocks != nil {
-				d.Block = &Column{Name: "block", Values: c.Blocks}
+				d.Block = &Column{Name: "block", Values: column.Of(c.Blocks)}
 			}
 			r, err := ANCOVA(d, "weight", c.X, Options{SSType: c.Type})
 			if err != nil {
@@ -130,8 +131,8 @@ func TestANCOVAReference(t *testing.T) {
 }
 
 func TestANCOVARefusesConstantCovariate(t *testing.T) {
-	d := Data{Response: "y", Values: []string{"1", "2", "3", "4", "5", "6"},
-		Factors: []Column{{Name: "g", Values: []string{"a", "a", "a", "b", "b", "b"}}}}
+	d := Data{Response: "y", Values: column.Of([]string{"1", "2", "3", "4", "5", "6"}),
+		Factors: []Column{{Name: "g", Values: column.Of([]string{"a", "a", "a", "b", "b", "b"})}}}
 	if _, err := ANCOVA(d, "w", []string{"5", "5", "5", "5", "5", "5"}, Options{}); err == nil {
 		t.Fatal("a constant covariate was accepted")
 	}

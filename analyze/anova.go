@@ -158,18 +158,41 @@ func (c Column) levels32() ([]string, []int32, error) {
 			idx[l] = int32(i)
 		}
 	}
-	out := make([]int32, len(c.Values))
-	for i, v := range c.Values {
+	code := func(v string) (int32, error) {
 		j, ok := idx[v]
 		if !ok {
 			if c.Levels != nil {
-				return nil, nil, fmt.Errorf("column %q: value %q is not one of its levels", c.Name, v)
+				return 0, fmt.Errorf("column %q: value %q is not one of its levels", c.Name, v)
 			}
 			j = int32(len(order))
 			idx[v] = j
 			order = append(order, v)
 		}
-		out[i] = j
+		return j, nil
+	}
+	out := make([]int32, c.Values.Len())
+	if dict, codes, ok := c.Values.Coded(); ok {
+		// A coded column: one look-up per distinct level (the dictionary
+		// is in order of first appearance, as the rows would give).
+		of := make([]int32, len(dict))
+		for k, v := range dict {
+			j, err := code(v)
+			if err != nil {
+				return nil, nil, err
+			}
+			of[k] = j
+		}
+		for i, k := range codes {
+			out[i] = of[k]
+		}
+	} else {
+		for i := range out {
+			j, err := code(c.Values.At(i))
+			if err != nil {
+				return nil, nil, err
+			}
+			out[i] = j
+		}
 	}
 	used := make([]bool, len(order))
 	for _, j := range out {
@@ -197,7 +220,7 @@ func (c Column) levels32() ([]string, []int32, error) {
 // buildModel lists the block term, the main effects and all interactions,
 // ordered by degree (the usual hierarchical order).
 func buildModel(d Data) (*model, error) {
-	n := len(d.Values)
+	n := d.Values.Len()
 	c, err := centre(d.Values)
 	if err != nil {
 		return nil, fmt.Errorf("response %q: %w", d.Response, err)
@@ -205,8 +228,8 @@ func buildModel(d Data) (*model, error) {
 	sh, _ := c.shift.Float64()
 	m := &model{n: n, y: c.y, shift: sh, shiftRat: c.shift, scale: 1, ints: c.ints, exp: c.exp}
 	if d.Block != nil {
-		if len(d.Block.Values) != n {
-			return nil, fmt.Errorf("block column %q has %d values for %d observations", d.Block.Name, len(d.Block.Values), n)
+		if d.Block.Values.Len() != n {
+			return nil, fmt.Errorf("block column %q has %d values for %d observations", d.Block.Name, d.Block.Values.Len(), n)
 		}
 		lv, idx, err := d.Block.levels32()
 		if err != nil {
@@ -224,8 +247,8 @@ func buildModel(d Data) (*model, error) {
 		return nil, errors.New("no treatment factor")
 	}
 	for _, f := range d.Factors {
-		if len(f.Values) != n {
-			return nil, fmt.Errorf("factor %q has %d values for %d observations", f.Name, len(f.Values), n)
+		if f.Values.Len() != n {
+			return nil, fmt.Errorf("factor %q has %d values for %d observations", f.Name, f.Values.Len(), n)
 		}
 		lv, idx, err := f.levels32()
 		if err != nil {

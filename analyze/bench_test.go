@@ -21,12 +21,12 @@ func benchData(n int, levels []int, blocks int) Data {
 	}
 	for i := 0; i < n; i++ {
 		for k, l := range levels {
-			d.Factors[k].Values = append(d.Factors[k].Values, strconv.Itoa((i/(k+1))%l))
+			d.Factors[k].Values = d.Factors[k].Values.Append(strconv.Itoa((i / (k + 1)) % l))
 		}
 		if blocks > 0 {
-			b.Values = append(b.Values, strconv.Itoa(i%blocks))
+			b.Values = b.Values.Append(strconv.Itoa(i % blocks))
 		}
-		d.Values = append(d.Values, strconv.FormatFloat(100+r.NormFloat64(), 'f', 2, 64))
+		d.Values = d.Values.Append(strconv.FormatFloat(100+r.NormFloat64(), 'f', 2, 64))
 	}
 	if blocks > 0 {
 		d.Block = &b

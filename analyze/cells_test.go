@@ -2,6 +2,7 @@ package analyze
 
 import (
 	"fmt"
+	"github.com/allotproject/allot/column"
 	"math"
 	"strconv"
 	"strings"
@@ -30,16 +31,16 @@ func blockData(blocks int, levels []int, lose float64, seed uint64) Data {
 				continue
 			}
 			kept++
-			d.Block.Values = append(d.Block.Values, "b"+strconv.Itoa(b))
+			d.Block.Values = d.Block.Values.Append("b" + strconv.Itoa(b))
 			div := cells
 			mean := 20 + 0.3*float64(b%7)
 			for f, l := range levels {
 				div /= l
 				lv := c / div % l
-				d.Factors[f].Values = append(d.Factors[f].Values, "L"+strconv.Itoa(lv))
+				d.Factors[f].Values = d.Factors[f].Values.Append("L" + strconv.Itoa(lv))
 				mean += float64(lv) * float64(f+1) * 0.4
 			}
-			d.Values = append(d.Values, strconv.FormatFloat(mean+r.NormFloat64(), 'f', 3, 64))
+			d.Values = d.Values.Append(strconv.FormatFloat(mean+r.NormFloat64(), 'f', 3, 64))
 		}
 	}
 	return d
@@ -120,7 +121,7 @@ func TestAbsorbedBlocks(t *testing.T) {
 func TestExactCellSums(t *testing.T) {
 	vals := []string{"1000000000000.4", "1000000000000.3", "1000000000000.5", "1000000000000.2", "1000000000000.6", "999999999999.9", "1000000000000.1", "1000000000000.7", "-3e-2", "12.5"}
 	grp := []string{"a", "a", "a", "b", "b", "b", "c", "c", "c", "c"}
-	d := Data{Response: "y", Values: vals, Factors: []Column{{Name: "g", Values: grp}}}
+	d := Data{Response: "y", Values: column.Of(vals), Factors: []Column{{Name: "g", Values: column.Of(grp)}}}
 	m, err := buildModel(d)
 	if err != nil {
 		t.Fatal(err)
@@ -183,14 +184,14 @@ func TestAbsorbedEmptyCells(t *testing.T) {
 	var d Data
 	d.Response, d.Block = full.Response, &Column{Name: "block"}
 	d.Factors = []Column{{Name: "F1"}, {Name: "F2"}}
-	for i, v := range full.Values {
-		if full.Factors[0].Values[i] == "L2" && full.Factors[1].Values[i] == "L1" {
+	for i, v := range full.Values.Strings() {
+		if full.Factors[0].Values.At(i) == "L2" && full.Factors[1].Values.At(i) == "L1" {
 			continue // the cell L2 × L1 is empty throughout
 		}
-		d.Values = append(d.Values, v)
-		d.Block.Values = append(d.Block.Values, full.Block.Values[i])
+		d.Values = d.Values.Append(v)
+		d.Block.Values = d.Block.Values.Append(full.Block.Values.At(i))
 		for f := range d.Factors {
-			d.Factors[f].Values = append(d.Factors[f].Values, full.Factors[f].Values[i])
+			d.Factors[f].Values = d.Factors[f].Values.Append(full.Factors[f].Values.At(i))
 		}
 	}
 	for ss := 1; ss <= 3; ss++ {

@@ -2,6 +2,8 @@ package analyze
 
 import (
 	"fmt"
+
+	"github.com/allotproject/allot/column"
 	"math"
 	"math/big"
 	"math/bits"
@@ -14,7 +16,7 @@ import (
 type Column struct {
 	Name   string
 	Levels []string
-	Values []string
+	Values column.Text
 }
 
 // Data is one response with its design columns, complete observations only.
@@ -22,7 +24,7 @@ type Data struct {
 	Response string
 	// Values holds each observation as decimal text ("12.40", "1e3") or an
 	// exact ratio ("31/3").
-	Values []string
+	Values column.Text
 	// Subsamples, when set instead of Values, holds each observation's
 	// measurements; they are averaged to the unit (see Average).
 	Subsamples [][]string
@@ -34,8 +36,8 @@ type Data struct {
 	// once in every block, estimates it from the replicates within blocks.
 	BlockInteraction bool
 	// Units and Where identify each observation (unit ID; for example
-	// `Entry!F7`), for listing unusual residuals. Either may be nil.
-	Units, Where []string
+	// `Entry!F7`), for listing unusual residuals. Either may be empty.
+	Units, Where column.Text
 	// Lost lists the enrolled units that are not among the observations
 	// (no value, or excluded), for the loss table. Nil when the reader
 	// knows of none.
@@ -59,7 +61,8 @@ func (c Column) levels() ([]string, []int, error) {
 	order := c.Levels
 	if order == nil {
 		seen := map[string]bool{}
-		for _, v := range c.Values {
+		for i := range c.Values.Len() {
+			v := c.Values.At(i)
 			if !seen[v] {
 				seen[v] = true
 				order = append(order, v)
@@ -70,9 +73,10 @@ func (c Column) levels() ([]string, []int, error) {
 	for i, l := range order {
 		idx[l] = i
 	}
-	out := make([]int, len(c.Values))
+	out := make([]int, c.Values.Len())
 	used := make([]bool, len(order))
-	for i, v := range c.Values {
+	for i := range c.Values.Len() {
+		v := c.Values.At(i)
 		j, ok := idx[v]
 		if !ok {
 			return nil, nil, fmt.Errorf("column %q: value %q is not one of its levels", c.Name, v)
@@ -173,7 +177,7 @@ type centring struct {
 // is rounded once: the difference is formed exactly (in int64 at the common
 // exponent, or with math/big when that overflows) and then divided by an
 // exact power of ten.
-func centred(values []string) ([]float64, *big.Rat, error) {
+func centred(values column.Text) ([]float64, *big.Rat, error) {
 	c, err := centre(values)
 	return c.y, c.shift, err
 }
@@ -185,8 +189,8 @@ func centred(values []string) ([]float64, *big.Rat, error) {
 // PLDI '90, 92–101, the fast path), anything else by strconv.ParseFloat or
 // math/big. The median (by value, ties by position: element n/2 of the
 // stable order) is found by selection in O(n) rather than by sorting.
-func centre(values []string) (centring, error) {
-	n := len(values)
+func centre(values column.Text) (centring, error) {
+	n := values.Len()
 	if n == 0 {
 		return centring{}, fmt.Errorf("no observations")
 	}
@@ -194,7 +198,8 @@ func centre(values []string) (centring, error) {
 	es := make([]int16, n)
 	fast := true
 	floats := make([]float64, n)
-	for i, s := range values {
+	for i := range n {
+		s := values.At(i)
 		d, ok := parseDecimal(s)
 		if ok && d.e >= -22 && d.e <= 22 && d.m <= 1<<53 && d.m >= -(1<<53) {
 			ms[i], es[i] = d.m, int16(d.e)
@@ -227,7 +232,7 @@ func centre(values []string) (centring, error) {
 		floats[i] = f
 	}
 	mid := medianIndex(floats)
-	shift, _ := new(big.Rat).SetString(values[mid])
+	shift, _ := new(big.Rat).SetString(values.At(mid))
 	out := floats // overwritten in place: the parsed values are not needed again
 	if fast {
 		md := decimal{m: ms[mid], e: int(es[mid])}
@@ -258,8 +263,8 @@ func centre(values []string) (centring, error) {
 		}
 	}
 	var r, d big.Rat
-	for i, s := range values {
-		r.SetString(s)
+	for i := range n {
+		r.SetString(values.At(i))
 		d.Sub(&r, shift)
 		out[i], _ = d.Float64()
 	}

@@ -2,6 +2,7 @@ package analyze
 
 import (
 	"fmt"
+	"github.com/allotproject/allot/column"
 	"math"
 	"strings"
 	"testing"
@@ -11,7 +12,7 @@ import (
 // so that the sums of squares named are 0 in rational arithmetic, which
 // the comments derive by hand).
 func TestExactZeros(t *testing.T) {
-	col := func(name string, v ...string) Column { return Column{Name: name, Values: v} }
+	col := func(name string, v ...string) Column { return Column{Name: name, Values: column.Of(v)} }
 	tests := []struct {
 		name      string
 		d         Data
@@ -23,7 +24,7 @@ func TestExactZeros(t *testing.T) {
 			// contrast 1 − 2 − 3 + 4 = 0 exactly; within-cell values equal,
 			// so the residual is exactly 0 too.
 			name: "exactly additive 2×2, constant cells",
-			d: Data{Response: "y", Values: []string{"0.1", "0.1", "1.1", "1.1", "2.1", "2.1", "3.1", "3.1"},
+			d: Data{Response: "y", Values: column.Of([]string{"0.1", "0.1", "1.1", "1.1", "2.1", "2.1", "3.1", "3.1"}),
 				Factors: []Column{col("A", "a1", "a1", "a2", "a2", "a1", "a1", "a2", "a2"), col("B", "b1", "b1", "b1", "b1", "b2", "b2", "b2", "b2")}},
 			exactFit: true, zeroTerms: []string{"A × B"},
 		},
@@ -31,18 +32,18 @@ func TestExactZeros(t *testing.T) {
 			// Additive cell means 10.3, 10.5, 10.8, 11.0 with replicate
 			// deviations ±0.1: interaction SS exactly 0, residual 0.04·... > 0.
 			name: "exactly additive 2×2 with replicate noise",
-			d: Data{Response: "y", Values: []string{"10.2", "10.4", "10.4", "10.6", "10.7", "10.9", "10.9", "11.1"},
+			d: Data{Response: "y", Values: column.Of([]string{"10.2", "10.4", "10.4", "10.6", "10.7", "10.9", "10.9", "11.1"}),
 				Factors: []Column{col("A", "a1", "a1", "a2", "a2", "a1", "a1", "a2", "a2"), col("B", "b1", "b1", "b1", "b1", "b2", "b2", "b2", "b2")}},
 			zeroTerms: []string{"A × B"},
 		},
 		{
 			name:     "all values equal",
-			d:        Data{Response: "y", Values: []string{"7.25", "7.25", "7.25", "7.25", "7.25", "7.25"}, Factors: []Column{col("g", "a", "a", "b", "b", "c", "c")}},
+			d:        Data{Response: "y", Values: column.Of([]string{"7.25", "7.25", "7.25", "7.25", "7.25", "7.25"}), Factors: []Column{col("g", "a", "a", "b", "b", "c", "c")}},
 			exactFit: true, zeroTerms: []string{"g"},
 		},
 		{
 			name:     "constant within groups",
-			d:        Data{Response: "y", Values: []string{"1.1", "1.1", "1.1", "2.3", "2.3", "2.3"}, Factors: []Column{col("g", "a", "a", "a", "b", "b", "b")}},
+			d:        Data{Response: "y", Values: column.Of([]string{"1.1", "1.1", "1.1", "2.3", "2.3", "2.3"}), Factors: []Column{col("g", "a", "a", "a", "b", "b", "b")}},
 			exactFit: true,
 		},
 	}
@@ -92,8 +93,8 @@ func TestExactZeros(t *testing.T) {
 // checked against statsmodels in reference_test.go).
 func TestScaleInvariance(t *testing.T) {
 	base := []string{"12.1", "13.4", "11.8", "12.9", "15.2", "14.8", "16.1", "15.5", "13.9", "14.4", "13.1", "14.0"}
-	g := Column{Name: "g", Values: []string{"a", "a", "a", "a", "b", "b", "b", "b", "c", "c", "c", "c"}}
-	ref, err := Run(Data{Response: "y", Values: base, Factors: []Column{g}}, RunOptions{})
+	g := Column{Name: "g", Values: column.Of([]string{"a", "a", "a", "a", "b", "b", "b", "b", "c", "c", "c", "c"})}
+	ref, err := Run(Data{Response: "y", Values: column.Of(base), Factors: []Column{g}}, RunOptions{})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -102,7 +103,7 @@ func TestScaleInvariance(t *testing.T) {
 		for _, v := range base {
 			vals = append(vals, v+fmt.Sprintf("e%d", exp))
 		}
-		res, err := Run(Data{Response: "y", Values: vals, Factors: []Column{g}}, RunOptions{})
+		res, err := Run(Data{Response: "y", Values: column.Of(vals), Factors: []Column{g}}, RunOptions{})
 		if err != nil {
 			t.Fatal(err)
 		}

@@ -37,9 +37,9 @@ func TestDunnettMissingPlotsMonteCarlo(t *testing.T) {
 	}
 	d := Data{Response: "y", Factors: []Column{{Name: "trt", Levels: []string{"ctl", "t1", "t2", "t3", "t4"}}}, Block: &Column{Name: "block"}}
 	for _, r := range ref.Rows {
-		d.Values = append(d.Values, r.Y)
-		d.Factors[0].Values = append(d.Factors[0].Values, r.Trt)
-		d.Block.Values = append(d.Block.Values, r.Block)
+		d.Values = d.Values.Append(r.Y)
+		d.Factors[0].Values = d.Factors[0].Values.Append(r.Trt)
+		d.Block.Values = d.Block.Values.Append(r.Block)
 	}
 	tab, err := Fit(d, Options{})
 	if err != nil {

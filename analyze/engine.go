@@ -4,6 +4,8 @@ import (
 	"fmt"
 	"strconv"
 	"strings"
+
+	"github.com/allotproject/allot/column"
 )
 
 // Engine fits one design's ANOVA to many response vectors, as Monte-Carlo
@@ -40,13 +42,14 @@ func NewEngine(d Data, ssType int) (*Engine, error) {
 	}
 	n := 0
 	if len(d.Factors) > 0 {
-		n = len(d.Factors[0].Values)
+		n = d.Factors[0].Values.Len()
 	}
 	probe := d
-	probe.Values = make([]string, n)
-	for i := range probe.Values {
-		probe.Values[i] = strconv.Itoa(i % 7)
+	vs := make([]string, n)
+	for i := range vs {
+		vs[i] = strconv.Itoa(i % 7)
 	}
+	probe.Values = column.Of(vs)
 	probe.Subsamples = nil
 	m, err := buildModel(probe)
 	if err != nil {

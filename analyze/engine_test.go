@@ -3,6 +3,8 @@ package analyze
 import (
 	"strconv"
 	"testing"
+
+	"github.com/allotproject/allot/column"
 )
 
 // The engine's sums of squares equal Fit's on every reference design.
@@ -18,8 +20,8 @@ func TestEngineMatchesFit(t *testing.T) {
 			if err != nil {
 				t.Fatal(err)
 			}
-			y := make([]float64, len(d.Values))
-			for i, v := range d.Values {
+			y := make([]float64, d.Values.Len())
+			for i, v := range d.Values.Strings() {
 				y[i], _ = strconv.ParseFloat(v, 64)
 			}
 			got, err := e.Fit(y, nil)
@@ -40,15 +42,15 @@ func TestEngineMatchesFit(t *testing.T) {
 				keep[i] = i != 1
 			}
 			sub := d
-			sub.Values = append(append([]string{}, d.Values[:1]...), d.Values[2:]...)
+			sub.Values = column.Of(append(d.Values.Slice(0, 1).Strings(), d.Values.Slice(2, d.Values.Len()).Strings()...))
 			sub.Factors = nil
 			for _, f := range d.Factors {
-				f.Values = append(append([]string{}, f.Values[:1]...), f.Values[2:]...)
+				f.Values = column.Of(append(f.Values.Slice(0, 1).Strings(), f.Values.Slice(2, f.Values.Len()).Strings()...))
 				sub.Factors = append(sub.Factors, f)
 			}
 			if d.Block != nil {
 				b := *d.Block
-				b.Values = append(append([]string{}, b.Values[:1]...), b.Values[2:]...)
+				b.Values = column.Of(append(b.Values.Slice(0, 1).Strings(), b.Values.Slice(2, b.Values.Len()).Strings()...))
 				sub.Block = &b
 			}
 			want, err := Fit(sub, Options{SSType: typ})

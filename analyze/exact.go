@@ -3,6 +3,8 @@ package analyze
 import (
 	"math"
 	"math/big"
+
+	"github.com/allotproject/allot/column"
 )
 
 // Exact decisions about zero.
@@ -34,9 +36,10 @@ const (
 )
 
 // exactValues parses the decimal (or ratio) texts exactly.
-func exactValues(values []string) ([]*big.Rat, bool) {
-	out := make([]*big.Rat, len(values))
-	for i, s := range values {
+func exactValues(values column.Text) ([]*big.Rat, bool) {
+	out := make([]*big.Rat, values.Len())
+	for i := range out {
+		s := values.At(i)
 		r, ok := new(big.Rat).SetString(s)
 		if !ok {
 			return nil, false
@@ -144,7 +147,7 @@ func (z *zeroJudge) exactFit(order []int) (b []*big.Rat, ranges [][2]int, rss *b
 type zeroJudge struct {
 	m      *model
 	cs     *cellStats
-	values []string
+	values column.Text
 	exact  bool // the exact path may be tried (few enough parameters)
 	parsed bool // sums and yy are set (or the values were not exact)
 	sums   []*big.Rat
@@ -154,7 +157,7 @@ type zeroJudge struct {
 	rule string
 }
 
-func newZeroJudge(m *model, cs *cellStats, values []string, total float64) *zeroJudge {
+func newZeroJudge(m *model, cs *cellStats, values column.Text, total float64) *zeroJudge {
 	z := &zeroJudge{m: m, cs: cs, values: values, total: total}
 	p := 1
 	for _, t := range m.terms {
@@ -250,7 +253,7 @@ const (
 )
 
 // rescale applies the scaling above to m.y when it is needed.
-func (m *model) rescale(values []string) {
+func (m *model) rescale(values column.Text) {
 	m.scale = 1
 	var big0 float64
 	for _, v := range m.y {
@@ -269,8 +272,8 @@ func (m *model) rescale(values []string) {
 	}
 	p := new(big.Rat).SetInt(new(big.Int).Exp(big.NewInt(10), big.NewInt(int64(abs(k))), nil))
 	var r, d big.Rat
-	for i, s := range values {
-		if _, ok := r.SetString(s); !ok {
+	for i := range values.Len() {
+		if _, ok := r.SetString(values.At(i)); !ok {
 			return
 		}
 		d.Sub(&r, shift)

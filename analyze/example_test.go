@@ -2,6 +2,7 @@ package analyze_test
 
 import (
 	"fmt"
+	"github.com/allotproject/allot/column"
 
 	"github.com/allotproject/allot/analyze"
 )
@@ -10,8 +11,8 @@ import (
 func ExampleFit() {
 	d := analyze.Data{
 		Response: "y",
-		Values:   []string{"4.1", "3.9", "4.3", "5.0", "5.2", "4.9", "6.1", "5.8", "6.3"},
-		Factors:  []analyze.Column{{Name: "dose", Values: []string{"0", "0", "0", "1", "1", "1", "2", "2", "2"}}},
+		Values:   column.Of([]string{"4.1", "3.9", "4.3", "5.0", "5.2", "4.9", "6.1", "5.8", "6.3"}),
+		Factors:  []analyze.Column{{Name: "dose", Values: column.Of([]string{"0", "0", "0", "1", "1", "1", "2", "2", "2"})}},
 	}
 	t, err := analyze.Fit(d, analyze.Options{})
 	if err != nil {

@@ -2,6 +2,7 @@ package analyze
 
 import (
 	"encoding/json"
+	"github.com/allotproject/allot/column"
 	"math"
 	"os"
 	"strconv"
@@ -59,8 +60,8 @@ func TestTrendContrasts(t *testing.T) {
 	ref := loadExtras(t).Trend
 	d := Data{Response: "y", Factors: []Column{{Name: "dose"}}}
 	for _, r := range ref.Rows {
-		d.Values = append(d.Values, r.Y)
-		d.Factors[0].Values = append(d.Factors[0].Values, r.Dose)
+		d.Values = d.Values.Append(r.Y)
+		d.Factors[0].Values = d.Factors[0].Values.Append(r.Dose)
 	}
 	res, err := Run(d, RunOptions{Trend: []string{"dose"}})
 	if err != nil {
@@ -86,7 +87,7 @@ func TestTrendContrasts(t *testing.T) {
 	// Equally spaced levels give the tabled coefficients −3, −1, 1, 3 (and
 	// 1, −1, −1, 1) up to scale (Fisher and Yates, Statistical Tables,
 	// Table XXIII; from memory).
-	eq := Data{Response: "y", Values: []string{"1", "2", "2.5", "4", "3", "5", "6.5", "7"}, Factors: []Column{{Name: "rate", Values: []string{"10", "10", "20", "20", "30", "30", "40", "40"}}}}
+	eq := Data{Response: "y", Values: column.Of([]string{"1", "2", "2.5", "4", "3", "5", "6.5", "7"}), Factors: []Column{{Name: "rate", Values: column.Of([]string{"10", "10", "20", "20", "30", "30", "40", "40"})}}}
 	tab, err := Fit(eq, Options{})
 	if err != nil {
 		t.Fatal(err)
@@ -104,7 +105,7 @@ func TestTrendContrasts(t *testing.T) {
 			}
 		}
 	}
-	if _, err := Run(Data{Response: "y", Values: []string{"1", "2", "3", "4"}, Factors: []Column{{Name: "g", Values: []string{"a", "a", "b", "b"}}}}, RunOptions{Trend: []string{"g"}}); err == nil || !strings.Contains(err.Error(), "is not a number") {
+	if _, err := Run(Data{Response: "y", Values: column.Of([]string{"1", "2", "3", "4"}), Factors: []Column{{Name: "g", Values: column.Of([]string{"a", "a", "b", "b"})}}}, RunOptions{Trend: []string{"g"}}); err == nil || !strings.Contains(err.Error(), "is not a number") {
 		t.Errorf("non-numeric levels: %v", err)
 	}
 }
@@ -119,8 +120,8 @@ func TestLossTable(t *testing.T) {
 	names := []string{"A", "B", "C"}
 	for i, n := range names {
 		for k := 0; k < ref.Enrolled[i]-ref.Lost[i]; k++ {
-			d.Values = append(d.Values, "1.5")
-			f.Values = append(f.Values, n)
+			d.Values = d.Values.Append("1.5")
+			f.Values = f.Values.Append(n)
 		}
 		for k := 0; k < ref.Lost[i]; k++ {
 			st := "lost"
@@ -156,9 +157,9 @@ func TestRandomBlocks(t *testing.T) {
 	ref := loadExtras(t).RandomBlocks
 	d := Data{Response: "y", Factors: []Column{{Name: "trt"}}, Block: &Column{Name: "block"}, BlockInteraction: true}
 	for _, r := range ref.Rows {
-		d.Values = append(d.Values, r.Y)
-		d.Factors[0].Values = append(d.Factors[0].Values, r.Trt)
-		d.Block.Values = append(d.Block.Values, r.Block)
+		d.Values = d.Values.Append(r.Y)
+		d.Factors[0].Values = d.Factors[0].Values.Append(r.Trt)
+		d.Block.Values = d.Block.Values.Append(r.Block)
 	}
 	if !Replicated(d) {
 		t.Fatal("two units per treatment per block should count as replicated")
@@ -188,11 +189,11 @@ func TestRandomBlocks(t *testing.T) {
 // Dunnett one-sided in both directions: "lower" is "higher" on the negated
 // response (an identity), and its bounds are open on the other side.
 func TestDunnettDirection(t *testing.T) {
-	d := Data{Response: "y", Values: []string{"10", "11", "10.5", "8", "8.4", "9", "11.5", "12", "11"}, Factors: []Column{{Name: "g", Values: []string{"c", "c", "c", "a", "a", "a", "b", "b", "b"}}}}
+	d := Data{Response: "y", Values: column.Of([]string{"10", "11", "10.5", "8", "8.4", "9", "11.5", "12", "11"}), Factors: []Column{{Name: "g", Values: column.Of([]string{"c", "c", "c", "a", "a", "a", "b", "b", "b"})}}}
 	neg := d
-	neg.Values = nil
-	for _, v := range d.Values {
-		neg.Values = append(neg.Values, "-"+v)
+	neg.Values = column.Text{}
+	for _, v := range d.Values.Strings() {
+		neg.Values = neg.Values.Append("-" + v)
 	}
 	lo, err := Run(d, RunOptions{PostHoc: MethodDunnett, Control: "c", Sides: 1, Direction: "lower"})
 	if err != nil {
@@ -221,8 +222,8 @@ func TestSmallPKeepsDigits(t *testing.T) {
 	ref := loadExtras(t).SmallP
 	d := Data{Response: "y", Factors: []Column{{Name: "g"}}}
 	for _, r := range ref.Rows {
-		d.Values = append(d.Values, r.Y)
-		d.Factors[0].Values = append(d.Factors[0].Values, r.G)
+		d.Values = d.Values.Append(r.Y)
+		d.Factors[0].Values = d.Factors[0].Values.Append(r.G)
 	}
 	tab, err := Fit(d, Options{})
 	if err != nil {
@@ -240,9 +241,9 @@ func TestSmallPKeepsDigits(t *testing.T) {
 // the treatment and residual SS must be equal to 1e-10).
 func TestSingleUnitBlockAgrees(t *testing.T) {
 	d := Data{Response: "y",
-		Values:  []string{"10.1", "11.3", "12.0", "9.8", "11.0", "12.4", "10.5", "11.9", "12.2", "13.0"},
-		Factors: []Column{{Name: "trt", Values: []string{"a", "b", "c", "a", "b", "c", "a", "b", "c", "b"}}},
-		Block:   &Column{Name: "block", Values: []string{"1", "1", "1", "2", "2", "2", "3", "3", "3", "4"}}}
+		Values:  column.Of([]string{"10.1", "11.3", "12.0", "9.8", "11.0", "12.4", "10.5", "11.9", "12.2", "13.0"}),
+		Factors: []Column{{Name: "trt", Values: column.Of([]string{"a", "b", "c", "a", "b", "c", "a", "b", "c", "b"})}},
+		Block:   &Column{Name: "block", Values: column.Of([]string{"1", "1", "1", "2", "2", "2", "3", "3", "3", "4"})}}
 	tab, err := Fit(d, Options{})
 	if err != nil {
 		t.Fatal(err)
@@ -251,8 +252,8 @@ func TestSingleUnitBlockAgrees(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	y := make([]float64, len(d.Values))
-	for i, v := range d.Values {
+	y := make([]float64, d.Values.Len())
+	for i, v := range d.Values.Strings() {
 		y[i], _ = strconv.ParseFloat(v, 64)
 	}
 	f, err := eng.Fit(y, nil)
@@ -267,7 +268,7 @@ func TestSingleUnitBlockAgrees(t *testing.T) {
 			t.Errorf("%s: engine SS %g, Fit %g", tab.Terms[k].Source, f.SS[k], tab.Terms[k].SS)
 		}
 	}
-	without := Data{Response: "y", Values: d.Values[:9], Factors: []Column{{Name: "trt", Values: d.Factors[0].Values[:9]}}, Block: &Column{Name: "block", Values: d.Block.Values[:9]}}
+	without := Data{Response: "y", Values: d.Values.Slice(0, 9), Factors: []Column{{Name: "trt", Values: d.Factors[0].Values.Slice(0, 9)}}, Block: &Column{Name: "block", Values: d.Block.Values.Slice(0, 9)}}
 	ref, err := Fit(without, Options{})
 	if err != nil {
 		t.Fatal(err)

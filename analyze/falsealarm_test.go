@@ -2,6 +2,7 @@ package analyze
 
 import (
 	"fmt"
+	"github.com/allotproject/allot/column"
 	"math"
 	"strconv"
 	"testing"
@@ -42,9 +43,9 @@ func TestResidualChecksFalseAlarm(t *testing.T) {
 			for bi := 0; bi < nb; bi++ {
 				for ti := 0; ti < ds.trt; ti++ {
 					for r := 0; r < ds.rp; r++ {
-						f.Values = append(f.Values, "t"+strconv.Itoa(ti))
+						f.Values = f.Values.Append("t" + strconv.Itoa(ti))
 						if b != nil {
-							b.Values = append(b.Values, strconv.Itoa(bi))
+							b.Values = b.Values.Append(strconv.Itoa(bi))
 						}
 					}
 				}
@@ -52,11 +53,12 @@ func TestResidualChecksFalseAlarm(t *testing.T) {
 			d.Factors, d.Block = []Column{f}, b
 			d.BlockInteraction = ds.rp > 1 && b != nil
 			rng := rand.New(rand.NewSource(uint64(len(ds.name))))
-			d.Values = make([]string, len(f.Values))
+			vs := make([]string, f.Values.Len())
+			d.Values = column.Of(vs)
 			var sw, bf, nsw, nbf int
 			for s := 0; s < sims; s++ {
-				for i := range d.Values {
-					d.Values[i] = strconv.FormatFloat(10+rng.NormFloat64(), 'g', 17, 64)
+				for i := range vs {
+					vs[i] = strconv.FormatFloat(10+rng.NormFloat64(), 'g', 17, 64)
 				}
 				tab, err := Fit(d, Options{})
 				if err != nil {

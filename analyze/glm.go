@@ -361,19 +361,20 @@ func FitGLM(d Data, opt GLMOptions) (*GLMResult, error) {
 // glmResponse parses the response (whole numbers ≥ 0; at most the trials for
 // the binomial) and the trials.
 func glmResponse(d Data, fam glmFamily, trials []float64) (y, m []float64, err error) {
-	n := len(d.Values)
+	n := d.Values.Len()
 	y = make([]float64, n)
 	m = make([]float64, n)
 	if fam.name == FamilyBinomial && len(trials) != n {
 		return nil, nil, fmt.Errorf("binomial response %q: the number of trials is needed for each of the %d observations (--trials N or --trials COLUMN)", d.Response, n)
 	}
 	where := func(i int) string {
-		if d.Units != nil && i < len(d.Units) {
-			return fmt.Sprintf("unit %s", d.Units[i])
+		if d.Units.Len() > 0 && i < d.Units.Len() {
+			return fmt.Sprintf("unit %s", d.Units.At(i))
 		}
 		return fmt.Sprintf("observation %d", i+1)
 	}
-	for i, s := range d.Values {
+	for i := range d.Values.Len() {
+		s := d.Values.At(i)
 		v, perr := strconv.ParseFloat(strings.TrimSpace(s), 64)
 		if perr != nil || v < 0 || v != math.Trunc(v) || math.IsInf(v, 0) {
 			return nil, nil, fmt.Errorf("%s: %q is not a count (a whole number 0 or more)", where(i), s)

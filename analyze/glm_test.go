@@ -2,6 +2,7 @@ package analyze
 
 import (
 	"encoding/json"
+	"github.com/allotproject/allot/column"
 	"math"
 	"os"
 	"testing"
@@ -46,12 +47,12 @@ func TestGLMReference(t *testing.T) {
 	}
 	for _, c := range ref.Cases {
 		t.Run(c.Name, func(t *testing.T) {
-			d := Data{Response: "y", Values: c.Y}
+			d := Data{Response: "y", Values: column.Of(c.Y)}
 			for i, f := range c.Factors {
-				d.Factors = append(d.Factors, Column{Name: string(rune('A' + i)), Values: f})
+				d.Factors = append(d.Factors, Column{Name: string(rune('A' + i)), Values: column.Of(f)})
 			}
 			if c.Blocks != nil {
-				d.Block = &Column{Name: "block", Values: c.Blocks}
+				d.Block = &Column{Name: "block", Values: column.Of(c.Blocks)}
 			}
 			opt := GLMOptions{Family: c.Family, SSType: c.Type}
 			if c.Family == FamilyBinomial {
@@ -126,8 +127,8 @@ func TestGLMReference(t *testing.T) {
 }
 
 func TestGLMRefusesBadCounts(t *testing.T) {
-	base := Data{Response: "germinated", Values: []string{"3", "5", "2", "7"},
-		Factors: []Column{{Name: "s", Values: []string{"a", "a", "b", "b"}}}}
+	base := Data{Response: "germinated", Values: column.Of([]string{"3", "5", "2", "7"}),
+		Factors: []Column{{Name: "s", Values: column.Of([]string{"a", "a", "b", "b"})}}}
 	for _, tc := range []struct {
 		name   string
 		values []string
@@ -142,7 +143,7 @@ func TestGLMRefusesBadCounts(t *testing.T) {
 	} {
 		t.Run(tc.name, func(t *testing.T) {
 			d := base
-			d.Values = tc.values
+			d.Values = column.Of(tc.values)
 			if _, err := FitGLM(d, GLMOptions{Family: tc.fam, Trials: tc.trials}); err == nil {
 				t.Fatal("accepted")
 			}

@@ -5,6 +5,8 @@ import (
 	"math"
 
 	"gonum.org/v1/gonum/stat/distuv"
+
+	"github.com/allotproject/allot/column"
 )
 
 // LatinData is a Latin square (rows and columns are the two blocking
@@ -122,10 +124,10 @@ func indicators(idx []int, levels int) [][]float64 {
 // (testdata/reference/gen_latin.py).
 func LatinSquareANOVA(d LatinData) (*LatinResult, error) {
 	n := len(d.Values)
-	if len(d.Row.Values) != n || len(d.Col.Values) != n || len(d.Treatment.Values) != n || d.Square != nil && len(d.Square.Values) != n {
+	if d.Row.Values.Len() != n || d.Col.Values.Len() != n || d.Treatment.Values.Len() != n || d.Square != nil && d.Square.Values.Len() != n {
 		return nil, fmt.Errorf("latin square: every column needs one value per observation")
 	}
-	y, _, err := centred(d.Values)
+	y, _, err := centred(column.Of(d.Values))
 	if err != nil {
 		return nil, fmt.Errorf("response %q: %w", d.Response, err)
 	}
@@ -133,11 +135,11 @@ func LatinSquareANOVA(d LatinData) (*LatinResult, error) {
 		if d.Square == nil {
 			return c
 		}
-		out := Column{Name: c.Name}
-		for i, v := range c.Values {
-			out.Values = append(out.Values, d.Square.Values[i]+"\x00"+v)
+		vs := make([]string, c.Values.Len())
+		for i := range vs {
+			vs[i] = d.Square.Values.At(i) + "\x00" + c.Values.At(i)
 		}
-		return out
+		return Column{Name: c.Name, Values: column.Of(vs)}
 	}
 	type term struct {
 		name string

@@ -2,6 +2,7 @@ package analyze
 
 import (
 	"encoding/json"
+	"github.com/allotproject/allot/column"
 	"os"
 	"testing"
 )
@@ -30,10 +31,10 @@ func TestLatinSquareReference(t *testing.T) {
 	}
 	for _, c := range ref.Cases {
 		t.Run(c.Name, func(t *testing.T) {
-			d := LatinData{Response: "y", Values: c.Data.Y, Row: Column{Name: "row", Values: c.Data.Row},
-				Col: Column{Name: "column", Values: c.Data.Col}, Treatment: Column{Name: "trt", Values: c.Data.Trt}}
+			d := LatinData{Response: "y", Values: c.Data.Y, Row: Column{Name: "row", Values: column.Of(c.Data.Row)},
+				Col: Column{Name: "column", Values: column.Of(c.Data.Col)}, Treatment: Column{Name: "trt", Values: column.Of(c.Data.Trt)}}
 			if c.Series {
-				d.Square = &Column{Name: "square", Values: c.Data.Sq}
+				d.Square = &Column{Name: "square", Values: column.Of(c.Data.Sq)}
 			}
 			r, err := LatinSquareANOVA(d)
 			if err != nil {

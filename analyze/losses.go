@@ -61,14 +61,14 @@ func LossTable(d Data) (*Losses, error) {
 		}
 		return r
 	}
-	n := len(d.Values)
+	n := d.Values.Len()
 	if d.Subsamples != nil {
 		n = len(d.Subsamples)
 	}
 	for i := 0; i < n; i++ {
 		var lv []string
 		for _, f := range d.Factors {
-			lv = append(lv, f.Values[i])
+			lv = append(lv, f.Values.At(i))
 		}
 		r := add(key(lv))
 		r.Enrolled++
@@ -166,10 +166,11 @@ func Replicated(d Data) bool {
 	count := map[string]int{}
 	blocks := map[string]bool{}
 	trts := map[string]bool{}
-	for i, b := range d.Block.Values {
+	for i := range d.Block.Values.Len() {
+		b := d.Block.Values.At(i)
 		var lv []string
 		for _, f := range d.Factors {
-			lv = append(lv, f.Values[i])
+			lv = append(lv, f.Values.At(i))
 		}
 		t := strings.Join(lv, "\x00")
 		blocks[b], trts[t] = true, true

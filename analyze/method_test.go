@@ -1,6 +1,10 @@
 package analyze
 
-import "testing"
+import (
+	"testing"
+
+	"github.com/allotproject/allot/column"
+)
 
 func TestForKindAndRunMethod(t *testing.T) {
 	for kind, want := range map[string][2]string{"count": {MethodGLM, FamilyPoisson}, "proportion": {MethodGLM, FamilyBinomial},
@@ -10,13 +14,13 @@ func TestForKindAndRunMethod(t *testing.T) {
 			t.Errorf("%q: %s %s, want %v", kind, m, f, want)
 		}
 	}
-	d := Data{Response: "score", Values: []string{"0", "1", "1", "2", "3", "3", "4", "2", "1"},
-		Factors: []Column{{Name: "dose", Values: []string{"a", "a", "a", "b", "b", "b", "c", "c", "c"}}}}
+	d := Data{Response: "score", Values: column.Of([]string{"0", "1", "1", "2", "3", "3", "4", "2", "1"}),
+		Factors: []Column{{Name: "dose", Values: column.Of([]string{"a", "a", "a", "b", "b", "b", "c", "c", "c"})}}}
 	r, err := RunMethod(d, MethodOptions{Method: MethodRank})
 	if err != nil || r.Rank == nil || r.Rank.Method != "Kruskal–Wallis" {
 		t.Fatalf("rank without blocks: %+v, %v", r, err)
 	}
-	d.Block = &Column{Name: "cage", Values: []string{"1", "2", "3", "1", "2", "3", "1", "2", "3"}}
+	d.Block = &Column{Name: "cage", Values: column.Of([]string{"1", "2", "3", "1", "2", "3", "1", "2", "3"})}
 	r, err = RunMethod(d, MethodOptions{Method: MethodRank})
 	if err != nil || r.Rank == nil || r.Rank.Method != "Friedman" {
 		t.Fatalf("rank with blocks: %+v, %v", r, err)

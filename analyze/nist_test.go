@@ -2,6 +2,7 @@ package analyze
 
 import (
 	"bufio"
+	"github.com/allotproject/allot/column"
 	"math"
 	"os"
 	"strconv"
@@ -73,8 +74,8 @@ func TestNIST(t *testing.T) {
 			c := readNIST(t, name)
 			tab, err := Fit(Data{
 				Response: "y",
-				Values:   c.values,
-				Factors:  []Column{{Name: "treatment", Values: c.groups}},
+				Values:   column.Of(c.values),
+				Factors:  []Column{{Name: "treatment", Values: column.Of(c.groups)}},
 			}, Options{})
 			if err != nil {
 				t.Fatal(err)

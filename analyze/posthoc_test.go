@@ -1,6 +1,7 @@
 package analyze
 
 import (
+	"github.com/allotproject/allot/column"
 	"math"
 	"strconv"
 	"strings"
@@ -58,9 +59,9 @@ func oneWayData() Data {
 	d := Data{Response: "y", Factors: []Column{{Name: "dose", Levels: []string{"ctl", "lo", "hi"}}}}
 	for _, l := range []string{"ctl", "lo", "hi"} {
 		for i, v := range vals[l] {
-			d.Values = append(d.Values, v)
-			d.Factors[0].Values = append(d.Factors[0].Values, l)
-			d.Units = append(d.Units, l+string(rune('1'+i)))
+			d.Values = d.Values.Append(v)
+			d.Factors[0].Values = d.Factors[0].Values.Append(l)
+			d.Units = d.Units.Append(l + string(rune('1'+i)))
 		}
 	}
 	return d
@@ -100,11 +101,13 @@ func TestRunPostHocMethods(t *testing.T) {
 
 func TestRunFlagsOutlier(t *testing.T) {
 	d := oneWayData()
-	d.Values[3] = "19.0" // a typing slip in ctl
-	d.Where = make([]string, len(d.Values))
-	for i := range d.Where {
-		d.Where[i] = "Entry!E" + string(rune('2'+i))
+	vs := d.Values.Strings()
+	vs[3] = "19.0" // a typing slip in ctl
+	where := make([]string, d.Values.Len())
+	for i := range where {
+		where[i] = "Entry!E" + string(rune('2'+i))
 	}
+	d.Where = column.Of(where)
 	res, err := Run(d, RunOptions{})
 	if err != nil {
 		t.Fatal(err)
@@ -125,9 +128,9 @@ func TestRunInteractionSimpleEffects(t *testing.T) {
 	for _, n := range []string{"N0", "N1"} {
 		for _, k := range []string{"K0", "K1"} {
 			for _, v := range cells[[2]string{n, k}] {
-				d.Values = append(d.Values, v)
-				d.Factors[0].Values = append(d.Factors[0].Values, n)
-				d.Factors[1].Values = append(d.Factors[1].Values, k)
+				d.Values = d.Values.Append(v)
+				d.Factors[0].Values = d.Factors[0].Values.Append(n)
+				d.Factors[1].Values = d.Factors[1].Values.Append(k)
 			}
 		}
 	}
@@ -148,16 +151,17 @@ func TestRunInteractionSimpleEffects(t *testing.T) {
 func TestFitErrors(t *testing.T) {
 	d := oneWayData()
 	bad := d
-	bad.Values = append([]string(nil), d.Values...)
-	bad.Values[0] = "abc"
+	vs := append([]string(nil), d.Values.Strings()...)
+	vs[0] = "abc"
+	bad.Values = column.Of(vs)
 	if _, err := Fit(bad, Options{}); err == nil || !strings.Contains(err.Error(), `"abc" is not a decimal number`) {
 		t.Errorf("text value: %v", err)
 	}
-	one := Data{Response: "y", Values: []string{"1", "2"}, Factors: []Column{{Name: "f", Values: []string{"a", "a"}}}}
+	one := Data{Response: "y", Values: column.Of([]string{"1", "2"}), Factors: []Column{{Name: "f", Values: column.Of([]string{"a", "a"})}}}
 	if _, err := Fit(one, Options{}); err == nil || !strings.Contains(err.Error(), "only one level") {
 		t.Errorf("one level: %v", err)
 	}
-	single := Data{Response: "y", Values: []string{"1", "2", "3"}, Factors: []Column{{Name: "f", Values: []string{"a", "b", "c"}}}}
+	single := Data{Response: "y", Values: column.Of([]string{"1", "2", "3"}), Factors: []Column{{Name: "f", Values: column.Of([]string{"a", "b", "c"})}}}
 	if _, err := Fit(single, Options{}); err == nil || !strings.Contains(err.Error(), "no residual degrees of freedom") {
 		t.Errorf("one per group: %v", err)
 	}
@@ -166,9 +170,9 @@ func TestFitErrors(t *testing.T) {
 	}
 	empty := Data{Response: "y", Factors: []Column{{Name: "A"}, {Name: "B"}}}
 	for _, c := range [][3]string{{"a1", "b1", "1"}, {"a1", "b1", "2"}, {"a1", "b2", "3"}, {"a1", "b2", "4"}, {"a2", "b1", "5"}, {"a2", "b1", "6"}} {
-		empty.Factors[0].Values = append(empty.Factors[0].Values, c[0])
-		empty.Factors[1].Values = append(empty.Factors[1].Values, c[1])
-		empty.Values = append(empty.Values, c[2])
+		empty.Factors[0].Values = empty.Factors[0].Values.Append(c[0])
+		empty.Factors[1].Values = empty.Factors[1].Values.Append(c[1])
+		empty.Values = empty.Values.Append(c[2])
 	}
 	// An empty cell: Types I and II of the main effects are estimable (and
 	// equal, by hand, to those of the additive model A + B); A × B is left
@@ -204,13 +208,13 @@ func TestFitErrors(t *testing.T) {
 }
 
 func TestAverageSubsamples(t *testing.T) {
-	d := Data{Response: "y", Subsamples: [][]string{{"10", "11", "10"}, {"1000000000000.1", "1000000000000.2"}}, Factors: []Column{{Name: "f", Values: []string{"a", "b"}}}}
+	d := Data{Response: "y", Subsamples: [][]string{{"10", "11", "10"}, {"1000000000000.1", "1000000000000.2"}}, Factors: []Column{{Name: "f", Values: column.Of([]string{"a", "b"})}}}
 	got, s, err := Average(d)
 	if err != nil {
 		t.Fatal(err)
 	}
 	// Exact means: 31/3, and 1000000000000.15 = 20000000000003/20.
-	if got.Values[0] != "31/3" || got.Values[1] != "20000000000003/20" {
+	if got.Values.At(0) != "31/3" || got.Values.At(1) != "20000000000003/20" {
 		t.Errorf("means %v", got.Values)
 	}
 	// Pooled within-unit variance: (2/3 + 0.005)/(2 + 1), by hand.

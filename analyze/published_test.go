@@ -28,9 +28,9 @@ func TestLatinSquarePublished(t *testing.T) {
 	for i, r := range rows {
 		for j, c := range r {
 			d.Values = append(d.Values, strconv.Itoa(c.y))
-			d.Row.Values = append(d.Row.Values, strconv.Itoa(i+1))
-			d.Col.Values = append(d.Col.Values, strconv.Itoa(j+1))
-			d.Treatment.Values = append(d.Treatment.Values, c.f)
+			d.Row.Values = d.Row.Values.Append(strconv.Itoa(i + 1))
+			d.Col.Values = d.Col.Values.Append(strconv.Itoa(j + 1))
+			d.Treatment.Values = d.Treatment.Values.Append(c.f)
 		}
 	}
 	r, err := LatinSquareANOVA(d)
@@ -74,10 +74,10 @@ func TestSplitPlotPublished(t *testing.T) {
 		for m, row := range rep {
 			for k, y := range row {
 				d.Values = append(d.Values, strconv.Itoa(y))
-				d.Whole.Values = append(d.Whole.Values, strconv.Itoa(m+1))
-				d.Sub.Values = append(d.Sub.Values, temps[k])
-				d.MainPlot.Values = append(d.MainPlot.Values, strconv.Itoa(r*3+m))
-				blk.Values = append(blk.Values, strconv.Itoa(r+1))
+				d.Whole.Values = d.Whole.Values.Append(strconv.Itoa(m + 1))
+				d.Sub.Values = d.Sub.Values.Append(temps[k])
+				d.MainPlot.Values = d.MainPlot.Values.Append(strconv.Itoa(r*3 + m))
+				blk.Values = blk.Values.Append(strconv.Itoa(r + 1))
 			}
 		}
 	}

@@ -66,20 +66,20 @@ func (c refCase) data() Data {
 	for _, n := range names {
 		col := Column{Name: n}
 		for _, r := range c.Rows {
-			col.Values = append(col.Values, r[n])
+			col.Values = col.Values.Append(r[n])
 		}
 		d.Factors = append(d.Factors, col)
 	}
 	if c.Blocked {
 		b := Column{Name: "block"}
 		for _, r := range c.Rows {
-			b.Values = append(b.Values, r["block"])
+			b.Values = b.Values.Append(r["block"])
 		}
 		d.Block = &b
 		d.BlockInteraction = c.BlockInt
 	}
 	for _, r := range c.Rows {
-		d.Values = append(d.Values, r["y"])
+		d.Values = d.Values.Append(r["y"])
 	}
 	return d
 }

@@ -8,6 +8,7 @@ import (
 	"strconv"
 	"strings"
 
+	"github.com/allotproject/allot/column"
 	"github.com/allotproject/allot/prob"
 
 	"gonum.org/v1/gonum/mat"
@@ -423,7 +424,7 @@ func Summarise(r Repeated, kind string) (Data, []string, error) {
 		return Data{}, nil, errors.New("the time values must increase")
 	}
 	d := Data{Response: r.Response + " (" + kind + ")", Factors: []Column{{Name: r.Treatment}}}
-	var dropped []string
+	var dropped, values, groups, units []string
 	k := len(r.Times)
 	for u, row := range vals {
 		var v float64
@@ -474,9 +475,10 @@ func Summarise(r Repeated, kind string) (Data, []string, error) {
 			dropped = append(dropped, r.Units[u])
 			continue
 		}
-		d.Values = append(d.Values, strconv.FormatFloat(v, 'g', -1, 64))
-		d.Factors[0].Values = append(d.Factors[0].Values, r.Groups[u])
-		d.Units = append(d.Units, r.Units[u])
+		values = append(values, strconv.FormatFloat(v, 'g', -1, 64))
+		groups = append(groups, r.Groups[u])
+		units = append(units, r.Units[u])
 	}
+	d.Values, d.Factors[0].Values, d.Units = column.Of(values), column.Of(groups), column.Of(units)
 	return d, dropped, nil
 }

@@ -115,11 +115,11 @@ func TestRepeatedReference(t *testing.T) {
 					t.Fatal(err)
 				}
 				j := 0
-				for u, id := range d.Units {
+				for u, id := range d.Units.Strings() {
 					if missing[id] {
 						continue
 					}
-					got := parseAll(t, d.Values[u:u+1])[0]
+					got := parseAll(t, d.Values.Slice(u, u+1).Strings())[0]
 					refNear(t, kind+" of "+id, got, want[j], 1e-10)
 					j++
 				}

@@ -2,6 +2,7 @@ package analyze
 
 import (
 	"encoding/json"
+	"github.com/allotproject/allot/column"
 	"math"
 	"os"
 	"strconv"
@@ -71,7 +72,7 @@ func refNear(t *testing.T, what string, got, want, rel float64) {
 func TestWelchReference(t *testing.T) {
 	for _, c := range loadRobust(t).Welch {
 		t.Run(c.Name, func(t *testing.T) {
-			d := Data{Response: "y", Values: c.Values, Factors: []Column{{Name: "g", Values: c.Groups}}}
+			d := Data{Response: "y", Values: column.Of(c.Values), Factors: []Column{{Name: "g", Values: column.Of(c.Groups)}}}
 			r, err := Welch(d, 0.05)
 			if err != nil {
 				t.Fatal(err)
@@ -103,8 +104,8 @@ func TestWelchReference(t *testing.T) {
 }
 
 func TestWelchZeroVariance(t *testing.T) {
-	d := Data{Response: "y", Values: []string{"1", "1", "1", "2", "3", "4"},
-		Factors: []Column{{Name: "g", Values: []string{"a", "a", "a", "b", "b", "b"}}}}
+	d := Data{Response: "y", Values: column.Of([]string{"1", "1", "1", "2", "3", "4"}),
+		Factors: []Column{{Name: "g", Values: column.Of([]string{"a", "a", "a", "b", "b", "b"})}}}
 	if _, err := Welch(d, 0.05); err == nil {
 		t.Fatal("a constant group must be refused")
 	}
@@ -113,7 +114,7 @@ func TestWelchZeroVariance(t *testing.T) {
 func TestKruskalWallisReference(t *testing.T) {
 	for _, c := range loadRobust(t).Kruskal {
 		t.Run(c.Name, func(t *testing.T) {
-			d := Data{Response: "y", Values: c.Values, Factors: []Column{{Name: "g", Values: c.Groups}}}
+			d := Data{Response: "y", Values: column.Of(c.Values), Factors: []Column{{Name: "g", Values: column.Of(c.Groups)}}}
 			r, err := KruskalWallis(d, 0.05)
 			if err != nil {
 				t.Fatal(err)
@@ -137,8 +138,8 @@ func TestKruskalWallisReference(t *testing.T) {
 func TestFriedmanReference(t *testing.T) {
 	for _, c := range loadRobust(t).Friedman {
 		t.Run(c.Name, func(t *testing.T) {
-			d := Data{Response: "y", Values: c.Values, Factors: []Column{{Name: "t", Values: c.Groups}},
-				Block: &Column{Name: "block", Values: c.Blocks}}
+			d := Data{Response: "y", Values: column.Of(c.Values), Factors: []Column{{Name: "t", Values: column.Of(c.Groups)}},
+				Block: &Column{Name: "block", Values: column.Of(c.Blocks)}}
 			r, err := Friedman(d, 0.05)
 			if err != nil {
 				t.Fatal(err)
@@ -160,9 +161,9 @@ func TestFriedmanReference(t *testing.T) {
 }
 
 func TestFriedmanNeedsCompleteBlocks(t *testing.T) {
-	d := Data{Response: "y", Values: []string{"1", "2", "3", "4", "5"},
-		Factors: []Column{{Name: "t", Values: []string{"a", "b", "a", "b", "a"}}},
-		Block:   &Column{Name: "bench", Values: []string{"1", "1", "2", "2", "3"}}}
+	d := Data{Response: "y", Values: column.Of([]string{"1", "2", "3", "4", "5"}),
+		Factors: []Column{{Name: "t", Values: column.Of([]string{"a", "b", "a", "b", "a"})}},
+		Block:   &Column{Name: "bench", Values: column.Of([]string{"1", "1", "2", "2", "3"})}}
 	if _, err := Friedman(d, 0.05); err == nil {
 		t.Fatal("an incomplete block must be refused")
 	}
@@ -187,7 +188,7 @@ func TestTransformReference(t *testing.T) {
 	}
 	for _, c := range ref.Transform {
 		t.Run(c.Name, func(t *testing.T) {
-			d := Data{Response: "y", Values: c.Values, Factors: []Column{{Name: "g", Values: c.Groups}}}
+			d := Data{Response: "y", Values: column.Of(c.Values), Factors: []Column{{Name: "g", Values: column.Of(c.Groups)}}}
 			td, err := Transform(d, c.Kind)
 			if err != nil {
 				t.Fatal(err)
@@ -199,7 +200,7 @@ func TestTransformReference(t *testing.T) {
 			// statsmodels ols + anova_lm on numpy's transform of the data.
 			refNear(t, "F", tab.Terms[0].F, c.F, 1e-10)
 			refNear(t, "p", tab.Terms[0].P, c.P, 1e-9)
-			gs := summaries([]string{"g1", "g2", "g3", "g4"}[:len(c.Means)], groupIndex(c.Groups), parseAll(t, td.Values))
+			gs := summaries([]string{"g1", "g2", "g3", "g4"}[:len(c.Means)], groupIndex(c.Groups), parseAll(t, td.Values.Strings()))
 			for i, m := range c.Means {
 				refNear(t, "mean", gs[i].Mean, m, 1e-12)
 				if bt := BackTransform(c.Kind, gs[i].Mean); c.Kind == TransformLog && math.Abs(math.Log(bt)-m) > 1e-12 {
@@ -211,8 +212,8 @@ func TestTransformReference(t *testing.T) {
 }
 
 func TestTransformDomain(t *testing.T) {
-	d := Data{Response: "y", Values: []string{"0", "1", "2"}, Units: []string{"101", "102", "103"},
-		Factors: []Column{{Name: "g", Values: []string{"a", "b", "b"}}}}
+	d := Data{Response: "y", Values: column.Of([]string{"0", "1", "2"}), Units: column.Of([]string{"101", "102", "103"}),
+		Factors: []Column{{Name: "g", Values: column.Of([]string{"a", "b", "b"})}}}
 	for _, kind := range []string{TransformLog, TransformLogit} {
 		if _, err := Transform(d, kind); err == nil || !strings.Contains(err.Error(), "unit 101") {
 			t.Errorf("%s of 0: %v, want an error naming unit 101", kind, err)

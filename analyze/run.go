@@ -626,13 +626,11 @@ func checkAssumptions(d Data, t *Table) Assumptions {
 	a.Stud = make([]float64, len(t.Residuals))
 	a.Deleted = make([]float64, len(t.Residuals))
 	nu := float64(t.Residual.DF)
-	usable := make([]int, 0, len(t.Residuals))
 	for i, e := range t.Residuals {
 		h := t.Leverage[i]
 		a.Stud[i], a.Deleted[i] = math.NaN(), math.NaN()
 		if h < 1-1e-10 && t.ResidSD > 0 {
 			a.Stud[i] = e / (t.ResidSD * math.Sqrt(1-h))
-			usable = append(usable, i)
 		}
 		if r := a.Stud[i]; nu > 1 && !math.IsNaN(r) {
 			if den := nu - r*r; den > 1e-12 {
@@ -642,72 +640,92 @@ func checkAssumptions(d Data, t *Table) Assumptions {
 			}
 		}
 		if math.Abs(a.Deleted[i]) > 3 {
-			o := Outlier{Value: d.Values[i], Residual: e, Studentized: a.Deleted[i]}
-			if d.Units != nil {
-				o.Unit = d.Units[i]
+			o := Outlier{Value: d.Values.At(i), Residual: e, Studentized: a.Deleted[i]}
+			if d.Units.Len() > 0 {
+				o.Unit = d.Units.At(i)
 			}
-			if d.Where != nil {
-				o.Where = d.Where[i]
+			if d.Where.Len() > 0 {
+				o.Where = d.Where.At(i)
 			}
 			a.Outliers = append(a.Outliers, o)
 		}
 	}
 	sort.Slice(a.Outliers, func(i, j int) bool { return math.Abs(a.Outliers[i].Studentized) > math.Abs(a.Outliers[j].Studentized) })
-	normal := make([]float64, 0, len(t.Residuals))
+	var normal []float64
 	var groups [][]float64
 	knownZero := false // the values have mean 0 by construction: Levene about 0
 	cs := t.cells
 	// Keys are cells, treatment combinations or blocks (small integers,
 	// from the cell statistics); byKey lists them in order of first
-	// appearance, each with its observations.
+	// appearance, each with its observations (idx nil: all of them).
 	trtKey := func(i int) int { return int(cs.treat[cs.of[i]]) }
-	byKey := func(idx []int, key func(int) int, nk int) ([]int, [][]int) {
+	n := len(t.Residuals)
+	byKey := func(idx []int32, key func(int) int, nk int) ([]int, [][]int32) {
 		// A counting sort into one array: keys in order of first
 		// appearance, each key's observations in their order.
 		count := make([]int, nk)
 		var order []int
-		for _, i := range idx {
+		each := func(f func(i int)) {
+			if idx == nil {
+				for i := range n {
+					f(i)
+				}
+				return
+			}
+			for _, i := range idx {
+				f(int(i))
+			}
+		}
+		each(func(i int) {
 			k := key(i)
 			if count[k] == 0 {
 				order = append(order, k)
 			}
 			count[k]++
+		})
+		flat := make([]int32, n)
+		if idx != nil {
+			flat = flat[:len(idx)]
 		}
-		flat := make([]int, len(idx))
-		members := make([][]int, nk)
+		members := make([][]int32, nk)
 		at := 0
 		for _, k := range order {
 			members[k] = flat[at : at : at+count[k]]
 			at += count[k]
 		}
-		for _, i := range idx {
+		each(func(i int) {
 			k := key(i)
-			members[k] = append(members[k], i)
-		}
+			members[k] = append(members[k], int32(i))
+		})
 		return order, members
-	}
-	all := make([]int, len(t.Residuals))
-	for i := range all {
-		all[i] = i
 	}
 	rcbd := cs.completeRCBD(t.m)
 	switch {
 	case saturated(d):
 		// Cells of the saturated model: treatments, or block × treatment.
-		order, cells := byKey(all, func(i int) int { return int(cs.of[i]) }, len(cs.n))
-		trtOrder, _ := byKey(all, trtKey, cs.nTreat)
-		byTrt := make([][]float64, cs.nTreat)
+		// The contrasts go into one array, treatment by treatment (each
+		// treatment's cells in order of first appearance), so that each
+		// treatment's group is a slice of it.
+		order, cells := byKey(nil, func(i int) int { return int(cs.of[i]) }, len(cs.n))
+		var trtOrder []int
+		cellsOf := make([][]int, cs.nTreat)
 		for _, k := range order {
-			h := helmert(t.Residuals, cells[k])
-			normal = append(normal, h...)
-			tk := trtKey(cells[k][0])
-			byTrt[tk] = append(byTrt[tk], h...)
+			tk := trtKey(int(cells[k][0]))
+			if cellsOf[tk] == nil {
+				trtOrder = append(trtOrder, tk)
+			}
+			cellsOf[tk] = append(cellsOf[tk], k)
+		}
+		normal = make([]float64, 0, n)
+		for _, tk := range trtOrder {
+			start := len(normal)
+			for _, k := range cellsOf[tk] {
+				normal = appendHelmert(normal, t.Residuals, cells[k])
+			}
+			groups = append(groups, normal[start:len(normal):len(normal)])
 		}
 		a.Basis = "Helmert contrasts within cells (the residuals of a cell sum to zero; with two units a cell they are ± pairs), with spread measured about their known centre 0"
 		knownZero = true
-		for _, k := range trtOrder {
-			groups = append(groups, byTrt[k])
-		}
 	case rcbd:
 		// One unit per treatment per block: the residuals of each treatment
 		// sum to zero across blocks, and those of each block across
@@ -718,8 +736,8 @@ func checkAssumptions(d Data, t *Table) Assumptions {
 		a.Basis = "Helmert contrasts of the two-way table of residuals (they sum to zero along both blocks and treatments), with spread measured about their known centre 0"
 		knownZero = true
 		blockOf := func(i int) int { return int(cs.block[cs.of[i]]) }
-		trtOrder, byT := byKey(all, trtKey, cs.nTreat)
-		blocks, _ := byKey(all, blockOf, len(t.m.blockL))
+		trtOrder, byT := byKey(nil, trtKey, cs.nTreat)
+		blocks, _ := byKey(nil, blockOf, len(t.m.blockL))
 		pos := make([]int, len(t.m.blockL))
 		for j, bl := range blocks {
 			pos[bl] = j
@@ -729,7 +747,7 @@ func checkAssumptions(d Data, t *Table) Assumptions {
 			row := make([]float64, len(blocks))
 			idx := make([]int, len(blocks))
 			for _, i := range byT[k] {
-				row[pos[blockOf(i)]] = t.Residuals[i]
+				row[pos[blockOf(int(i))]] = t.Residuals[i]
 			}
 			for j := range idx {
 				idx[j] = j
@@ -752,6 +770,12 @@ func checkAssumptions(d Data, t *Table) Assumptions {
 		}
 	default:
 		a.Basis = "residuals (an incomplete block design: the checks are approximate and tend to be conservative)"
+		var usable []int32
+		for i := range n {
+			if h := t.Leverage[i]; h < 1-1e-10 && t.ResidSD > 0 {
+				usable = append(usable, int32(i))
+			}
+		}
 		trtOrder, byT := byKey(usable, trtKey, cs.nTreat)
 		for _, k := range trtOrder {
 			g := make([]float64, 0, len(byT[k]))
@@ -883,7 +907,7 @@ func (s *splitmix) normal() float64 {
 // leveneAbout0 is Levene's test for values whose centre is known to be 0
 // (contrasts): the one-way ANOVA F of |v| across groups (Levene 1960, in
 // Contributions to Probability and Statistics, 278–292, with the centre
-// known instead of estimated).
+// known instead of estimated). It overwrites the groups with |v| scaled.
 func leveneAbout0(groups [][]float64) (f float64, df1, df2 int, p float64, ok bool) {
 	var z [][]float64
 	var big0 float64
@@ -892,7 +916,7 @@ func leveneAbout0(groups [][]float64) (f float64, df1, df2 int, p float64, ok bo
 		if len(g) == 0 {
 			continue
 		}
-		a := make([]float64, len(g))
+		a := g // overwritten: the callers own their groups
 		for i, v := range g {
 			a[i] = math.Abs(v)
 			big0 = math.Max(big0, a[i])
@@ -939,8 +963,12 @@ func saturated(d Data) bool {
 }
 
 // helmert returns the Helmert contrasts of the values at idx.
-func helmert(e []float64, idx []int) []float64 {
-	out := make([]float64, 0, max(len(idx)-1, 0))
+func helmert[I int | int32](e []float64, idx []I) []float64 {
+	return appendHelmert(make([]float64, 0, max(len(idx)-1, 0)), e, idx)
+}
+
+// appendHelmert appends the Helmert contrasts of the values at idx to out.
+func appendHelmert[I int | int32](out, e []float64, idx []I) []float64 {
 	var sum float64
 	for j, i := range idx {
 		if j > 0 {

@@ -7,6 +7,8 @@ import (
 	"strings"
 
 	"gonum.org/v1/gonum/stat/distuv"
+
+	"github.com/allotproject/allot/column"
 )
 
 // SplitPlot is the data of a split-plot experiment: whole-plot treatments
@@ -87,10 +89,10 @@ type splitCoded struct {
 
 func (d SplitPlot) coded() (*splitCoded, error) {
 	n := len(d.Values)
-	if len(d.Whole.Values) != n || len(d.Sub.Values) != n || len(d.MainPlot.Values) != n || d.Block != nil && len(d.Block.Values) != n {
+	if d.Whole.Values.Len() != n || d.Sub.Values.Len() != n || d.MainPlot.Values.Len() != n || d.Block != nil && d.Block.Values.Len() != n {
 		return nil, errors.New("split plot: every column needs one value per observation")
 	}
-	y, shift, err := centred(d.Values)
+	y, shift, err := centred(column.Of(d.Values))
 	if err != nil {
 		return nil, fmt.Errorf("response %q: %w", d.Response, err)
 	}

@@ -2,6 +2,8 @@ package analyze
 
 import (
 	"fmt"
+
+	"github.com/allotproject/allot/column"
 )
 
 // SplitPlotTukey compares the means of a balanced split plot by Tukey's
@@ -18,7 +20,7 @@ func SplitPlotTukey(d SplitPlot, res *SplitPlotResult, alpha float64) ([]*PostHo
 		return nil, fmt.Errorf("split plot: comparisons need the two-stratum analysis first")
 	}
 	run := func(values []string, c Column, se DiffSE, within string) (*PostHoc, error) {
-		g, err := Summaries(Data{Values: values, Factors: []Column{c}}, 0)
+		g, err := Summaries(Data{Values: column.Of(values), Factors: []Column{c}}, 0)
 		if err != nil {
 			return nil, err
 		}
@@ -44,14 +46,14 @@ func SplitPlotTukey(d SplitPlot, res *SplitPlotResult, alpha float64) ([]*PostHo
 		return nil, err
 	}
 	for a, level := range aL {
-		var vals []string
-		sub := Column{Name: d.Sub.Name, Levels: d.Sub.Levels}
+		var vals, subs []string
 		for i, ai := range aI {
 			if ai == a {
 				vals = append(vals, d.Values[i])
-				sub.Values = append(sub.Values, d.Sub.Values[i])
+				subs = append(subs, d.Sub.Values.At(i))
 			}
 		}
+		sub := Column{Name: d.Sub.Name, Levels: d.Sub.Levels, Values: column.Of(subs)}
 		ph, err := run(vals, sub, res.Diffs[2], d.Whole.Name+" = "+level)
 		if err != nil {
 			return nil, err

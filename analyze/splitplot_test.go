@@ -2,6 +2,7 @@ package analyze
 
 import (
 	"encoding/json"
+	"github.com/allotproject/allot/column"
 	"math"
 	"os"
 	"regexp"
@@ -59,10 +60,10 @@ func loadSplit(t *testing.T) splitRef {
 func splitData(c struct{ Y, A, B, Mp, Block []string }, blocked bool) SplitPlot {
 	// Levels in sorted order, as patsy codes them (first appearance
 	// changes when a sub-plot is missing).
-	d := SplitPlot{Response: "y", Values: c.Y, Whole: Column{Name: "A", Values: c.A, Levels: sortedLevels(c.A)},
-		Sub: Column{Name: "B", Values: c.B, Levels: sortedLevels(c.B)}, MainPlot: Column{Name: "main plot", Values: c.Mp}}
+	d := SplitPlot{Response: "y", Values: c.Y, Whole: Column{Name: "A", Values: column.Of(c.A), Levels: sortedLevels(c.A)},
+		Sub: Column{Name: "B", Values: column.Of(c.B), Levels: sortedLevels(c.B)}, MainPlot: Column{Name: "main plot", Values: column.Of(c.Mp)}}
 	if blocked {
-		d.Block = &Column{Name: "block", Values: c.Block, Levels: sortedLevels(c.Block)}
+		d.Block = &Column{Name: "block", Values: column.Of(c.Block), Levels: sortedLevels(c.Block)}
 	}
 	return d
 }
@@ -218,10 +219,10 @@ func TestSplitPlotTypeI(t *testing.T) {
 				for j := 0; j < b; j++ {
 					y := 10 + be + me + 0.5*float64(j) + r.NormFloat64()
 					d.Values = append(d.Values, strconv.FormatFloat(y, 'g', -1, 64))
-					d.Whole.Values = append(d.Whole.Values, strconv.Itoa(i))
-					d.Sub.Values = append(d.Sub.Values, strconv.Itoa(j))
-					d.MainPlot.Values = append(d.MainPlot.Values, strconv.Itoa(mp))
-					blk.Values = append(blk.Values, strconv.Itoa(rep))
+					d.Whole.Values = d.Whole.Values.Append(strconv.Itoa(i))
+					d.Sub.Values = d.Sub.Values.Append(strconv.Itoa(j))
+					d.MainPlot.Values = d.MainPlot.Values.Append(strconv.Itoa(mp))
+					blk.Values = blk.Values.Append(strconv.Itoa(rep))
 				}
 			}
 		}
@@ -271,10 +272,10 @@ func TestSplitPlotFactorialWholePlots(t *testing.T) {
 	for i := range ref.Data.Light {
 		whole = append(whole, ref.Data.Light[i]+" × "+ref.Data.Co2[i])
 	}
-	d := SplitPlot{Response: "y", Values: ref.Data.Y, Whole: Column{Name: "light × co2", Values: whole},
-		Sub: Column{Name: "variety", Values: ref.Data.Variety}, MainPlot: Column{Name: "main plot", Values: ref.Data.Mp},
-		WholeFactors: []Column{{Name: "light", Values: ref.Data.Light, Levels: []string{"12h", "16h"}}, {Name: "co2", Values: ref.Data.Co2, Levels: []string{"low", "high"}}},
-		SubFactors:   []Column{{Name: "variety", Values: ref.Data.Variety}}}
+	d := SplitPlot{Response: "y", Values: ref.Data.Y, Whole: Column{Name: "light × co2", Values: column.Of(whole)},
+		Sub: Column{Name: "variety", Values: column.Of(ref.Data.Variety)}, MainPlot: Column{Name: "main plot", Values: column.Of(ref.Data.Mp)},
+		WholeFactors: []Column{{Name: "light", Values: column.Of(ref.Data.Light), Levels: []string{"12h", "16h"}}, {Name: "co2", Values: column.Of(ref.Data.Co2), Levels: []string{"low", "high"}}},
+		SubFactors:   []Column{{Name: "variety", Values: column.Of(ref.Data.Variety)}}}
 	res, err := SplitPlotANOVA(d)
 	if err != nil {
 		t.Fatal(err)

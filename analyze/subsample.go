@@ -4,6 +4,8 @@ import (
 	"fmt"
 	"math"
 	"math/big"
+
+	"github.com/allotproject/allot/column"
 )
 
 // Sampling summarises the subsamples that were averaged to their units.
@@ -28,7 +30,7 @@ func Average(d Data) (Data, *Sampling, error) {
 		return d, nil, nil
 	}
 	out := d
-	out.Values = make([]string, len(d.Subsamples))
+	values := make([]string, len(d.Subsamples))
 	out.Subsamples = nil
 	s := &Sampling{Units: len(d.Subsamples), MinPerUnit: math.MaxInt}
 	var ss float64
@@ -36,7 +38,7 @@ func Average(d Data) (Data, *Sampling, error) {
 		if len(subs) == 0 {
 			return d, nil, fmt.Errorf("observation %d has no subsample values", i+1)
 		}
-		y, _, err := centred(subs)
+		y, _, err := centred(column.Of(subs))
 		if err != nil {
 			return d, nil, fmt.Errorf("unit %d: %w", i+1, err)
 		}
@@ -46,7 +48,7 @@ func Average(d Data) (Data, *Sampling, error) {
 			sum.Add(&sum, &r)
 		}
 		sum.Quo(&sum, new(big.Rat).SetInt64(int64(len(subs))))
-		out.Values[i] = sum.RatString()
+		values[i] = sum.RatString()
 		var m float64
 		for _, v := range y {
 			m += v
@@ -64,5 +66,6 @@ func Average(d Data) (Data, *Sampling, error) {
 	if s.DF > 0 {
 		s.Variance = ss / float64(s.DF)
 	}
+	out.Values = column.Of(values)
 	return out, s, nil
 }

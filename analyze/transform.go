@@ -4,6 +4,8 @@ import (
 	"fmt"
 	"math"
 	"strconv"
+
+	"github.com/allotproject/allot/column"
 )
 
 // Transformations of the response (Options of the command `--transform`).
@@ -46,8 +48,8 @@ func Transform(d Data, kind string) (Data, error) {
 		return d, fmt.Errorf("transformation %q: must be log, sqrt or logit", kind)
 	}
 	where := func(i int) string {
-		if d.Units != nil && i < len(d.Units) {
-			return "unit " + d.Units[i]
+		if d.Units.Len() > 0 && i < d.Units.Len() {
+			return "unit " + d.Units.At(i)
 		}
 		return fmt.Sprintf("observation %d", i+1)
 	}
@@ -63,15 +65,16 @@ func Transform(d Data, kind string) (Data, error) {
 		return strconv.FormatFloat(t, 'g', -1, 64), nil
 	}
 	out := d
-	if d.Values != nil {
-		out.Values = make([]string, len(d.Values))
-		for i, s := range d.Values {
-			v, err := conv(i, s)
+	if d.Values.Len() > 0 {
+		vs := make([]string, d.Values.Len())
+		for i := range vs {
+			v, err := conv(i, d.Values.At(i))
 			if err != nil {
 				return d, err
 			}
-			out.Values[i] = v
+			vs[i] = v
 		}
+		out.Values = column.Of(vs)
 	}
 	if d.Subsamples != nil {
 		out.Subsamples = make([][]string, len(d.Subsamples))

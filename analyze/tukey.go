@@ -190,7 +190,7 @@ func (m *model) summaries(g []int32, names []string, term string) []Group {
 func lsGroups(d Data, t *Table, fi int) ([]Group, func(i, j int) float64, error) {
 	var groups []Group
 	var err error
-	if t.m != nil && t.m.n == len(d.Values) && fi < len(t.m.index) {
+	if t.m != nil && t.m.n == d.Values.Len() && fi < len(t.m.index) {
 		// Each factor's summaries are computed once per table (the
 		// means, the comparisons and the letters all start from them).
 		if t.sums == nil {

@@ -3,6 +3,7 @@ package report
 import (
 	"bytes"
 	"encoding/xml"
+	"github.com/allotproject/allot/column"
 	"image/png"
 	"strings"
 	"testing"
@@ -13,8 +14,8 @@ import (
 // Rendering fixtures (invented numbers, not references).
 func TestCovarianceGolden(t *testing.T) {
 	d := analyze.Data{Response: "weight_g",
-		Values:  []string{"31.2", "33.0", "29.8", "35.1", "36.0", "34.2", "30.1", "32.2", "33.9", "37.0", "35.5", "31.0"},
-		Factors: []analyze.Column{{Name: "diet", Values: []string{"A", "A", "A", "A", "B", "B", "B", "B", "C", "C", "C", "C"}}}}
+		Values:  column.Of([]string{"31.2", "33.0", "29.8", "35.1", "36.0", "34.2", "30.1", "32.2", "33.9", "37.0", "35.5", "31.0"}),
+		Factors: []analyze.Column{{Name: "diet", Values: column.Of([]string{"A", "A", "A", "A", "B", "B", "B", "B", "C", "C", "C", "C"})}}}
 	x := []string{"20.1", "21.5", "19.0", "22.8", "21.0", "20.2", "18.5", "19.9", "21.7", "23.0", "22.1", "19.4"}
 	r, err := analyze.ANCOVA(d, "start_g", x, analyze.Options{})
 	if err != nil {

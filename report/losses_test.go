@@ -2,6 +2,7 @@ package report
 
 import (
 	"bytes"
+	"github.com/allotproject/allot/column"
 	"strings"
 	"testing"
 
@@ -11,8 +12,8 @@ import (
 // The loss table appears in every format, with its reasons and test.
 func TestLossTableEveryFormat(t *testing.T) {
 	d := analyze.Data{Response: "weight_g",
-		Values:  []string{"21.2", "22.0", "20.8", "23.5", "24.1", "22.9", "23.3"},
-		Factors: []analyze.Column{{Name: "diet", Levels: []string{"std", "high"}, Values: []string{"std", "std", "std", "high", "high", "high", "high"}}},
+		Values:  column.Of([]string{"21.2", "22.0", "20.8", "23.5", "24.1", "22.9", "23.3"}),
+		Factors: []analyze.Column{{Name: "diet", Levels: []string{"std", "high"}, Values: column.Of([]string{"std", "std", "std", "high", "high", "high", "high"})}},
 		Lost:    []analyze.LostUnit{{Unit: "M07", Levels: []string{"std"}, Status: "lost", Reason: "found dead day 9"}, {Unit: "M08", Levels: []string{"std"}, Status: "excluded", Reason: "protocol deviation"}}}
 	res, err := analyze.Run(d, analyze.RunOptions{})
 	if err != nil {

@@ -51,11 +51,11 @@ func fixedAnalysis(t *testing.T) Analysis {
 	d := analyze.Data{Response: "height_cm", Factors: []analyze.Column{{Name: "feed", Levels: []string{"F0", "F1", "F2"}}}, Block: &analyze.Column{Name: "bench"}}
 	for b, row := range vals {
 		for k, v := range row {
-			d.Values = append(d.Values, v)
-			d.Factors[0].Values = append(d.Factors[0].Values, []string{"F0", "F1", "F2"}[k])
-			d.Block.Values = append(d.Block.Values, strconv.Itoa(b+1))
-			d.Units = append(d.Units, strconv.Itoa(100*(b+1)+k+1))
-			d.Where = append(d.Where, "Entry!E"+strconv.Itoa(2+3*b+k))
+			d.Values = d.Values.Append(v)
+			d.Factors[0].Values = d.Factors[0].Values.Append([]string{"F0", "F1", "F2"}[k])
+			d.Block.Values = d.Block.Values.Append(strconv.Itoa(b + 1))
+			d.Units = d.Units.Append(strconv.Itoa(100*(b+1) + k + 1))
+			d.Where = d.Where.Append("Entry!E" + strconv.Itoa(2+3*b+k))
 		}
 	}
 	r, err := analyze.Run(d, analyze.RunOptions{})
@@ -290,8 +290,8 @@ func TestLargeResidualFiguresThinned(t *testing.T) {
 	n := 20000
 	d := analyze.Data{Response: "y", Factors: []analyze.Column{{Name: "g"}}}
 	for i := 0; i < n; i++ {
-		d.Values = append(d.Values, strconv.Itoa(100+(i*7919)%23))
-		d.Factors[0].Values = append(d.Factors[0].Values, strconv.Itoa(i%4))
+		d.Values = d.Values.Append(strconv.Itoa(100 + (i*7919)%23))
+		d.Factors[0].Values = d.Factors[0].Values.Append(strconv.Itoa(i % 4))
 	}
 	r, err := analyze.Run(d, analyze.RunOptions{PostHoc: analyze.MethodNone})
 	if err != nil {

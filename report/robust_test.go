@@ -1,6 +1,7 @@
 package report
 
 import (
+	"github.com/allotproject/allot/column"
 	"strings"
 	"testing"
 
@@ -12,10 +13,10 @@ import (
 func methodData() analyze.Data {
 	return analyze.Data{
 		Response: "germinated",
-		Values:   []string{"12", "15", "9", "17", "11", "16", "10", "18", "13", "14", "8", "19", "12", "17", "9", "16"},
-		Factors: []analyze.Column{{Name: "mix", Values: []string{"m1", "m2", "m3", "m4", "m1", "m2", "m3", "m4",
-			"m1", "m2", "m3", "m4", "m1", "m2", "m3", "m4"}}},
-		Block: &analyze.Column{Name: "bench", Values: []string{"1", "1", "1", "1", "2", "2", "2", "2", "3", "3", "3", "3", "4", "4", "4", "4"}},
+		Values:   column.Of([]string{"12", "15", "9", "17", "11", "16", "10", "18", "13", "14", "8", "19", "12", "17", "9", "16"}),
+		Factors: []analyze.Column{{Name: "mix", Values: column.Of([]string{"m1", "m2", "m3", "m4", "m1", "m2", "m3", "m4",
+			"m1", "m2", "m3", "m4", "m1", "m2", "m3", "m4"})}},
+		Block: &analyze.Column{Name: "bench", Values: column.Of([]string{"1", "1", "1", "1", "2", "2", "2", "2", "3", "3", "3", "3", "4", "4", "4", "4"})},
 	}
 }
 
@@ -35,7 +36,7 @@ func TestMethodGolden(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	trials := make([]float64, len(d.Values))
+	trials := make([]float64, d.Values.Len())
 	for i := range trials {
 		trials[i] = 20
 	}

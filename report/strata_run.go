@@ -3,6 +3,7 @@ package report
 import (
 	"errors"
 	"fmt"
+	"github.com/allotproject/allot/column"
 	"strings"
 
 	"github.com/allotproject/allot/analyze"
@@ -15,13 +16,13 @@ import (
 // two-stratum ANOVA of a complete split plot, a mixed model by REML when
 // sub-plots are missing, or the Latin-square ANOVA.
 func RunStrata(p design.Plan, response string, obs workbook.StrataObservations, alpha float64) (StrataAnalysis, error) {
-	a := StrataAnalysis{Response: response, Design: p.DesignName(), MainPlot: p.MainPlotWord(), Missing: obs.Total - len(obs.Values), Alpha: alpha}
+	a := StrataAnalysis{Response: response, Design: p.DesignName(), MainPlot: p.MainPlotWord(), Missing: obs.Total - obs.Values.Len(), Alpha: alpha}
 	if p.Design == design.Latin {
-		d := analyze.LatinData{Response: response, Values: obs.Values, Units: obs.Units,
-			Row: analyze.Column{Name: "row", Values: obs.Rows}, Col: analyze.Column{Name: "column", Values: obs.Cols},
-			Treatment: analyze.Column{Name: treatmentName(p.Factors), Values: obs.Treatments, Levels: workbook.TreatmentLevels(p)}}
+		d := analyze.LatinData{Response: response, Values: obs.Values.Strings(), Units: obs.Units.Strings(),
+			Row: analyze.Column{Name: "row", Values: column.Of(obs.Rows)}, Col: analyze.Column{Name: "column", Values: column.Of(obs.Cols)},
+			Treatment: analyze.Column{Name: treatmentName(p.Factors), Values: column.Of(obs.Treatments), Levels: workbook.TreatmentLevels(p)}}
 		if p.Blocks > 1 {
-			d.Square = &analyze.Column{Name: p.BlockName, Values: obs.Squares}
+			d.Square = &analyze.Column{Name: p.BlockName, Values: column.Of(obs.Squares)}
 		}
 		res, err := analyze.LatinSquareANOVA(d)
 		if err != nil {
@@ -37,10 +38,10 @@ func RunStrata(p design.Plan, response string, obs workbook.StrataObservations, 
 		}
 		return a, nil
 	}
-	d := analyze.SplitPlot{Response: response, Values: obs.Values, Units: obs.Units,
-		Whole:    analyze.Column{Name: treatmentName(p.Factors[:p.WholePlotFactors]), Values: obs.Whole, Levels: workbook.WholeLevels(p)},
-		Sub:      analyze.Column{Name: treatmentName(p.Factors[p.WholePlotFactors:]), Values: obs.Sub, Levels: workbook.SubLevels(p)},
-		MainPlot: analyze.Column{Name: p.MainPlotWord(), Values: obs.MainPlots}}
+	d := analyze.SplitPlot{Response: response, Values: obs.Values.Strings(), Units: obs.Units.Strings(),
+		Whole:    analyze.Column{Name: treatmentName(p.Factors[:p.WholePlotFactors]), Values: column.Of(obs.Whole), Levels: workbook.WholeLevels(p)},
+		Sub:      analyze.Column{Name: treatmentName(p.Factors[p.WholePlotFactors:]), Values: column.Of(obs.Sub), Levels: workbook.SubLevels(p)},
+		MainPlot: analyze.Column{Name: p.MainPlotWord(), Values: column.Of(obs.MainPlots)}}
 	if p.Blocks > 1 {
 		d.Block = &analyze.Column{Name: p.BlockName, Values: obs.Blocks}
 	}

@@ -121,15 +121,15 @@ func (o *analyzeOptions) attachExtras(jobs []job, fl *workbook.Filled) error {
 				return usagef("--covariate %s: the plan has no such measurement (record it with allot layout --covariate %s)", name, name)
 			}
 			keep, x := options.AlignTo(obs, fl.Observations(kc))
-			if len(keep) < len(obs.Units) {
-				j.ModelNote = strings.TrimSpace(j.ModelNote + " " + fmt.Sprintf("%d unit(s) with no value of %s were left out of the analysis of covariance.", len(obs.Units)-len(keep), name))
+			if len(keep) < obs.Units.Len() {
+				j.ModelNote = strings.TrimSpace(j.ModelNote + " " + fmt.Sprintf("%d unit(s) with no value of %s were left out of the analysis of covariance.", obs.Units.Len()-len(keep), name))
 			}
 			j.Data, j.Covariate = options.Subset(j.Data, keep), x
 		}
 		r := p.Responses[k]
 		switch {
 		case r.Kind == design.KindProportion && r.Trials > 0:
-			j.Trials = make([]float64, len(j.Data.Values))
+			j.Trials = make([]float64, j.Data.Values.Len())
 			for t := range j.Trials {
 				j.Trials[t] = float64(r.Trials)
 			}
@@ -172,7 +172,7 @@ func (o *analyzeOptions) fixedTrials(j *job) error {
 	if n < 1 {
 		return usagef("--trials %d: must be 1 or more", n)
 	}
-	j.Trials = make([]float64, len(j.Data.Values))
+	j.Trials = make([]float64, j.Data.Values.Len())
 	for t := range j.Trials {
 		j.Trials[t] = float64(n)
 	}
@@ -201,7 +201,7 @@ func (o *analyzeOptions) attachPlainExtras(j *job, obs workbook.Observations) er
 		}
 		keep, vals := options.AlignTo(obs, x)
 		j.Data, j.Covariate = options.Subset(j.Data, keep), vals
-		obs.Units = pickStrings(obs.Units, keep)
+		obs.Units = obs.Units.Pick(keep)
 	}
 	if t := o.methods.Trials; t != "" {
 		if _, fixed := options.FixedTrials(t); fixed {

@@ -30,7 +30,7 @@ func analyzeStrata(s *streams, o *analyzeOptions, fl *workbook.Filled) error {
 		}
 		found = true
 		obs := fl.StrataObservations(k)
-		if len(obs.Values) == 0 {
+		if obs.Values.Len() == 0 {
 			return inputErr(fmt.Errorf("%s: response %q has no values yet; fill it in first", o.read.file, r))
 		}
 		a, err := report.RunStrata(p, r, obs, o.alpha)

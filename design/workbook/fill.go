@@ -6,6 +6,7 @@ import (
 	"io"
 	"strings"
 
+	"github.com/allotproject/allot/column"
 	"github.com/allotproject/allot/design"
 	"github.com/allotproject/allot/internal/atomicfile"
 
@@ -108,14 +109,14 @@ func Fill(src, dst string, values [][]float64, label string, force bool) error {
 // texts of the units that have a value, with their treatment levels, block,
 // unit IDs and cells.
 type Observations struct {
-	Values []string
+	Values column.Text
 	// Subsamples holds each observation's subsample values (decimal text)
-	// when the plan has subsamples; Values is then nil.
+	// when the plan has subsamples; Values is then empty.
 	Subsamples [][]string
-	Levels     [][]string // per factor, one level per observation
-	Blocks     []string   // block number as text, per observation (nil for CRD)
-	Units      []string
-	Cells      []string
+	Levels     []column.Text // per factor, one level per observation
+	Blocks     column.Text   // block label, per observation (empty for CRD)
+	Units      column.Text
+	Cells      column.Text // where each value is: "Entry!F7", "line 12"
 	// Losses lists the units the Status column marks lost or excluded, in
 	// layout order: they are not among the observations above.
 	Losses []Loss
@@ -143,7 +144,9 @@ func (fl *Filled) Observations(r int) Observations {
 	}
 	p := fl.Layout.Plan
 	tr := p.Treatments()
-	o := Observations{Levels: make([][]string, len(p.Factors))}
+	o := Observations{Levels: make([]column.Text, len(p.Factors))}
+	var values, blocks, units, cells []string
+	levels := make([][]string, len(p.Factors))
 	for i, u := range fl.Layout.Units {
 		v := fl.Values[r][i]
 		if i < len(fl.Status) && fl.Status[i].Dropped() {
@@ -168,16 +171,20 @@ func (fl *Filled) Observations(r int) Observations {
 			o.Subsamples = append(o.Subsamples, subs)
 			v.Cell = fl.Subs[r][i][0].Cell
 		} else {
-			o.Values = append(o.Values, v.Text)
+			values = append(values, v.Text)
 		}
 		for fi := range p.Factors {
-			o.Levels[fi] = append(o.Levels[fi], tr[u.Treatment].Levels[fi])
+			levels[fi] = append(levels[fi], tr[u.Treatment].Levels[fi])
 		}
 		if p.Design == design.RCBD {
-			o.Blocks = append(o.Blocks, p.BlockLabel(u.Block))
+			blocks = append(blocks, p.BlockLabel(u.Block))
 		}
-		o.Units = append(o.Units, u.ID)
-		o.Cells = append(o.Cells, SheetEntry+"!"+v.Cell)
+		units = append(units, u.ID)
+		cells = append(cells, SheetEntry+"!"+v.Cell)
+	}
+	o.Values, o.Blocks, o.Units, o.Cells = column.Of(values), column.Code(blocks), column.Of(units), column.Of(cells)
+	for fi, l := range levels {
+		o.Levels[fi] = column.Code(l)
 	}
 	return o
 }

@@ -35,8 +35,8 @@ func TestStatusHandedOn(t *testing.T) {
 		t.Errorf("status of unit 2: %+v", s)
 	}
 	obs := fl.Observations(0)
-	if len(obs.Values) != len(l.Units)-2 || len(obs.Losses) != 2 {
-		t.Fatalf("%d values, %d losses", len(obs.Values), len(obs.Losses))
+	if obs.Values.Len() != len(l.Units)-2 || len(obs.Losses) != 2 {
+		t.Fatalf("%d values, %d losses", obs.Values.Len(), len(obs.Losses))
 	}
 	ex := obs.Losses[1]
 	if ex.Unit != l.Units[2].ID || ex.Status != StatusExcluded || ex.Value != "20.25" || ex.Block != "1" || ex.Treatment != l.Label(l.Units[2]) {

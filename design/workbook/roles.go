@@ -5,10 +5,12 @@ import (
 	"errors"
 	"fmt"
 	"io"
+	"math"
 	"os"
-	"strconv"
+	"slices"
 	"strings"
 
+	"github.com/allotproject/allot/column"
 	"github.com/allotproject/allot/design"
 	"github.com/allotproject/allot/internal/decimal"
 )
@@ -80,35 +82,20 @@ func ReadRoles(r io.Reader, path string, roles Roles, decimalComma bool) (obs Ob
 			return obs, 0, err
 		}
 	}
-	obs.Levels = make([][]string, len(fi))
-	// Level names are interned (one string per distinct level); values,
-	// unit IDs and line labels are packed into shared chunks, so that rows
-	// cost no allocation of their own; messages are formatted only for an
-	// error.
-	intern := make([]map[string]string, len(fi)+1)
-	for k := range intern {
-		intern[k] = map[string]string{}
-	}
-	last := make([]string, len(fi)+1) // runs of one level need no look-up
-	name := func(k int, l []byte) string {
-		if string(l) == last[k] {
-			return last[k]
-		}
-		s, ok := intern[k][string(l)]
-		if !ok {
-			s = string(l)
-			intern[k][s] = s
-		}
-		last[k] = s
-		return s
-	}
-	values := textArena{out: &obs.Values}
-	cells := textArena{out: &obs.Cells}
-	units := textArena{out: &obs.Units}
-	var label, fixed []byte
+	// Level names and blocks are coded (each distinct name stored once);
+	// values and unit IDs are packed end to end; the line numbers are kept
+	// as numbers and formatted only when a message names one. Rows cost no
+	// allocation of their own, and messages are formatted only for an error.
+	levels := make([]column.Coder, len(fi))
+	var blocks column.Coder
+	var values, units column.Packer
+	var lines []uint32
+	var fixed []byte
 	rows := 0
+	pr := pipeRecords(rr)
+	defer pr.stop()
 	for {
-		rec, line, err := rr.read()
+		rec, line, err := pr.next()
 		if err == io.EOF {
 			break
 		}
@@ -120,7 +107,7 @@ func ReadRoles(r io.Reader, path string, roles Roles, decimalComma bool) (obs Ob
 		}
 		get := func(i int) []byte {
 			if i < len(rec) {
-				return bytes.TrimSpace(unescapeBytes(rec[i]))
+				return trimSpace(unescapeBytes(rec[i]))
 			}
 			return nil
 		}
@@ -151,98 +138,77 @@ func ReadRoles(r io.Reader, path string, roles Roles, decimalComma bool) (obs Ob
 			if len(l) == 0 {
 				return obs, 0, &design.CSVError{File: path, Line: line, Column: roles.Factors[k], Msg: "the factor level is empty"}
 			}
-			obs.Levels[k] = append(obs.Levels[k], name(k, l))
+			levels[k].Add(l)
 		}
 		if bi >= 0 {
 			b := get(bi)
 			if len(b) == 0 {
 				return obs, 0, &design.CSVError{File: path, Line: line, Column: roles.Block, Msg: "the block is empty"}
 			}
-			obs.Blocks = append(obs.Blocks, name(len(fi), b))
+			blocks.Add(b)
 		}
-		values.addBytes(v)
-		label = strconv.AppendInt(append(label[:0], "line "...), int64(line), 10)
-		cells.addBytes(label)
+		values.Add(v)
+		if line > math.MaxUint32 {
+			return obs, 0, &design.CSVError{File: path, Line: line, Msg: "more lines than allot reads from one table (4,294,967,295); split the file"}
+		}
+		lines = append(lines, uint32(line))
 		if ui >= 0 {
-			units.addBytes(get(ui))
+			units.Add(get(ui))
 		}
 		if rows++; rows == 1024 {
 			// Size the columns from the bytes per row so far and the file
 			// size, when the input is a file.
 			if st, ok := r.(interface{ Stat() (os.FileInfo, error) }); ok {
-				if info, err := st.Stat(); err == nil && rr.offset() > 0 {
-					est := int(info.Size()/rr.offset()*int64(rows)) * 21 / 20
-					obs.reserve(min(est, 1<<26), len(obs.Levels), bi >= 0, ui >= 0)
+				if info, err := st.Stat(); err == nil && pr.offset > 0 {
+					est := min(int(float64(info.Size())/float64(pr.offset)*float64(pr.records)*1.05), 1<<26) - rows
+					values.Grow(est, est*values.Bytes()/rows)
+					if ui >= 0 {
+						units.Grow(est, est*units.Bytes()/rows)
+					}
+					for k := range levels {
+						levels[k].Grow(est)
+					}
+					if bi >= 0 {
+						blocks.Grow(est)
+					}
+					lines = slices.Grow(lines, est)
 				}
 			}
 		}
 	}
-	values.flush()
-	cells.flush()
+	for _, p := range []*column.Packer{&values, &units} {
+		if err := p.Err(); err != nil {
+			return obs, 0, &design.CSVError{File: path, Msg: err.Error() + "; split the file"}
+		}
+	}
+	obs.Values = values.Text()
+	obs.Cells = column.Numbered("line ", slices.Clip(lines))
+	obs.Levels = make([]column.Text, len(fi))
+	for k := range levels {
+		obs.Levels[k] = levels[k].Text()
+	}
+	if bi >= 0 {
+		obs.Blocks = blocks.Text()
+	}
 	if ui >= 0 {
-		units.flush()
+		obs.Units = units.Text()
 	} else {
 		// Without a unit column the line label is the unit's name too.
 		obs.Units = obs.Cells
 	}
-	if len(obs.Values) == 0 {
+	if obs.Values.Len() == 0 {
 		return obs, missing, &design.CSVError{File: path, Column: roles.Response, Msg: "has no numbers to analyse"}
 	}
 	return obs, missing, nil
 }
 
-// reserve grows the columns' capacity to n rows.
-func (o *Observations) reserve(n, factors int, blocks, units bool) {
-	grow := func(s []string) []string {
-		if n > cap(s) {
-			return append(make([]string, 0, n), s...)
-		}
-		return s
+// trimSpace is bytes.TrimSpace, quicker for the usual field with no space
+// at either end.
+func trimSpace(b []byte) []byte {
+	if len(b) == 0 || b[0] > ' ' && b[0] < 0x80 && b[len(b)-1] > ' ' && b[len(b)-1] < 0x80 {
+		return b
 	}
-	o.Values, o.Cells = grow(o.Values), grow(o.Cells)
-	for k := 0; k < factors; k++ {
-		o.Levels[k] = grow(o.Levels[k])
-	}
-	if blocks {
-		o.Blocks = grow(o.Blocks)
-	}
-	if units {
-		o.Units = grow(o.Units)
-	}
-}
-
-// textArena appends strings to *out, storing their bytes in shared chunks
-// of about 1 MiB (one allocation a chunk instead of one a string); they
-// reach *out when their chunk is flushed.
-type textArena struct {
-	buf  []byte
-	ends []int
-	out  *[]string
-}
-
-func (a *textArena) addBytes(b []byte) {
-	a.buf = append(a.buf, b...)
-	a.push()
-}
-
-func (a *textArena) push() {
-	a.ends = append(a.ends, len(a.buf))
-	if len(a.buf) >= 1<<20 {
-		a.flush()
-	}
-}
-
-// flush appends the strings of the current chunk to *out.
-func (a *textArena) flush() {
-	chunk := string(a.buf)
-	start := 0
-	out := *a.out
-	for _, e := range a.ends {
-		out = append(out, chunk[start:e])
-		start = e
-	}
-	*a.out = out
-	a.buf, a.ends = a.buf[:0], a.ends[:0]
+	return bytes.TrimSpace(b)
 }
 
 // unescapeBytes is UnescapeCell on bytes.

@@ -14,7 +14,7 @@ import (
 // its number, and reads a response in the one decimal grammar.
 func TestReadRolesDialects(t *testing.T) {
 	roles := Roles{Response: "y", Factors: []string{"diet"}, Block: "rack"}
-	want := Observations{Values: []string{"1.5", "2"}, Levels: [][]string{{"a", "b"}}, Blocks: []string{"1", "2"}}
+	want := struct{ Values, Levels, Blocks []string }{[]string{"1.5", "2"}, []string{"a", "b"}, []string{"1", "2"}}
 	ok := []struct {
 		name, in string
 		comma    bool
@@ -38,7 +38,7 @@ func TestReadRolesDialects(t *testing.T) {
 		if tc.values != nil {
 			w = tc.values
 		}
-		if missing != 0 || !reflect.DeepEqual(obs.Values, w) || !reflect.DeepEqual(obs.Levels, want.Levels) || !reflect.DeepEqual(obs.Blocks, want.Blocks) {
+		if missing != 0 || !reflect.DeepEqual(obs.Values.Strings(), w) || len(obs.Levels) != 1 || !reflect.DeepEqual(obs.Levels[0].Strings(), want.Levels) || !reflect.DeepEqual(obs.Blocks.Strings(), want.Blocks) {
 			t.Errorf("%s: values %q levels %q blocks %q missing %d", tc.name, obs.Values, obs.Levels, obs.Blocks, missing)
 		}
 	}

@@ -4,6 +4,7 @@ import (
 	"strconv"
 	"strings"
 
+	"github.com/allotproject/allot/column"
 	"github.com/allotproject/allot/design"
 )
 
@@ -43,13 +44,14 @@ func (fl *Filled) StrataObservations(r int) StrataObservations {
 	}
 	o := StrataObservations{Observations: fl.Observations(r), Total: len(fl.Layout.Units)}
 	tr := p.Treatments()
+	var blocks []string
 	for i, u := range fl.Layout.Units {
 		if fl.Values[r][i].Missing {
 			continue
 		}
 		levels := tr[u.Treatment].Levels
 		if p.Blocks > 1 {
-			o.Blocks = append(o.Blocks, p.BlockLabel(u.Block))
+			blocks = append(blocks, p.BlockLabel(u.Block))
 		}
 		switch p.Design {
 		case design.SplitPlot:
@@ -62,6 +64,9 @@ func (fl *Filled) StrataObservations(r int) StrataObservations {
 			o.Squares = append(o.Squares, p.BlockLabel(u.Block))
 			o.Treatments = append(o.Treatments, tr[u.Treatment].Name)
 		}
+	}
+	if p.Blocks > 1 {
+		o.Blocks = column.Code(blocks)
 	}
 	return o
 }

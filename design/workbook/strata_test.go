@@ -81,7 +81,7 @@ func TestSplitPlotWorkbook(t *testing.T) {
 		t.Errorf("problems %v", fl.Problems)
 	}
 	o := fl.StrataObservations(0)
-	if len(o.Values) != 12 || o.MainPlots[0] != "1" || o.MainPlots[11] != "4" || o.Blocks[11] != "2" || len(o.Whole) != 12 || o.Whole[0]+o.Sub[0] != strings.Replace(l.Plan.Treatments()[l.Units[0].Treatment].Name, " × ", "", 1) {
+	if o.Values.Len() != 12 || o.MainPlots[0] != "1" || o.MainPlots[11] != "4" || o.Blocks.At(11) != "2" || len(o.Whole) != 12 || o.Whole[0]+o.Sub[0] != strings.Replace(l.Plan.Treatments()[l.Units[0].Treatment].Name, " × ", "", 1) {
 		t.Errorf("observations %+v", o)
 	}
 }

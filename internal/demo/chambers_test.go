@@ -2,6 +2,7 @@ package demo
 
 import (
 	"bytes"
+	"github.com/allotproject/allot/column"
 	"os"
 	"path/filepath"
 	"strings"
@@ -40,8 +41,8 @@ func TestChambersEndToEnd(t *testing.T) {
 		t.Fatalf("filled workbook: %v, %d errors, simulated %v", err, fl.Errors(), fl.Simulated())
 	}
 	o := fl.StrataObservations(0)
-	direct, err := analyze.SplitPlotANOVA(analyze.SplitPlot{Values: o.Values, Whole: analyze.Column{Name: "light", Values: o.Whole},
-		Sub: analyze.Column{Name: "variety", Values: o.Sub}, MainPlot: analyze.Column{Name: "chamber", Values: o.MainPlots}})
+	direct, err := analyze.SplitPlotANOVA(analyze.SplitPlot{Values: o.Values.Strings(), Whole: analyze.Column{Name: "light", Values: column.Of(o.Whole)},
+		Sub: analyze.Column{Name: "variety", Values: column.Of(o.Sub)}, MainPlot: analyze.Column{Name: "chamber", Values: column.Of(o.MainPlots)}})
 	if err != nil || direct.Terms[0].F != a.SplitPlot.Terms[0].F {
 		t.Errorf("direct analysis %v, F %v vs %v", err, direct, a.SplitPlot.Terms[0].F)
 	}

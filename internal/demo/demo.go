@@ -365,7 +365,7 @@ func (r *runner) analyse() error {
 	if len(ar.PostHoc) > 0 {
 		r.res.PostHoc = ar.PostHoc[0]
 	}
-	an := report.Analysis{Result: ar, Unit: "pot", BlockName: s.BlockName, Simulated: true, Missing: len(r.lay.Units) - len(obs.Values)}
+	an := report.Analysis{Result: ar, Unit: "pot", BlockName: s.BlockName, Simulated: true, Missing: len(r.lay.Units) - obs.Values.Len()}
 	if err := report.AnalysisText(out, an); err != nil {
 		return err
 	}

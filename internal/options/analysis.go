@@ -115,7 +115,7 @@ func WorkbookJobs(fl *workbook.Filled, file, response string) ([]Job, *design.Pl
 			continue // a baseline covariate or a trials column is not an outcome
 		}
 		obs := fl.Observations(k)
-		if len(obs.Values) == 0 && len(obs.Subsamples) == 0 {
+		if obs.Values.Len() == 0 && len(obs.Subsamples) == 0 {
 			return nil, nil, nil, fmt.Errorf("%s: response %q has no values yet; fill it in first", file, r)
 		}
 		var names [][]string
@@ -135,7 +135,7 @@ func WorkbookJobs(fl *workbook.Filled, file, response string) ([]Job, *design.Pl
 		if matchedBlocks(p) {
 			note = fmt.Sprintf("The %s were formed by matching units on a covariate measured before allocation (weight-matched blocks), so the %s term already adjusts for it; a baseline covariate given with --covariate is adjusted for within the blocks as well.", design.Plural(p.BlockName), p.BlockName)
 		}
-		out = append(out, Job{ModelNote: note, Data: d, Missing: len(fl.Layout.Units) - len(obs.Units), Control: p.Control, Unit: "unit", BlockName: p.BlockName, Simulated: fl.Simulated()})
+		out = append(out, Job{ModelNote: note, Data: d, Missing: len(fl.Layout.Units) - obs.Units.Len(), Control: p.Control, Unit: "unit", BlockName: p.BlockName, Simulated: fl.Simulated()})
 	}
 	if len(out) == 0 {
 		return nil, nil, nil, errorf("response", "--response %s: the plan has no such response (responses: %s)", response, strings.Join(fl.Responses, ", "))
@@ -203,7 +203,7 @@ func DataOf(response string, obs workbook.Observations, factors []string, levels
 		}
 		d.Factors = append(d.Factors, c)
 	}
-	if block != "" && obs.Blocks != nil {
+	if block != "" && obs.Blocks.Len() > 0 {
 		d.Block = &analyze.Column{Name: block, Values: obs.Blocks}
 	}
 	return d

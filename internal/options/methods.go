@@ -6,6 +6,7 @@ import (
 	"strings"
 
 	"github.com/allotproject/allot/analyze"
+	"github.com/allotproject/allot/column"
 	"github.com/allotproject/allot/design"
 	"github.com/allotproject/allot/design/workbook"
 )
@@ -74,14 +75,14 @@ func (m Methods) Choose(kind string) (method, family string) {
 // same line or unit (matched by unit ID), and the observations that have
 // one; main's others are left out by the caller.
 func AlignTo(main, extra workbook.Observations) (keep []int, values []string) {
-	at := make(map[string]string, len(extra.Units))
-	for i, u := range extra.Units {
-		if extra.Values != nil {
-			at[u] = extra.Values[i]
+	at := make(map[string]string, extra.Units.Len())
+	for i := range extra.Units.Len() {
+		if extra.Values.Len() > 0 {
+			at[extra.Units.At(i)] = extra.Values.At(i)
 		}
 	}
-	for i, u := range main.Units {
-		if v, ok := at[u]; ok {
+	for i := range main.Units.Len() {
+		if v, ok := at[main.Units.At(i)]; ok {
 			keep = append(keep, i)
 			values = append(values, v)
 		}
@@ -91,15 +92,11 @@ func AlignTo(main, extra workbook.Observations) (keep []int, values []string) {
 
 // Subset keeps observations idx of d (values, factors, block, units).
 func Subset(d analyze.Data, idx []int) analyze.Data {
-	pick := func(v []string) []string {
-		if v == nil {
-			return nil
+	pick := func(v column.Text) column.Text {
+		if v.Len() == 0 {
+			return v
 		}
-		out := make([]string, len(idx))
-		for k, i := range idx {
-			out[k] = v[i]
-		}
-		return out
+		return v.Pick(idx)
 	}
 	out := d
 	out.Values, out.Units, out.Where = pick(d.Values), pick(d.Units), pick(d.Where)

@@ -41,8 +41,8 @@ func TestCovariatePowerBySimulation(t *testing.T) {
 				z := r.NormFloat64()
 				y := means[g] + rho*z + math.Sqrt(1-rho*rho)*r.NormFloat64()
 				x = append(x, strconv.FormatFloat(z, 'g', -1, 64))
-				d.Values = append(d.Values, strconv.FormatFloat(y, 'g', -1, 64))
-				d.Factors[0].Values = append(d.Factors[0].Values, strconv.Itoa(g))
+				d.Values = d.Values.Append(strconv.FormatFloat(y, 'g', -1, 64))
+				d.Factors[0].Values = d.Factors[0].Values.Append(strconv.Itoa(g))
 			}
 		}
 		res, err := analyze.ANCOVATests(d, "x", x, analyze.Options{})

@@ -201,12 +201,12 @@ func (s GLMSpec) draw(base analyze.Data, blocks []float64, r *rand.Rand) (analyz
 			lost++
 			continue
 		}
-		d.Values = append(d.Values, strconv.FormatFloat(y, 'f', 0, 64))
+		d.Values = d.Values.Append(strconv.FormatFloat(y, 'f', 0, 64))
 		for fi := range d.Factors {
-			d.Factors[fi].Values = append(d.Factors[fi].Values, base.Factors[fi].Values[u])
+			d.Factors[fi].Values = d.Factors[fi].Values.Append(base.Factors[fi].Values.At(u))
 		}
 		if d.Block != nil {
-			d.Block.Values = append(d.Block.Values, base.Block.Values[u])
+			d.Block.Values = d.Block.Values.Append(base.Block.Values.At(u))
 		}
 		trials = append(trials, float64(s.Trials))
 	}

@@ -38,10 +38,10 @@ func TestLatinPowerBySimulation(t *testing.T) {
 					k := (i + j + q) % tt
 					y := p.Means[k] + re[i] + ce[j] + p.SD*r.NormFloat64()
 					d.Values = append(d.Values, strconv.FormatFloat(y, 'g', -1, 64))
-					d.Row.Values = append(d.Row.Values, strconv.Itoa(i))
-					d.Col.Values = append(d.Col.Values, strconv.Itoa(j))
-					d.Treatment.Values = append(d.Treatment.Values, strconv.Itoa(k))
-					d.Square.Values = append(d.Square.Values, strconv.Itoa(q))
+					d.Row.Values = d.Row.Values.Append(strconv.Itoa(i))
+					d.Col.Values = d.Col.Values.Append(strconv.Itoa(j))
+					d.Treatment.Values = d.Treatment.Values.Append(strconv.Itoa(k))
+					d.Square.Values = d.Square.Values.Append(strconv.Itoa(q))
 				}
 			}
 		}

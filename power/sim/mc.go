@@ -253,14 +253,14 @@ func designData(l design.Layout) analyze.Data {
 	for fi, f := range p.Factors {
 		c := analyze.Column{Name: f.Name, Levels: f.Levels}
 		for _, u := range l.Units {
-			c.Values = append(c.Values, tr[u.Treatment].Levels[fi])
+			c.Values = c.Values.Append(tr[u.Treatment].Levels[fi])
 		}
 		d.Factors = append(d.Factors, c)
 	}
 	if p.Design == design.RCBD {
 		b := analyze.Column{Name: p.BlockName}
 		for _, u := range l.Units {
-			b.Values = append(b.Values, strconv.Itoa(u.Block))
+			b.Values = b.Values.Append(strconv.Itoa(u.Block))
 		}
 		d.Block = &b
 		d.BlockInteraction = p.Generalised()

@@ -282,9 +282,9 @@ func TestLSDiffsMatchAnalysis(t *testing.T) {
 		}
 		sub := analyze.Data{Response: "y", Factors: []analyze.Column{{Name: "feed", Levels: d.Factors[0].Levels}}, Block: &analyze.Column{Name: "block"}}
 		for _, u := range keepIdx {
-			sub.Values = append(sub.Values, strconv.FormatFloat(w.y[u], 'g', -1, 64))
-			sub.Factors[0].Values = append(sub.Factors[0].Values, d.Factors[0].Values[u])
-			sub.Block.Values = append(sub.Block.Values, d.Block.Values[u])
+			sub.Values = sub.Values.Append(strconv.FormatFloat(w.y[u], 'g', -1, 64))
+			sub.Factors[0].Values = sub.Factors[0].Values.Append(d.Factors[0].Values.At(u))
+			sub.Block.Values = sub.Block.Values.Append(d.Block.Values.At(u))
 		}
 		tab, err := analyze.Fit(sub, analyze.Options{SSType: 3})
 		if err != nil {

@@ -65,10 +65,10 @@ func RunSplitPlot(ctx context.Context, s SplitPlotSpec) (Result, error) {
 						continue
 					}
 					d.Values = append(d.Values, strconv.FormatFloat(y, 'g', -1, 64))
-					d.Whole.Values = append(d.Whole.Values, strconv.Itoa(a))
-					d.Sub.Values = append(d.Sub.Values, strconv.Itoa(b))
-					d.MainPlot.Values = append(d.MainPlot.Values, strconv.Itoa(mp))
-					blk.Values = append(blk.Values, strconv.Itoa(rep))
+					d.Whole.Values = d.Whole.Values.Append(strconv.Itoa(a))
+					d.Sub.Values = d.Sub.Values.Append(strconv.Itoa(b))
+					d.MainPlot.Values = d.MainPlot.Values.Append(strconv.Itoa(mp))
+					blk.Values = blk.Values.Append(strconv.Itoa(rep))
 				}
 			}
 		}

@@ -1,0 +1,347 @@
+// Package column holds a column of text compactly, as the readers hand it
+// to the analysis: a million observations of one factor, their unit IDs or
+// their decimal values cost a few bytes each rather than a string header
+// (16 bytes) and a separate allocation each.
+//
+// A Text is one of four forms, all read the same way (Len, At):
+//
+//   - a plain []string (Of), for small columns and tests;
+//   - packed: every string end to end in one string, with the end offsets
+//     (Packer), for values and IDs that are mostly distinct;
+//   - coded: the distinct strings once, and a code per row (Coder), for
+//     factor levels and blocks;
+//   - numbered: a fixed prefix and a number per row (Numbered), for
+//     locations such as "line 12" that are formatted only when a message
+//     needs one.
+//
+// A Text is immutable once built and safe to share; the zero Text is an
+// empty column. The package is a leaf: it imports only the standard
+// library.
+package column
+
+import (
+	"fmt"
+	"math"
+	"strconv"
+	"unsafe"
+)
+
+// Text is a column of strings. See the package documentation for its forms.
+type Text struct {
+	plain  []string
+	data   string   // packed: the strings end to end
+	ends   []uint32 // packed: ends[i] is where string i ends in data
+	dict   []string // coded: the distinct strings, in order of first appearance
+	codes  []uint32 // coded: each row's index into dict
+	prefix string   // numbered
+	nums   []uint32 // numbered
+	kind   kind
+}
+
+type kind uint8
+
+const (
+	plain kind = iota
+	packed
+	coded
+	numbered
+)
+
+// Of wraps s (not copied: s must not change afterwards).
+func Of(s []string) Text { return Text{plain: s} }
+
+// Numbered is the column whose row i reads prefix followed by nums[i] in
+// decimal (nums is not copied).
+func Numbered(prefix string, nums []uint32) Text {
+	return Text{prefix: prefix, nums: nums, kind: numbered}
+}
+
+// Len is the number of rows.
+func (t Text) Len() int {
+	switch t.kind {
+	case packed:
+		return len(t.ends)
+	case coded:
+		return len(t.codes)
+	case numbered:
+		return len(t.nums)
+	}
+	return len(t.plain)
+}
+
+// At returns row i. It allocates only for a numbered column.
+func (t Text) At(i int) string {
+	switch t.kind {
+	case packed:
+		start := uint32(0)
+		if i > 0 {
+			start = t.ends[i-1]
+		}
+		return t.data[start:t.ends[i]]
+	case coded:
+		return t.dict[t.codes[i]]
+	case numbered:
+		return t.prefix + strconv.FormatUint(uint64(t.nums[i]), 10)
+	}
+	return t.plain[i]
+}
+
+// Strings returns the rows as a []string. For a column made by Of it is
+// the slice itself, which the caller must not change.
+func (t Text) Strings() []string {
+	if t.kind == plain {
+		return t.plain
+	}
+	out := make([]string, t.Len())
+	for i := range out {
+		out[i] = t.At(i)
+	}
+	return out
+}
+
+// Coded returns a coded column's distinct strings (in order of first
+// appearance) and each row's index into them; ok is false for the other
+// forms. Neither slice may be changed.
+func (t Text) Coded() (dict []string, codes []uint32, ok bool) {
+	if t.kind != coded {
+		return nil, nil, false
+	}
+	return t.dict, t.codes, true
+}
+
+// Pick returns the rows idx, in that order, in the same form.
+func (t Text) Pick(idx []int) Text {
+	switch t.kind {
+	case coded:
+		c := make([]uint32, len(idx))
+		for j, i := range idx {
+			c[j] = t.codes[i]
+		}
+		return Text{dict: t.dict, codes: c, kind: coded}
+	case numbered:
+		n := make([]uint32, len(idx))
+		for j, i := range idx {
+			n[j] = t.nums[i]
+		}
+		return Numbered(t.prefix, n)
+	case packed:
+		var p Packer
+		for _, i := range idx {
+			p.AddString(t.At(i))
+		}
+		return p.Text()
+	}
+	s := make([]string, len(idx))
+	for j, i := range idx {
+		s[j] = t.plain[i]
+	}
+	return Of(s)
+}
+
+// String describes the column for debugging (form and length).
+func (t Text) String() string {
+	return fmt.Sprintf("column.Text(%d rows, form %d)", t.Len(), t.kind)
+}
+
+// MaxBytes is the most text a packed column holds (its offsets are 32-bit).
+const MaxBytes = math.MaxUint32
+
+// Packer builds a packed column. The zero Packer is ready to use.
+type Packer struct {
+	buf  []byte
+	ends []uint32
+	err  error
+}
+
+// Grow makes room for n more rows holding about size bytes in all.
+func (p *Packer) Grow(n, size int) {
+	if n > 0 {
+		p.ends = growTo(p.ends, len(p.ends)+n)
+		if need := len(p.buf) + size; need > cap(p.buf) {
+			b := make([]byte, len(p.buf), need)
+			copy(b, p.buf)
+			p.buf = b
+		}
+	}
+}
+
+// Add appends one row.
+func (p *Packer) Add(b []byte) {
+	if len(p.buf)+len(b) > MaxBytes {
+		p.err = fmt.Errorf("more than %d bytes of text in one column", uint64(MaxBytes))
+		return
+	}
+	p.buf = append(p.buf, b...)
+	p.ends = append(p.ends, uint32(len(p.buf)))
+}
+
+// AddString appends one row.
+func (p *Packer) AddString(s string) {
+	if len(p.buf)+len(s) > MaxBytes {
+		p.err = fmt.Errorf("more than %d bytes of text in one column", uint64(MaxBytes))
+		return
+	}
+	p.buf = append(p.buf, s...)
+	p.ends = append(p.ends, uint32(len(p.buf)))
+}
+
+// Len is the number of rows added.
+func (p *Packer) Len() int { return len(p.ends) }
+
+// Bytes is the number of bytes of text added.
+func (p *Packer) Bytes() int { return len(p.buf) }
+
+// Err reports a column too large to pack; the rows past the limit were not
+// added.
+func (p *Packer) Err() error { return p.err }
+
+// Text returns the column and resets the Packer. The bytes are handed over,
+// not copied (the Packer lets go of them).
+func (p *Packer) Text() Text {
+	var data string
+	switch {
+	case len(p.buf) == 0:
+	case cap(p.buf)-len(p.buf) > len(p.buf)/8:
+		data = string(p.buf) // a copy, to let go of the spare capacity
+	default:
+		data = unsafe.String(unsafe.SliceData(p.buf), len(p.buf))
+	}
+	t := Text{data: data, ends: trim(p.ends), kind: packed}
+	*p = Packer{}
+	return t
+}
+
+// Coder builds a coded column: each distinct string is stored once. The
+// zero Coder is ready to use.
+type Coder struct {
+	dict  []string
+	index map[string]uint32
+	codes []uint32
+	last  uint32 // code of the previous row: runs of one string need no look-up
+}
+
+// Grow makes room for n more rows.
+func (c *Coder) Grow(n int) { c.codes = growTo(c.codes, len(c.codes)+n) }
+
+// Add appends one row and returns its code.
+func (c *Coder) Add(b []byte) uint32 {
+	if len(c.codes) > 0 && c.dict[c.last] == string(b) {
+		c.codes = append(c.codes, c.last)
+		return c.last
+	}
+	code, ok := c.find(b)
+	if !ok {
+		code = c.intern(string(b))
+	}
+	c.last = code
+	c.codes = append(c.codes, code)
+	return code
+}
+
+// find looks b up: by comparing with each string while there are few
+// (faster than hashing for the handful of levels a factor has), else in
+// the index.
+func (c *Coder) find(b []byte) (uint32, bool) {
+	if len(c.dict) <= 8 {
+		for k, s := range c.dict {
+			if s == string(b) {
+				return uint32(k), true
+			}
+		}
+		return 0, false
+	}
+	code, ok := c.index[string(b)]
+	return code, ok
+}
+
+// AddString appends one row and returns its code.
+func (c *Coder) AddString(s string) uint32 {
+	if len(c.codes) > 0 && c.dict[c.last] == s {
+		c.codes = append(c.codes, c.last)
+		return c.last
+	}
+	code, ok := c.find(unsafe.Slice(unsafe.StringData(s), len(s)))
+	if !ok {
+		code = c.intern(s)
+	}
+	c.last = code
+	c.codes = append(c.codes, code)
+	return code
+}
+
+func (c *Coder) intern(s string) uint32 {
+	if c.index == nil {
+		c.index = map[string]uint32{}
+	}
+	code := uint32(len(c.dict))
+	c.dict = append(c.dict, s)
+	c.index[s] = code
+	return code
+}
+
+// Len is the number of rows added.
+func (c *Coder) Len() int { return len(c.codes) }
+
+// Distinct is the number of distinct strings so far.
+func (c *Coder) Distinct() int { return len(c.dict) }
+
+// Text returns the column and resets the Coder.
+func (c *Coder) Text() Text {
+	t := Text{dict: c.dict, codes: trim(c.codes), kind: coded}
+	*c = Coder{}
+	return t
+}
+
+// Code returns the column of s, coded.
+func Code(s []string) Text {
+	var c Coder
+	c.Grow(len(s))
+	for _, v := range s {
+		c.AddString(v)
+	}
+	return c.Text()
+}
+
+func growTo[E any](s []E, n int) []E {
+	if n > cap(s) {
+		out := make([]E, len(s), n)
+		copy(out, s)
+		return out
+	}
+	return s
+}
+
+// trim returns s without much spare capacity.
+func trim(s []uint32) []uint32 {
+	if cap(s)-len(s) > len(s)/8 {
+		return append([]uint32(nil), s...)
+	}
+	return s
+}
+
+// Append returns the column with s added, as the built-in append does for a
+// slice (the result may share storage with t). The result is a plain
+// column; Append suits building small columns row by row.
+func (t Text) Append(s ...string) Text {
+	if t.kind != plain {
+		t = Of(t.Strings())
+	}
+	return Of(append(t.plain, s...))
+}
+
+// Slice returns rows i to j−1, in the same form, sharing storage with t.
+func (t Text) Slice(i, j int) Text {
+	switch t.kind {
+	case coded:
+		return Text{dict: t.dict, codes: t.codes[i:j:j], kind: coded}
+	case numbered:
+		return Numbered(t.prefix, t.nums[i:j:j])
+	case packed:
+		idx := make([]int, j-i)
+		for k := range idx {
+			idx[k] = i + k
+		}
+		return t.Pick(idx)
+	}
+	return Of(t.plain[i:j:j])
+}
