@@ -74,11 +74,13 @@ type Table struct {
 	CV        float64  `json:"cv_percent"`
 	// RelEfficiency is the efficiency of the block design relative to a
 	// completely randomised one on the same units (0 without blocks).
-	RelEfficiency float64   `json:"relative_efficiency,omitempty"`
-	Residuals     []float64 `json:"-"`
-	Fitted        []float64 `json:"-"`
-	// Leverage holds the diagonal of the hat matrix, h_ii.
-	Leverage []float64 `json:"-"`
+	RelEfficiency float64 `json:"relative_efficiency,omitempty"`
+	// The residuals, fitted values and leverages (h_ii, the diagonal of
+	// the hat matrix) are given per observation by ResidualAt, FittedAt and
+	// LeverageAt: every observation of a cell of the design has the same
+	// fitted value and leverage, so they are kept per cell, and a million
+	// observations cost no arrays of their own.
+	cellRes, cellLev []float64
 	// ExactFit is set when the residual SS is exactly zero: every
 	// observation equals its fitted value, and no F can be formed.
 	ExactFit bool `json:"exact_fit,omitempty"`
@@ -522,22 +524,10 @@ func fit(d Data, opt Options, absorb int) (*Table, error) {
 	t.ResidSD = m.scale * math.Sqrt(t.Residual.MS)
 	t.GrandMean = m.shift + m.scale*(shiftedMean(m.y, 0, nil))
 	t.CV = 100 * t.ResidSD / math.Abs(t.GrandMean)
-	cellRes := full.cellResiduals(cs)
-	cellLev := full.cellLeverage(m, cs)
+	t.cellRes = full.cellResiduals(cs)
+	t.cellLev = full.cellLeverage(m, cs)
 	if t.ExactFit {
-		clear(cellRes)
-	}
-	t.Residuals = make([]float64, n)
-	t.Fitted = make([]float64, n)
-	t.Leverage = make([]float64, n)
-	for i, c := range cs.of {
-		e := m.y[i] - cs.mean[c] + cellRes[c]
-		if t.ExactFit {
-			e = 0
-		}
-		t.Residuals[i] = m.scale * e
-		t.Fitted[i] = m.shift + m.scale*(m.y[i]-e)
-		t.Leverage[i] = cellLev[c]
+		clear(t.cellRes)
 	}
 	t.est = full.estimates(m)
 	t.m, t.cells = m, cs
@@ -546,6 +536,26 @@ func fit(d Data, opt Options, absorb int) (*Table, error) {
 	}
 	return t, nil
 }
+
+// resid is the residual of observation i in the scaled units of m.y.
+func (t *Table) resid(i int) float64 {
+	if t.ExactFit {
+		return 0
+	}
+	c := t.cells.of[i]
+	return t.m.y[i] - t.cells.mean[c] + t.cellRes[c]
+}
+
+// ResidualAt returns the residual of observation i (in the order of
+// Data.Values). Like FittedAt and LeverageAt it is defined for a table that
+// Fit returned, and i must be below N.
+func (t *Table) ResidualAt(i int) float64 { return t.m.scale * t.resid(i) }
+
+// FittedAt returns the fitted value of observation i.
+func (t *Table) FittedAt(i int) float64 { return t.m.shift + t.m.scale*(t.m.y[i]-t.resid(i)) }
+
+// LeverageAt returns the leverage h_ii of observation i.
+func (t *Table) LeverageAt(i int) float64 { return t.cellLev[t.cells.of[i]] }
 
 // ssOrder returns the terms in the order whose last term's sum of squares
 // is term k's of the given type: the terms before it (Type I), every term

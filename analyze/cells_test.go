@@ -86,9 +86,9 @@ func TestAbsorbedBlocks(t *testing.T) {
 				if a, b := abs.Residual.SS, coded.Residual.SS; !close(a, b) || abs.Residual.DF != coded.Residual.DF {
 					t.Errorf("residual SS %.12g, %.12g", a, b)
 				}
-				for i := range coded.Residuals {
-					if !close(abs.Residuals[i], coded.Residuals[i]) || !close(abs.Leverage[i], coded.Leverage[i]) {
-						t.Fatalf("unit %d: residual %g, %g; leverage %g, %g", i, abs.Residuals[i], coded.Residuals[i], abs.Leverage[i], coded.Leverage[i])
+				for i := range coded.N {
+					if !close(abs.ResidualAt(i), coded.ResidualAt(i)) || !close(abs.LeverageAt(i), coded.LeverageAt(i)) {
+						t.Fatalf("unit %d: residual %g, %g; leverage %g, %g", i, abs.ResidualAt(i), coded.ResidualAt(i), abs.LeverageAt(i), coded.LeverageAt(i))
 					}
 				}
 				for fi := range d.Factors {

@@ -126,13 +126,13 @@ func TestAgainstStatsmodels(t *testing.T) {
 					if c.Leverage[i] > 1-1e-9 {
 						// A unit alone in its cell: its residual is 0/0;
 						// statsmodels prints rounding noise, allot NaN.
-						if !math.IsNaN(res.Assumptions.Stud[i]) {
-							t.Errorf("obs %d with leverage 1: studentized %g, want NaN", i, res.Assumptions.Stud[i])
+						if !math.IsNaN(res.Assumptions.StudAt(i)) {
+							t.Errorf("obs %d with leverage 1: studentized %g, want NaN", i, res.Assumptions.StudAt(i))
 						}
 						continue
 					}
-					if !near(tab.Leverage[i], c.Leverage[i], 1e-9, 1e-12) || !near(res.Assumptions.Stud[i], want, 1e-9, 1e-12) || !near(res.Assumptions.Deleted[i], c.Deleted[i], 1e-8, 1e-12) {
-						t.Errorf("obs %d: leverage %.12g studentized %.12g; statsmodels %.12g %.12g", i, tab.Leverage[i], res.Assumptions.Stud[i], c.Leverage[i], want)
+					if !near(tab.LeverageAt(i), c.Leverage[i], 1e-9, 1e-12) || !near(res.Assumptions.StudAt(i), want, 1e-9, 1e-12) || !near(res.Assumptions.DeletedAt(i), c.Deleted[i], 1e-8, 1e-12) {
+						t.Errorf("obs %d: leverage %.12g studentized %.12g; statsmodels %.12g %.12g", i, tab.LeverageAt(i), res.Assumptions.StudAt(i), c.Leverage[i], want)
 						break
 					}
 				}

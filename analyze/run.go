@@ -21,24 +21,19 @@ type Outlier struct {
 
 // Assumptions collects the checks of the model's assumptions.
 type Assumptions struct {
-	ShapiroW  float64   `json:"shapiro_w"`
-	ShapiroP  float64   `json:"shapiro_p"`
-	Levene    float64   `json:"brown_forsythe_f"`
-	LeveneDF  [2]int    `json:"brown_forsythe_df"`
-	LeveneP   float64   `json:"brown_forsythe_p"`
-	SDRatio   float64   `json:"sd_ratio"`
-	Outliers  []Outlier `json:"outliers"`
-	Verdicts  []string  `json:"verdicts"`
-	NormalOK  bool      `json:"-"`
-	LeveneOK  bool      `json:"-"`
-	Residuals []float64 `json:"-"`
-	Fitted    []float64 `json:"-"`
-	// Stud holds the internally studentized residuals e/(s·sqrt(1−h)),
-	// Deleted the externally studentized ones (each unit left out of s),
-	// which are not bounded by sqrt(n−p) and so can flag a typing slip in
-	// a small trial.
-	Stud    []float64 `json:"-"`
-	Deleted []float64 `json:"-"`
+	ShapiroW float64   `json:"shapiro_w"`
+	ShapiroP float64   `json:"shapiro_p"`
+	Levene   float64   `json:"brown_forsythe_f"`
+	LeveneDF [2]int    `json:"brown_forsythe_df"`
+	LeveneP  float64   `json:"brown_forsythe_p"`
+	SDRatio  float64   `json:"sd_ratio"`
+	Outliers []Outlier `json:"outliers"`
+	Verdicts []string  `json:"verdicts"`
+	NormalOK bool      `json:"-"`
+	LeveneOK bool      `json:"-"`
+	// t gives the residuals, fitted values and studentized residuals of
+	// each observation (Len, ResidualAt, FittedAt, StudAt, DeletedAt).
+	t *Table
 	// Basis says what the normality and variance checks were run on, and
 	// LeveneName which test of equal variances ran.
 	Basis      string `json:"basis"`
@@ -600,6 +595,54 @@ func factorIndex(d Data, name string) int {
 	return -1
 }
 
+// studentized returns the internally and externally studentized residuals
+// of observation i, whose residual is e (NaN where h_ii = 1 or there is no
+// residual variance; see checkAssumptions).
+func studentized(t *Table, i int, e float64) (stud, deleted float64) {
+	stud, deleted = math.NaN(), math.NaN()
+	if h := t.LeverageAt(i); h < 1-1e-10 && t.ResidSD > 0 {
+		stud = e / (t.ResidSD * math.Sqrt(1-h))
+	}
+	if nu := float64(t.Residual.DF); nu > 1 && !math.IsNaN(stud) {
+		if den := nu - stud*stud; den > 1e-12 {
+			deleted = stud * math.Sqrt((nu-1)/den)
+		} else {
+			deleted = math.Copysign(math.Inf(1), stud)
+		}
+	}
+	return stud, deleted
+}
+
+// Len is the number of observations whose residuals were checked (0 when
+// the checks did not run).
+func (a Assumptions) Len() int {
+	if a.t == nil {
+		return 0
+	}
+	return a.t.N
+}
+
+// ResidualAt returns the residual of observation i (i below Len).
+func (a Assumptions) ResidualAt(i int) float64 { return a.t.ResidualAt(i) }
+
+// FittedAt returns the fitted value of observation i.
+func (a Assumptions) FittedAt(i int) float64 { return a.t.FittedAt(i) }
+
+// StudAt returns the internally studentized residual e/(s·sqrt(1−h)) of
+// observation i, NaN where h = 1.
+func (a Assumptions) StudAt(i int) float64 {
+	s, _ := studentized(a.t, i, a.t.ResidualAt(i))
+	return s
+}
+
+// DeletedAt returns the externally studentized residual of observation i
+// (the unit left out of s), which is not bounded by sqrt(n−p) and so can
+// flag a typing slip in a small trial.
+func (a Assumptions) DeletedAt(i int) float64 {
+	_, d := studentized(a.t, i, a.t.ResidualAt(i))
+	return d
+}
+
 // checkAssumptions runs the residual checks that fit the design.
 //
 // Studentized residuals: internally r_i = e_i/(s·sqrt(1 − h_ii)), and
@@ -622,25 +665,11 @@ func factorIndex(d Data, name string) int {
 // by simulation in the tests (within 3 SE of α for CRD, RCBD and
 // generalised blocks).
 func checkAssumptions(d Data, t *Table) Assumptions {
-	a := Assumptions{Residuals: t.Residuals, Fitted: t.Fitted}
-	a.Stud = make([]float64, len(t.Residuals))
-	a.Deleted = make([]float64, len(t.Residuals))
-	nu := float64(t.Residual.DF)
-	for i, e := range t.Residuals {
-		h := t.Leverage[i]
-		a.Stud[i], a.Deleted[i] = math.NaN(), math.NaN()
-		if h < 1-1e-10 && t.ResidSD > 0 {
-			a.Stud[i] = e / (t.ResidSD * math.Sqrt(1-h))
-		}
-		if r := a.Stud[i]; nu > 1 && !math.IsNaN(r) {
-			if den := nu - r*r; den > 1e-12 {
-				a.Deleted[i] = r * math.Sqrt((nu-1)/den)
-			} else {
-				a.Deleted[i] = math.Copysign(math.Inf(1), r)
-			}
-		}
-		if math.Abs(a.Deleted[i]) > 3 {
-			o := Outlier{Value: d.Values.At(i), Residual: e, Studentized: a.Deleted[i]}
+	a := Assumptions{t: t}
+	for i := range t.N {
+		e := t.ResidualAt(i)
+		if _, del := studentized(t, i, e); math.Abs(del) > 3 {
+			o := Outlier{Value: d.Values.At(i), Residual: e, Studentized: del}
 			if d.Units.Len() > 0 {
 				o.Unit = d.Units.At(i)
 			}
@@ -659,7 +688,7 @@ func checkAssumptions(d Data, t *Table) Assumptions {
 	// from the cell statistics); byKey lists them in order of first
 	// appearance, each with its observations (idx nil: all of them).
 	trtKey := func(i int) int { return int(cs.treat[cs.of[i]]) }
-	n := len(t.Residuals)
+	n := t.N
 	byKey := func(idx []int32, key func(int) int, nk int) ([]int, [][]int32) {
 		// A counting sort into one array: keys in order of first
 		// appearance, each key's observations in their order.
@@ -720,7 +749,7 @@ func checkAssumptions(d Data, t *Table) Assumptions {
 		for _, tk := range trtOrder {
 			start := len(normal)
 			for _, k := range cellsOf[tk] {
-				normal = appendHelmert(normal, t.Residuals, cells[k])
+				normal = appendHelmertAt(normal, t.ResidualAt, cells[k])
 			}
 			groups = append(groups, normal[start:len(normal):len(normal)])
 		}
@@ -747,7 +776,7 @@ func checkAssumptions(d Data, t *Table) Assumptions {
 			row := make([]float64, len(blocks))
 			idx := make([]int, len(blocks))
 			for _, i := range byT[k] {
-				row[pos[blockOf(int(i))]] = t.Residuals[i]
+				row[pos[blockOf(int(i))]] = t.ResidualAt(int(i))
 			}
 			for j := range idx {
 				idx[j] = j
@@ -772,7 +801,7 @@ func checkAssumptions(d Data, t *Table) Assumptions {
 		a.Basis = "residuals (an incomplete block design: the checks are approximate and tend to be conservative)"
 		var usable []int32
 		for i := range n {
-			if h := t.Leverage[i]; h < 1-1e-10 && t.ResidSD > 0 {
+			if h := t.LeverageAt(i); h < 1-1e-10 && t.ResidSD > 0 {
 				usable = append(usable, int32(i))
 			}
 		}
@@ -780,12 +809,12 @@ func checkAssumptions(d Data, t *Table) Assumptions {
 		for _, k := range trtOrder {
 			g := make([]float64, 0, len(byT[k]))
 			for _, i := range byT[k] {
-				g = append(g, t.Residuals[i])
+				g = append(g, t.ResidualAt(int(i)))
 			}
 			groups = append(groups, g)
 		}
 		for _, i := range usable {
-			normal = append(normal, t.Residuals[i])
+			normal = append(normal, t.ResidualAt(int(i)))
 		}
 	}
 	var ok bool
@@ -807,7 +836,7 @@ func checkAssumptions(d Data, t *Table) Assumptions {
 		a.Levene, df1, df2, a.LeveneP, a.LeveneOK = leveneAbout0(groups)
 		a.LeveneName = "Levene (absolute contrasts)"
 		switch {
-		case rcbd && a.LeveneOK && len(t.Residuals) > mcLeveneUnits:
+		case rcbd && a.LeveneOK && t.N > mcLeveneUnits:
 			// The simulation costs 1999 draws of the whole table; beyond
 			// mcLeveneUnits units the F reference stands, conservative.
 			a.LeveneName = "Levene (absolute contrasts, F reference: conservative here, as contrasts of different treatments are correlated; too many units for the Monte-Carlo p)"
@@ -965,6 +994,21 @@ func saturated(d Data) bool {
 // helmert returns the Helmert contrasts of the values at idx.
 func helmert[I int | int32](e []float64, idx []I) []float64 {
 	return appendHelmert(make([]float64, 0, max(len(idx)-1, 0)), e, idx)
+}
+
+// appendHelmertAt appends the Helmert contrasts of the values at(i), i in
+// idx, to out.
+func appendHelmertAt(out []float64, at func(int) float64, idx []int32) []float64 {
+	var sum float64
+	for j, i := range idx {
+		e := at(int(i))
+		if j > 0 {
+			jj := float64(j + 1)
+			out = append(out, (sum-float64(j)*e)/math.Sqrt(jj*(jj-1)))
+		}
+		sum += e
+	}
+	return out
 }
 
 // appendHelmert appends the Helmert contrasts of the values at idx to out.

@@ -222,9 +222,9 @@ func (l labelled) XY(i int) (float64, float64) { return l.xy[i].X, l.xy[i].Y }
 func (l labelled) Label(i int) string          { return l.labels[i] }
 
 func flaggedLabel(a Analysis, i int) string {
-	if s := a.Assumptions.Deleted[i]; !math.IsNaN(s) && math.Abs(s) > 3 {
+	if s := a.Assumptions.DeletedAt(i); !math.IsNaN(s) && math.Abs(s) > 3 {
 		for _, o := range a.Assumptions.Outliers {
-			if o.Residual == a.Assumptions.Residuals[i] {
+			if o.Residual == a.Assumptions.ResidualAt(i) {
 				if o.Unit != "" {
 					return " " + o.Unit
 				}
@@ -263,16 +263,16 @@ func ResidualFigures(a Analysis, unit string) ([]Figure, error) {
 	}
 	// Large data sets show every k-th point (and every flagged one), so that
 	// a report stays a few hundred kilobytes; the title says so.
-	step := max(1, (len(as.Residuals)+maxPoints-1)/maxPoints)
+	step := max(1, (as.Len()+maxPoints-1)/maxPoints)
 	title := "Residuals against fitted values"
 	if step > 1 {
-		title += fmt.Sprintf(" (every %d%s of %d points)", step, ordinal(step), len(as.Residuals))
+		title += fmt.Sprintf(" (every %d%s of %d points)", step, ordinal(step), as.Len())
 	}
 	p := newPlot(title, "fitted "+ru, "residual "+ru)
 	var xy plotter.XYs
 	var flagged labelled
-	for i, r := range as.Residuals {
-		pt := plotter.XY{X: as.Fitted[i], Y: r}
+	for i := range as.Len() {
+		pt := plotter.XY{X: as.FittedAt(i), Y: as.ResidualAt(i)}
 		l := flaggedLabel(a, i)
 		if i%step == 0 || l != "" {
 			xy = append(xy, pt)
@@ -313,8 +313,8 @@ func ResidualFigures(a Analysis, unit string) ([]Figure, error) {
 		i int
 	}
 	var ps []pair
-	for i, s := range as.Deleted {
-		if !math.IsNaN(s) && !math.IsInf(s, 0) {
+	for i := range as.Len() {
+		if s := as.DeletedAt(i); !math.IsNaN(s) && !math.IsInf(s, 0) {
 			ps = append(ps, pair{s, i})
 		}
 	}
