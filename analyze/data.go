@@ -198,9 +198,19 @@ func centre(values column.Text) (centring, error) {
 	es := make([]int16, n)
 	fast := true
 	floats := make([]float64, n)
+	digits, scale, isDecimal := values.Decimal()
 	for i := range n {
-		s := values.At(i)
-		d, ok := parseDecimal(s)
+		var s string
+		var d decimal
+		var ok bool
+		if isDecimal {
+			// Already parsed: digits·10^−scale, as parseDecimal reads the
+			// same text.
+			d, ok = decimal{m: digits[i], e: -int(scale[i])}, true
+		} else {
+			s = values.At(i)
+			d, ok = parseDecimal(s)
+		}
 		if ok && d.e >= -22 && d.e <= 22 && d.m <= 1<<53 && d.m >= -(1<<53) {
 			ms[i], es[i] = d.m, int16(d.e)
 			f := float64(d.m)
@@ -211,6 +221,9 @@ func centre(values column.Text) (centring, error) {
 			}
 			floats[i] = f
 			continue
+		}
+		if isDecimal {
+			s = values.At(i) // more than 2^53: the slow path reads the text
 		}
 		if ok && d.e >= math.MinInt16 && d.e <= math.MaxInt16 {
 			ms[i], es[i] = d.m, int16(d.e)

@@ -12,7 +12,10 @@
 //     factor levels and blocks;
 //   - numbered: a fixed prefix and a number per row (Numbered), for
 //     locations such as "line 12" that are formatted only when a message
-//     needs one.
+//     needs one;
+//   - decimal: numbers typed plainly in decimal, kept as their digits and
+//     the count of them after the point (Decimals), which read back as the
+//     same text.
 //
 // A Text is immutable once built and safe to share; the zero Text is an
 // empty column. The package is a leaf: it imports only the standard
@@ -35,6 +38,8 @@ type Text struct {
 	codes  []uint32 // coded: each row's index into dict
 	prefix string   // numbered
 	nums   []uint32 // numbered
+	digits []int64  // decimal: the digits, with the sign
+	scale  []uint8  // decimal: the digits after the point
 	kind   kind
 }
 
@@ -45,6 +50,7 @@ const (
 	packed
 	coded
 	numbered
+	decimal
 )
 
 // Of wraps s (not copied: s must not change afterwards).
@@ -65,13 +71,17 @@ func (t Text) Len() int {
 		return len(t.codes)
 	case numbered:
 		return len(t.nums)
+	case decimal:
+		return len(t.digits)
 	}
 	return len(t.plain)
 }
 
-// At returns row i. It allocates only for a numbered column.
+// At returns row i. It allocates only for a numbered or decimal column.
 func (t Text) At(i int) string {
 	switch t.kind {
+	case decimal:
+		return string(formatDecimal(nil, t.digits[i], t.scale[i]))
 	case packed:
 		start := uint32(0)
 		if i > 0 {
@@ -124,6 +134,12 @@ func (t Text) Pick(idx []int) Text {
 			n[j] = t.nums[i]
 		}
 		return Numbered(t.prefix, n)
+	case decimal:
+		d, sc := make([]int64, len(idx)), make([]uint8, len(idx))
+		for j, i := range idx {
+			d[j], sc[j] = t.digits[i], t.scale[i]
+		}
+		return Text{digits: d, scale: sc, kind: decimal}
 	case packed:
 		var p Packer
 		for _, i := range idx {
@@ -336,6 +352,8 @@ func (t Text) Slice(i, j int) Text {
 		return Text{dict: t.dict, codes: t.codes[i:j:j], kind: coded}
 	case numbered:
 		return Numbered(t.prefix, t.nums[i:j:j])
+	case decimal:
+		return Text{digits: t.digits[i:j:j], scale: t.scale[i:j:j], kind: decimal}
 	case packed:
 		idx := make([]int, j-i)
 		for k := range idx {
@@ -344,4 +362,134 @@ func (t Text) Slice(i, j int) Text {
 		return t.Pick(idx)
 	}
 	return Of(t.plain[i:j:j])
+}
+
+// Decimal returns a decimal column's numbers, row i being
+// digits[i]·10^−scale[i] exactly; ok is false for the other forms. Neither
+// slice may be changed.
+func (t Text) Decimal() (digits []int64, scale []uint8, ok bool) {
+	if t.kind != decimal {
+		return nil, nil, false
+	}
+	return t.digits, t.scale, true
+}
+
+// Decimals builds a column of numbers typed in decimal. A text written
+// plainly — an optional minus, then digits with no leading zero (a lone 0
+// before the point is fine), then optionally a point and at least one
+// digit; at most 18 digits in all and not a negative zero — is stored as
+// its digits and the count of them after the point, 9 bytes a row, and
+// reads back as the same text. The first text written otherwise turns the
+// column into a packed one. The zero Decimals is ready to use.
+type Decimals struct {
+	digits []int64
+	scale  []uint8
+	p      Packer
+	packed bool
+}
+
+// Grow makes room for n more rows holding about size bytes of text.
+func (d *Decimals) Grow(n, size int) {
+	if d.packed {
+		d.p.Grow(n, size)
+		return
+	}
+	d.digits, d.scale = growTo(d.digits, len(d.digits)+n), growTo(d.scale, len(d.scale)+n)
+}
+
+// Add appends one row.
+func (d *Decimals) Add(b []byte) {
+	if !d.packed {
+		if m, sc, ok := plainDecimal(b); ok {
+			d.digits, d.scale = append(d.digits, m), append(d.scale, sc)
+			return
+		}
+		// Pack what is there, and the rest as it comes.
+		d.packed = true
+		d.p.Grow(len(d.digits)+1, 8*(len(d.digits)+1))
+		var buf []byte
+		for i, m := range d.digits {
+			buf = formatDecimal(buf[:0], m, d.scale[i])
+			d.p.Add(buf)
+		}
+		d.digits, d.scale = nil, nil
+	}
+	d.p.Add(b)
+}
+
+// Err reports a packed column too large (see Packer.Err).
+func (d *Decimals) Err() error { return d.p.Err() }
+
+// Text returns the column and resets the builder.
+func (d *Decimals) Text() Text {
+	var t Text
+	if d.packed {
+		t = d.p.Text()
+	} else if len(d.digits) > 0 {
+		t = Text{digits: d.digits, scale: d.scale, kind: decimal}
+	}
+	*d = Decimals{}
+	return t
+}
+
+// plainDecimal parses b when it is written plainly (see Decimals).
+func plainDecimal(b []byte) (m int64, scale uint8, ok bool) {
+	i, neg := 0, false
+	if len(b) > 0 && b[0] == '-' {
+		neg, i = true, 1
+	}
+	start, n := i, 0
+	for ; i < len(b) && b[i] >= '0' && b[i] <= '9'; i++ {
+		m = m*10 + int64(b[i]-'0')
+		if n++; n > 18 {
+			return 0, 0, false
+		}
+	}
+	if i == start || b[start] == '0' && i-start > 1 {
+		return 0, 0, false // no digit before the point, or a leading zero
+	}
+	if i < len(b) {
+		if b[i] != '.' || i+1 == len(b) {
+			return 0, 0, false
+		}
+		for i++; i < len(b); i++ {
+			c := b[i]
+			if c < '0' || c > '9' {
+				return 0, 0, false
+			}
+			m = m*10 + int64(c-'0')
+			scale++
+			if n++; n > 18 {
+				return 0, 0, false
+			}
+		}
+	}
+	if neg {
+		if m == 0 {
+			return 0, 0, false // -0 would read back as 0
+		}
+		m = -m
+	}
+	return m, scale, true
+}
+
+// formatDecimal appends m·10^−scale as plainDecimal reads it.
+func formatDecimal(dst []byte, m int64, scale uint8) []byte {
+	u := uint64(m)
+	if m < 0 {
+		dst = append(dst, '-')
+		u = uint64(-m)
+	}
+	var buf [24]byte
+	d := strconv.AppendUint(buf[:0], u, 10)
+	for len(d) <= int(scale) {
+		d = append([]byte{'0'}, d...)
+	}
+	point := len(d) - int(scale)
+	dst = append(dst, d[:point]...)
+	if scale > 0 {
+		dst = append(dst, '.')
+		dst = append(dst, d[point:]...)
+	}
+	return dst
 }

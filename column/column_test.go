@@ -101,3 +101,40 @@ func TestAppendSlice(t *testing.T) {
 		t.Errorf("zero Append: %q", got)
 	}
 }
+
+// A decimal column reads back every text exactly; the first text not
+// written plainly turns it into a packed column, with the earlier rows
+// unchanged.
+func TestDecimals(t *testing.T) {
+	plain := []string{"0", "7", "-7", "100.59", "0.0001", "-0.5", "1.50", "0.00", "999999999999999999", "-12.000"}
+	var d Decimals
+	for _, s := range plain {
+		d.Add([]byte(s))
+	}
+	tx := d.Text()
+	if _, _, ok := tx.Decimal(); !ok {
+		t.Fatal("plain decimals were not stored as numbers")
+	}
+	if got := tx.Strings(); !reflect.DeepEqual(got, plain) {
+		t.Errorf("decimal column reads %q, want %q", got, plain)
+	}
+	if m, sc, _ := tx.Decimal(); m[3] != 10059 || sc[3] != 2 || m[5] != -5 || sc[5] != 1 {
+		t.Errorf("100.59 and -0.5 stored as %d/%d and %d/%d", m[3], sc[3], m[5], sc[5])
+	}
+	if got := tx.Pick([]int{3, 0}).Strings(); !reflect.DeepEqual(got, []string{"100.59", "0"}) {
+		t.Errorf("Pick: %q", got)
+	}
+	for _, odd := range []string{"+1", "01", ".5", "5.", "-0", "-0.0", "1e3", "1234567890123456789", " 1", "1,5", ""} {
+		var d Decimals
+		d.Add([]byte("2.5"))
+		d.Add([]byte(odd))
+		d.Add([]byte("3"))
+		tx := d.Text()
+		if _, _, ok := tx.Decimal(); ok {
+			t.Errorf("%q: kept as a decimal column", odd)
+		}
+		if got := tx.Strings(); !reflect.DeepEqual(got, []string{"2.5", odd, "3"}) {
+			t.Errorf("%q: reads %q", odd, got)
+		}
+	}
+}

@@ -83,12 +83,14 @@ func ReadRoles(r io.Reader, path string, roles Roles, decimalComma bool) (obs Ob
 		}
 	}
 	// Level names and blocks are coded (each distinct name stored once);
-	// values and unit IDs are packed end to end; the line numbers are kept
+	// values are kept as numbers when typed plainly, unit IDs packed end to
+	// end; the line numbers are kept
 	// as numbers and formatted only when a message names one. Rows cost no
 	// allocation of their own, and messages are formatted only for an error.
 	levels := make([]column.Coder, len(fi))
 	var blocks column.Coder
-	var values, units column.Packer
+	var values column.Decimals
+	var units column.Packer
 	var lines []uint32
 	var fixed []byte
 	rows := 0
@@ -161,7 +163,7 @@ func ReadRoles(r io.Reader, path string, roles Roles, decimalComma bool) (obs Ob
 			if st, ok := r.(interface{ Stat() (os.FileInfo, error) }); ok {
 				if info, err := st.Stat(); err == nil && pr.offset > 0 {
 					est := min(int(float64(info.Size())/float64(pr.offset)*float64(pr.records)*1.05), 1<<26) - rows
-					values.Grow(est, est*values.Bytes()/rows)
+					values.Grow(est, est*int(pr.offset)/pr.records)
 					if ui >= 0 {
 						units.Grow(est, est*units.Bytes()/rows)
 					}
@@ -176,8 +178,8 @@ func ReadRoles(r io.Reader, path string, roles Roles, decimalComma bool) (obs Ob
 			}
 		}
 	}
-	for _, p := range []*column.Packer{&values, &units} {
-		if err := p.Err(); err != nil {
+	for _, err := range []error{values.Err(), units.Err()} {
+		if err != nil {
 			return obs, 0, &design.CSVError{File: path, Msg: err.Error() + "; split the file"}
 		}
 	}
