@@ -203,6 +203,13 @@ func Run(d Data, opt RunOptions) (*Result, error) {
 		res.Assumptions = Assumptions{Verdicts: []string{"The residual checks were not run: all residuals are exactly zero."}}
 		return res, nil
 	}
+	// The residual checks read the fitted table only; on a large data set
+	// they run beside the comparisons, on another core.
+	var checks chan Assumptions
+	if t.N >= parallelChecks {
+		checks = make(chan Assumptions, 1)
+		go func() { checks <- checkAssumptions(d, t) }()
+	}
 	interaction := false
 	for _, term := range t.Terms {
 		if len(term.Factors) > 1 && !term.BlockInteraction && term.P < t.Alpha {
@@ -269,9 +276,17 @@ func Run(d Data, opt RunOptions) (*Result, error) {
 	if !t.cells.balanced(t.m) {
 		res.Notes = append(res.Notes, "The design is unbalanced (missing units or unequal groups): the LS means are least-squares means, adjusted for the other terms and averaged over their levels with equal weights; raw means would be biased by which units are missing.")
 	}
-	res.Assumptions = checkAssumptions(d, t)
+	if checks != nil {
+		res.Assumptions = <-checks
+	} else {
+		res.Assumptions = checkAssumptions(d, t)
+	}
 	return res, nil
 }
+
+// parallelChecks is the number of observations from which Run checks the
+// residuals on a goroutine of their own.
+const parallelChecks = 1 << 14
 
 // pPhrase writes p as "= 0.21" or "< 0.0001".
 func pPhrase(p float64) string {
