@@ -217,7 +217,7 @@ func (p *Packer) Text() Text {
 	var data string
 	switch {
 	case len(p.buf) == 0:
-	case cap(p.buf)-len(p.buf) > len(p.buf)/8:
+	case cap(p.buf)-len(p.buf) > len(p.buf)/4:
 		data = string(p.buf) // a copy, to let go of the spare capacity
 	default:
 		data = unsafe.String(unsafe.SliceData(p.buf), len(p.buf))
@@ -327,9 +327,10 @@ func growTo[E any](s []E, n int) []E {
 	return s
 }
 
-// trim returns s without much spare capacity.
+// trim returns s without much spare capacity: a copy when more than a
+// quarter is spare (as after growing by doubling, with no size to go by).
 func trim(s []uint32) []uint32 {
-	if cap(s)-len(s) > len(s)/8 {
+	if cap(s)-len(s) > len(s)/4 {
 		return append([]uint32(nil), s...)
 	}
 	return s
@@ -415,6 +416,20 @@ func (d *Decimals) Add(b []byte) {
 		d.digits, d.scale = nil, nil
 	}
 	d.p.Add(b)
+}
+
+// AddPlain appends b and reports true when b is written plainly and the
+// column still holds numbers; otherwise it adds nothing and reports false
+// (the caller may then judge b and Add it).
+func (d *Decimals) AddPlain(b []byte) bool {
+	if d.packed {
+		return false
+	}
+	m, sc, ok := plainDecimal(b)
+	if ok {
+		d.digits, d.scale = append(d.digits, m), append(d.scale, sc)
+	}
+	return ok
 }
 
 // Err reports a packed column too large (see Packer.Err).

@@ -123,7 +123,8 @@ func ReadRoles(r io.Reader, path string, roles Roles, decimalComma bool) (obs Ob
 			fixed[bytes.IndexByte(fixed, ',')] = '.'
 			v = fixed
 		}
-		if !plainDecimal(v) {
+		plain := values.AddPlain(v) // the usual number, kept as one
+		if !plain && !plainDecimal(v) {
 			// The common forms are checked above without allocating;
 			// anything else goes through the one grammar.
 			s := string(v)
@@ -149,7 +150,9 @@ func ReadRoles(r io.Reader, path string, roles Roles, decimalComma bool) (obs Ob
 			}
 			blocks.Add(b)
 		}
-		values.Add(v)
+		if !plain {
+			values.Add(v)
+		}
 		if line > math.MaxUint32 {
 			return obs, 0, &design.CSVError{File: path, Line: line, Msg: "more lines than allot reads from one table (4,294,967,295); split the file"}
 		}
