@@ -10,6 +10,7 @@ import (
 	"path/filepath"
 	"regexp"
 	"sort"
+	"strconv"
 	"strings"
 	"testing"
 
@@ -281,4 +282,51 @@ func pageBreaks(t *testing.T, path string) map[string]string {
 		out[zf.Name] = strings.Join(re.FindAllString(string(b), -1), "")
 	}
 	return out
+}
+
+// integerTextByAtoi is integerText's definition: Atoi succeeds and Itoa of
+// the result gives the text back, within 15 characters.
+func integerTextByAtoi(v string) (int, bool) {
+	n, err := strconv.Atoi(v)
+	if len(v) > 15 || err != nil || strconv.Itoa(n) != v {
+		return 0, false
+	}
+	return n, true
+}
+
+func TestIntegerText(t *testing.T) {
+	for _, v := range []string{"", "0", "-0", "00", "7", "007", "-7", "--7", "+7", "101", "1e3", "1_000", " 1", "1 ",
+		"999999999999999", "-99999999999999", "-999999999999999", "1000000000000000", "12a", "-", "٣", "0x1F"} {
+		n, ok := integerText(v)
+		wn, wok := integerTextByAtoi(v)
+		if n != wn || ok != wok {
+			t.Errorf("integerText(%q) = %d, %v; strconv gives %d, %v", v, n, ok, wn, wok)
+		}
+	}
+}
+
+func FuzzIntegerText(f *testing.F) {
+	for _, v := range []string{"0", "-0", "007", "101", "-42", "+1", "999999999999999"} {
+		f.Add(v)
+	}
+	f.Fuzz(func(t *testing.T, v string) {
+		n, ok := integerText(v)
+		wn, wok := integerTextByAtoi(v)
+		if n != wn || ok != wok {
+			t.Errorf("integerText(%q) = %d, %v; strconv gives %d, %v", v, n, ok, wn, wok)
+		}
+	})
+}
+
+// TestTextWidth: the widest line, East Asian wide characters and emoji
+// counting two (widths as a terminal shows them).
+func TestTextWidth(t *testing.T) {
+	for _, c := range []struct {
+		s string
+		w float64
+	}{{"", 0}, {"abc", 3}, {"ab\ncde", 3}, {"abcd\ne", 4}, {"a\n\nbb", 2}, {"肥料", 4}, {"🌱 bio", 6}, {"é", 1}, {"x\n肥料試験", 8}} {
+		if got := textWidth(c.s); got != c.w {
+			t.Errorf("textWidth(%q) = %v, want %v", c.s, got, c.w)
+		}
+	}
 }
