@@ -49,6 +49,7 @@ func build(l design.Layout, meta Meta) (*excelize.File, error) {
 		return nil, err
 	}
 	f := excelize.NewFile()
+	f.SetZipWriter(newZip)
 	if err := f.SetSheetName("Sheet1", SheetStudy); err != nil {
 		return nil, err
 	}
