@@ -156,10 +156,13 @@ func writeMap(f *excelize.File, l design.Layout, meta Meta, pg page) error {
 		return err
 	}
 	m.sw = sw
-	m.do(sw.SetColWidth(1, 1, 12))
+	// The stream writer lists the columns set last first: B onwards before
+	// A leaves them in ascending order, as the sheet had them before it
+	// was streamed.
 	if cols > 0 {
 		m.do(sw.SetColWidth(2, cols+1, width))
 	}
+	m.do(sw.SetColWidth(1, 1, 12))
 	r := m.legend()
 	// Fit to width shrinks everything by the same factor.
 	scale := min(1, printW/total)

@@ -172,7 +172,7 @@ func dumpWorkbook(t *testing.T, w io.Writer, path string) {
 	}
 	fmt.Fprintf(w, "sheets %q active %d\n", f.GetSheetList(), f.GetActiveSheetIndex())
 	fmt.Fprintf(w, "names %s\n", js(f.GetDefinedName()))
-	breaks := pageBreaks(t, path)
+	breaks, order := pageBreaks(t, path)
 	for i, sheet := range f.GetSheetList() {
 		vis, _ := f.GetSheetVisible(sheet)
 		fmt.Fprintf(w, "--- sheet %s visible %v\n", sheet, vis)
@@ -193,7 +193,9 @@ func dumpWorkbook(t *testing.T, w io.Writer, path string) {
 			}
 			fmt.Fprintln(w, js(v))
 		}
-		fmt.Fprintf(w, "breaks %s\n", breaks[fmt.Sprintf("xl/worksheets/sheet%d.xml", i+1)])
+		part := fmt.Sprintf("xl/worksheets/sheet%d.xml", i+1)
+		fmt.Fprintf(w, "breaks %s\n", breaks[part])
+		fmt.Fprintf(w, "column order %s\n", order[part])
 		rows, err := f.GetRows(sheet, excelize.Options{RawCellValue: true})
 		if err != nil {
 			t.Fatal(err)
@@ -256,8 +258,9 @@ func typeName(t excelize.CellType, v string) string {
 	return fmt.Sprintf("type%d", t)
 }
 
-// pageBreaks returns each worksheet's row and column breaks as written.
-func pageBreaks(t *testing.T, path string) map[string]string {
+// pageBreaks returns each worksheet's row and column breaks as written,
+// and the order of its column descriptions (a range as its columns).
+func pageBreaks(t *testing.T, path string) (breaks, order map[string]string) {
 	t.Helper()
 	zr, err := zip.OpenReader(path)
 	if err != nil {
@@ -265,7 +268,16 @@ func pageBreaks(t *testing.T, path string) map[string]string {
 	}
 	defer zr.Close()
 	re := regexp.MustCompile(`<(rowBreaks|colBreaks)[ >].*?</(rowBreaks|colBreaks)>|<(rowBreaks|colBreaks)[^>]*/>`)
-	out := map[string]string{}
+	col := regexp.MustCompile(`<col [^>]*>`)
+	num := func(s, attr string) int {
+		m := regexp.MustCompile(` ` + attr + `="(\d+)"`).FindStringSubmatch(s)
+		if m == nil {
+			t.Fatalf("%s without %s", s, attr)
+		}
+		n, _ := strconv.Atoi(m[1])
+		return n
+	}
+	breaks, order = map[string]string{}, map[string]string{}
 	for _, zf := range zr.File {
 		if !strings.HasPrefix(zf.Name, "xl/worksheets/") {
 			continue
@@ -279,9 +291,16 @@ func pageBreaks(t *testing.T, path string) map[string]string {
 		if err != nil {
 			t.Fatal(err)
 		}
-		out[zf.Name] = strings.Join(re.FindAllString(string(b), -1), "")
+		breaks[zf.Name] = strings.Join(re.FindAllString(string(b), -1), "")
+		var cols []string
+		for _, c := range col.FindAllString(string(b), -1) {
+			for k := num(c, "min"); k <= num(c, "max"); k++ {
+				cols = append(cols, colName(k))
+			}
+		}
+		order[zf.Name] = strings.Join(cols, " ")
 	}
-	return out
+	return breaks, order
 }
 
 // integerTextByAtoi is integerText's definition: Atoi succeeds and Itoa of
