@@ -2,7 +2,6 @@ package workbook
 
 import (
 	"strconv"
-	"strings"
 	"unicode"
 	"unicode/utf8"
 
@@ -128,7 +127,13 @@ func count(n int, word string) string {
 // 1-based, when the plan has subsamples), as written; label is the
 // treatment name or blind code.
 func designCells(c columns, u design.Unit, sub int, label string, tr []design.Treatment) []string {
-	row := []string{u.ID}
+	return appendDesignCells(nil, c, u, sub, label, tr)
+}
+
+// appendDesignCells appends the design cells of designCells to dst, so that
+// a writer can reuse one slice for every row.
+func appendDesignCells(dst []string, c columns, u design.Unit, sub int, label string, tr []design.Treatment) []string {
+	row := append(dst, u.ID)
 	if c.block {
 		row = append(row, strconv.Itoa(u.Block))
 	}
@@ -194,12 +199,29 @@ func (c columns) numericCount() int {
 // "0123", "+1" or "1e3" are not, and stay text: a spreadsheet would show
 // 7, 123, 1 or 1000 and the ID would be lost.
 func integerText(v string) (int, bool) {
+	// The same as strconv.Atoi(v) succeeding with strconv.Itoa of the
+	// result equal to v, without making the string: an optional minus,
+	// then digits without a leading zero; "0" but not "-0".
 	if len(v) > 15 { // beyond 15 digits a spreadsheet rounds
 		return 0, false
 	}
-	n, err := strconv.Atoi(v)
-	if err != nil || strconv.Itoa(n) != v {
+	d := v
+	if len(d) > 0 && d[0] == '-' {
+		d = d[1:]
+	}
+	if d == "" || d[0] == '0' && (len(d) > 1 || len(v) > 1) {
 		return 0, false
+	}
+	n := 0
+	for i := 0; i < len(d); i++ {
+		ch := d[i]
+		if ch < '0' || ch > '9' {
+			return 0, false
+		}
+		n = n*10 + int(ch-'0')
+	}
+	if len(d) < len(v) {
+		n = -n
 	}
 	return n, true
 }
@@ -207,19 +229,18 @@ func integerText(v string) (int, bool) {
 // textWidth is the printed width of s in character widths: East Asian wide
 // characters and emoji take two.
 func textWidth(s string) float64 {
-	w := 0.0
-	for _, line := range strings.Split(s, "\n") {
-		lw := 0.0
-		for _, r := range line {
-			if wide(r) {
-				lw += 2
-			} else {
-				lw++
-			}
+	w, lw := 0.0, 0.0 // the widest line so far, the current line
+	for _, r := range s {
+		switch {
+		case r == '\n':
+			w, lw = max(w, lw), 0
+		case wide(r):
+			lw += 2
+		default:
+			lw++
 		}
-		w = max(w, lw)
 	}
-	return w
+	return max(w, lw)
 }
 
 func wide(r rune) bool {

@@ -2,6 +2,7 @@ package workbook
 
 import (
 	"fmt"
+	"strconv"
 	"strings"
 
 	"github.com/allotproject/allot/design"
@@ -19,13 +20,17 @@ var mapTints = []string{"FBE3B5", "CDE7F7", "BFE8DC", "FAF5BF", "BFD9EC", "F5D3B
 const mapLineHeight = 15
 
 // mapSheet holds what writing the Map sheet needs: its styles, each
-// place's text and the row height that shows it.
+// place's text and the row height that shows it. The sheet is streamed: its
+// rows go out in order, each built in full first (a block's grid rows
+// together), so that a large layout costs no worksheet in memory.
 type mapSheet struct {
 	*sheetWriter
+	sw          *excelize.StreamWriter
 	l           design.Layout
 	bold, plain int
 	tint        []int // style per treatment
 	label       func(design.Unit) string
+	texts       []string // each unit's place text, by index in l.Units
 	rowH        float64
 	// outline holds a split plot's styles for the first, middle and last
 	// sub-plot of a main plot: thick edges group each main plot.
@@ -68,13 +73,17 @@ func newMapSheet(f *excelize.File, l design.Layout) *mapSheet {
 		lines = 3
 	}
 	m.rowH = float64(mapLineHeight*lines + 6)
+	m.texts = make([]string, len(l.Units))
+	for i, u := range l.Units {
+		m.texts[i] = m.text(u)
+	}
 	return m
 }
 
 func (m *mapSheet) text(u design.Unit) string {
 	s := u.ID + "\n" + m.label(u)
 	if u.Order > 0 {
-		s += fmt.Sprintf("\n#%d", u.Order)
+		s += "\n#" + strconv.Itoa(u.Order)
 	}
 	return s
 }
@@ -96,10 +105,18 @@ func (m *mapSheet) styleOf(u design.Unit) int {
 	return m.tint[u.Treatment]
 }
 
-// place writes unit u's text at (col, row).
-func (m *mapSheet) place(col, row int, u design.Unit) {
-	m.str(col, row, m.text(u))
-	m.style(col, row, col, row, m.styleOf(u))
+// place returns the cell of unit i (its index in the layout): its text in
+// its treatment's style.
+func (m *mapSheet) place(i int) excelize.Cell {
+	return excelize.Cell{StyleID: m.styleOf(m.l.Units[i]), Value: m.texts[i]}
+}
+
+// row writes row r: its cells from column A (nil where there is none), and
+// its height in points (0 for the default).
+func (m *mapSheet) row(r int, cells []any, height float64) {
+	if m.err == nil {
+		m.do(m.sw.SetRow(cell(1, r), cells, excelize.RowOpts{Height: height}))
+	}
 }
 
 // writeMap writes the Map sheet: a legend, then each block as its grid (or
@@ -110,15 +127,17 @@ func (m *mapSheet) place(col, row int, u design.Unit) {
 func writeMap(f *excelize.File, l design.Layout, meta Meta, pg page) error {
 	p := l.Plan
 	m := newMapSheet(f, l)
+	if m.err != nil {
+		return m.err
+	}
 	rows, cols := 1, p.MaxBlockSize()
 	if g := p.Grid; g != nil {
 		rows, cols = g.Rows, g.Cols
 	}
-	r := m.legend()
 	// Column widths: wide enough for the longest line of any place.
 	width := 10.0
-	for _, u := range l.Units {
-		width = max(width, textWidth(m.text(u))+2)
+	for _, s := range m.texts {
+		width = max(width, textWidth(s)+2)
 	}
 	width = min(width, 40)
 	total := 12 + width*float64(cols)
@@ -127,17 +146,31 @@ func writeMap(f *excelize.File, l design.Layout, meta Meta, pg page) error {
 	if landscape {
 		printW, printH = pg.landscape, pg.landscapeH
 	}
+	// The print setup goes on the sheet before the rows are streamed (see
+	// entrySetup).
+	if err := setupPrint(f, SheetMap, l, meta, pg, landscape); err != nil {
+		return err
+	}
+	sw, err := f.NewStreamWriter(SheetMap)
+	if err != nil {
+		return err
+	}
+	m.sw = sw
+	// The stream writer lists the columns set last first: B onwards before
+	// A leaves them in ascending order, as the sheet had them before it
+	// was streamed.
+	if cols > 0 {
+		m.do(sw.SetColWidth(2, cols+1, width))
+	}
+	m.do(sw.SetColWidth(1, 1, 12))
+	r := m.legend()
 	// Fit to width shrinks everything by the same factor.
 	scale := min(1, printW/total)
 	m.blocks(r, rows, cols, scale, printH)
-	m.do(f.SetColWidth(SheetMap, "A", "A", 12))
-	if cols > 0 {
-		m.do(f.SetColWidth(SheetMap, "B", colName(cols+1), width))
-	}
 	if m.err != nil {
 		return m.err
 	}
-	return setupPrint(f, SheetMap, l, meta, pg, landscape)
+	return sw.Flush()
 }
 
 // legend writes the title line and the legend, and returns the first row
@@ -148,33 +181,34 @@ func (m *mapSheet) legend() int {
 	if p.Order {
 		what += ", then #measurement order"
 	}
+	title := "Map: each row is a " + blockName(p) + ", positions left to right; each place shows " + what
 	if g := p.Grid; g != nil {
-		m.str(1, 1, fmt.Sprintf("Map: each %s as its %d × %d grid (%s numbering); each place shows %s", blockName(p), g.Rows, g.Cols, g.Numbering, what))
-	} else {
-		m.str(1, 1, "Map: each row is a "+blockName(p)+", positions left to right; each place shows "+what)
+		title = fmt.Sprintf("Map: each %s as its %d × %d grid (%s numbering); each place shows %s", blockName(p), g.Rows, g.Cols, g.Numbering, what)
 	}
-	m.style(1, 1, 1, 1, m.bold)
+	m.row(1, []any{excelize.Cell{StyleID: m.bold, Value: title}}, 0)
 	r := 3
-	m.str(1, r, "Legend")
-	m.style(1, r, 1, r, m.bold)
+	head := excelize.Cell{StyleID: m.bold, Value: "Legend"}
 	if p.BlindMode == design.BlindUnit {
-		m.str(2, r, "one blind code per unit: which treatment a code stands for is in the key, kept apart")
+		m.row(r, []any{head, "one blind code per unit: which treatment a code stands for is in the key, kept apart"}, 0)
 		return r + 2
 	}
 	if p.Blind {
-		m.str(2, r, fmt.Sprintf("blind codes %s: which treatment a code stands for is in the key, kept apart", strings.Join(m.l.Codes, ", ")))
+		m.row(r, []any{head, fmt.Sprintf("blind codes %s: which treatment a code stands for is in the key, kept apart", strings.Join(m.l.Codes, ", "))}, 0)
 		return r + 2
 	}
 	for t, tt := range p.Treatments() {
-		m.str(2, r, tt.Name)
-		m.style(2, r, 2, r, m.tint[t])
+		cells := []any{nil, excelize.Cell{StyleID: m.tint[t], Value: tt.Name}}
+		if t == 0 {
+			cells[0] = head
+		}
 		if len(p.Factors) > 1 {
 			var parts []string
 			for i, fa := range p.Factors {
 				parts = append(parts, fa.Name+" "+tt.Levels[i])
 			}
-			m.str(3, r, strings.Join(parts, ", "))
+			cells = append(cells, strings.Join(parts, ", "))
 		}
+		m.row(r, cells, 0)
 		r++
 	}
 	return r + 1
@@ -186,51 +220,66 @@ func (m *mapSheet) blocks(r, rows, cols int, scale, printH float64) {
 	p := m.l.Plan
 	g := p.Grid
 	used := float64(r-1) * 15 * scale // the title and legend on page 1
-	byBlock := make([][]design.Unit, p.Blocks+1)
-	for _, u := range m.l.Units {
+	byBlock := make([][]int, p.Blocks+1)
+	for i, u := range m.l.Units {
 		if u.Block >= 1 && u.Block <= p.Blocks {
-			byBlock[u.Block] = append(byBlock[u.Block], u)
+			byBlock[u.Block] = append(byBlock[u.Block], i)
 		}
 	}
 	// Each block takes a heading row and its grid rows (a row map's
 	// heading is the position numbers, written once).
 	blockH := (15 + float64(rows)*m.rowH + 15) * scale
+	line := make([]any, cols+1) // a block's heading row, or a row map's block
 	if g == nil {
 		for i := 1; i <= cols; i++ {
-			m.do(m.f.SetCellInt(SheetMap, cell(i+1, r), int64(i)))
+			line[i] = excelize.Cell{StyleID: m.bold, Value: i}
 		}
-		m.style(2, r, cols+1, r, m.bold)
+		m.row(r, line, 0)
 		r++
 		used += 15 * scale
 		blockH = m.rowH * scale
 	}
+	var grid [][]any // a grid block's rows, heading in column A
+	if g != nil {
+		for c := 1; c <= g.Cols; c++ {
+			line[c] = "col " + strconv.Itoa(c)
+		}
+		grid = make([][]any, g.Rows+1)
+		for k := 1; k <= g.Rows; k++ {
+			grid[k] = make([]any, g.Cols+1)
+		}
+	}
 	labels := p.BlockLabels()
+	name := blockHeader(p) + " "
 	for b := 1; b <= p.Blocks; b++ {
 		if used+blockH > printH && used > 0 {
-			m.do(m.f.InsertPageBreak(SheetMap, cell(1, r)))
+			m.do(m.sw.InsertPageBreak(cell(1, r)))
 			used = 0
 		}
 		used += blockH
-		m.str(1, r, blockHeader(p)+" "+labels[b-1])
-		m.style(1, r, 1, r, m.bold)
+		line[0] = excelize.Cell{StyleID: m.bold, Value: name + labels[b-1]}
 		if g == nil {
-			for _, u := range byBlock[b] {
-				m.place(u.Position+1, r, u)
+			clear(line[1:])
+			for _, i := range byBlock[b] {
+				line[m.l.Units[i].Position] = m.place(i)
 			}
-			m.do(m.f.SetRowHeight(SheetMap, r, m.rowH))
+			m.row(r, line, m.rowH)
 			r++
 			continue
 		}
-		for c := 1; c <= g.Cols; c++ {
-			m.str(c+1, r, fmt.Sprintf("col %d", c))
+		m.row(r, line, 0)
+		for k := 1; k <= g.Rows; k++ {
+			grid[k][0] = "row " + strconv.Itoa(k)
+			for c := 1; c <= g.Cols; c++ {
+				grid[k][c] = excelize.Cell{StyleID: m.plain}
+			}
+		}
+		for _, i := range byBlock[b] {
+			u := m.l.Units[i]
+			grid[u.Row][u.Col] = m.place(i)
 		}
 		for k := 1; k <= g.Rows; k++ {
-			m.str(1, r+k, fmt.Sprintf("row %d", k))
-			m.style(2, r+k, g.Cols+1, r+k, m.plain)
-			m.do(m.f.SetRowHeight(SheetMap, r+k, m.rowH))
-		}
-		for _, u := range byBlock[b] {
-			m.place(u.Col+1, r+u.Row, u)
+			m.row(r+k, grid[k], m.rowH)
 		}
 		r += g.Rows + 2
 	}

@@ -49,6 +49,7 @@ func build(l design.Layout, meta Meta) (*excelize.File, error) {
 		return nil, err
 	}
 	f := excelize.NewFile()
+	f.SetZipWriter(newZip)
 	if err := f.SetSheetName("Sheet1", SheetStudy); err != nil {
 		return nil, err
 	}
@@ -112,17 +113,25 @@ func checkText(l design.Layout) error {
 	for _, r := range p.Responses {
 		texts = append(texts, [2]string{"response", r.Name})
 	}
-	for _, c := range l.Codes {
-		texts = append(texts, [2]string{"blind code", c})
-	}
-	for _, u := range p.Units {
-		texts = append(texts, [2]string{"block label", u.BlockLabel})
-	}
-	for _, u := range l.Units {
-		texts = append(texts, [2]string{"unit ID", u.ID})
-	}
 	for _, t := range texts {
 		if err := check(t[0], t[1]); err != nil {
+			return err
+		}
+	}
+	// The texts of each unit are checked in place, in the same order:
+	// codes, block labels, unit IDs.
+	for _, c := range l.Codes {
+		if err := check("blind code", c); err != nil {
+			return err
+		}
+	}
+	for _, u := range p.Units {
+		if err := check("block label", u.BlockLabel); err != nil {
+			return err
+		}
+	}
+	for _, u := range l.Units {
+		if err := check("unit ID", u.ID); err != nil {
 			return err
 		}
 	}
@@ -357,8 +366,10 @@ func entryWidths(l design.Layout, c columns, heads []string) []float64 {
 	}
 	tr := p.Treatments()
 	label := labeller(l)
+	var row []string
 	for _, u := range l.Units {
-		for j, v := range designCells(c, u, 1, label(u), tr) {
+		row = appendDesignCells(row[:0], c, u, 1, label(u), tr)
+		for j, v := range row {
 			w[j] = max(w[j], textWidth(v)+3)
 		}
 	}
@@ -431,27 +442,37 @@ func writeEntry(f *excelize.File, l design.Layout, meta Meta, pg page) error {
 	tr := p.Treatments()
 	label := labeller(l)
 	row := 1
+	// One row of cells, reused: vals points at cells, and the open cells
+	// after the design cells are the same on every row.
+	cells := make([]excelize.Cell, len(heads))
 	vals := make([]any, len(heads))
 	nr := nd + len(p.Responses)
+	for j := range cells {
+		vals[j] = &cells[j]
+		if j >= nd {
+			cells[j] = excelize.Cell{StyleID: open}
+		}
+		if j >= nr {
+			cells[j] = excelize.Cell{StyleID: note}
+		}
+	}
+	opts := excelize.RowOpts{Height: entryRowHeight}
+	var texts []string
 	for _, u := range l.Units {
+		lab := label(u)
 		for sub := 1; sub <= c.rowsPer(); sub++ {
 			row++
-			for j, v := range designCells(c, u, sub, label(u), tr) {
+			texts = appendDesignCells(texts[:0], c, u, sub, lab, tr)
+			for j, v := range texts {
 				// Numbers where a spreadsheet keeps them exactly; IDs such
 				// as 007 and all names are text.
 				if n, ok := integerText(v); ok && c.numeric(j, nd) {
-					vals[j] = excelize.Cell{StyleID: num, Value: n}
+					cells[j] = excelize.Cell{StyleID: num, Value: n}
 				} else {
-					vals[j] = excelize.Cell{StyleID: text, Value: v}
+					cells[j] = excelize.Cell{StyleID: text, Value: v}
 				}
 			}
-			for j := nd; j < len(heads); j++ {
-				vals[j] = excelize.Cell{StyleID: open}
-				if j >= nr {
-					vals[j] = excelize.Cell{StyleID: note}
-				}
-			}
-			if err := sw.SetRow(cell(1, row), vals, excelize.RowOpts{Height: entryRowHeight}); err != nil {
+			if err := sw.SetRow("A"+strconv.Itoa(row), vals, opts); err != nil {
 				return err
 			}
 		}
