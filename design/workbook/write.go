@@ -424,8 +424,12 @@ func writeEntry(f *excelize.File, l design.Layout, meta Meta, pg page) error {
 	if err != nil {
 		return err
 	}
-	for i, x := range widths {
-		if err := sw.SetColWidth(i+1, i+1, x); err != nil {
+	// The stream writer puts each call's columns before the earlier ones:
+	// set them last to first, so that the sheet lists them in ascending
+	// order, as the format asks (Excel repairs a sheet whose columns are
+	// out of order).
+	for i := len(widths) - 1; i >= 0; i-- {
+		if err := sw.SetColWidth(i+1, i+1, widths[i]); err != nil {
 			return err
 		}
 	}
