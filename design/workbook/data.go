@@ -99,7 +99,7 @@ type dataSheet struct {
 	fp     string // cell B1: the fingerprint a key must match
 	// sst is the workbook's shared strings as scanned for the plan sheet
 	// (sstOK), for the Entry sheet's scan to reuse.
-	sst   []string
+	sst   *sstTable
 	sstOK bool
 
 	// fromPlan is set when the hidden sheet was missing and the layout
