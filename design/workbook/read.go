@@ -238,7 +238,7 @@ func Read(path string, opt ReadOptions) (*Filled, error) {
 		return nil, err
 	}
 	k := newChecker(path, SheetEntry, ds.layout, ds.labels, opt)
-	k.cellInfo = info
+	k.cellInfo = func(row, col int) cellInfo { return info(cell(col, row)) }
 	if ds.fromPlan {
 		k.add(Warning, "", "", fmt.Sprintf("the hidden plan sheet %q is missing; the rows were checked against the layout given with --plan (fingerprint %.12s) instead", SheetData, ds.layout.Plan.Fingerprint()))
 	}
