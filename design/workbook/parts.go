@@ -171,7 +171,7 @@ func (p *parts) sharedStrings() (*sstTable, bool) {
 	var t *sstTable
 	ok := p.scan(p.sst, func(sc *xmlScanner) bool {
 		var ok bool
-		t, ok = readSST(sc)
+		t, ok = readSST(sc, int(min(p.sst.UncompressedSize64, UnzipXMLSizeLimit)))
 		return ok
 	})
 	return t, ok

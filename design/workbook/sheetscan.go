@@ -96,7 +96,7 @@ func sharedStrings(f *excelize.File) (*sstTable, bool) {
 	if !ok {
 		return nil, true
 	}
-	return readSST(&xmlScanner{b: sb})
+	return readSST(&xmlScanner{b: sb}, len(sb))
 }
 
 // scanSheetWith is scanSheet with the shared strings already scanned.
@@ -229,7 +229,7 @@ func tableOf(ss []string) *sstTable {
 // scanSharedStrings returns the shared string table: each si's text runs
 // concatenated, phonetic runs (rPh) left out.
 func scanSharedStrings(b []byte) ([]string, bool) {
-	t, ok := readSST(&xmlScanner{b: b})
+	t, ok := readSST(&xmlScanner{b: b}, len(b))
 	if !ok {
 		return nil, false
 	}
@@ -240,9 +240,11 @@ func scanSharedStrings(b []byte) ([]string, bool) {
 	return out, true
 }
 
-// readSST reads a shared-strings part into a table.
-func readSST(sc *xmlScanner) (*sstTable, bool) {
-	t := &sstTable{}
+// readSST reads a shared-strings part into a table; size, when not 0, is
+// the part's size, which bounds the text it holds (the table's buffer is
+// made that large at once, not grown by copies).
+func readSST(sc *xmlScanner, size int) (*sstTable, bool) {
+	t := &sstTable{buf: make([]byte, 0, size)}
 	var cur []byte
 	inSI, inPh := false, false
 	for sc.next() {

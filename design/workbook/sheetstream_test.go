@@ -43,7 +43,7 @@ func TestStreamingScanner(t *testing.T) {
 	}
 	for name, mk := range readers {
 		t.Run(name, func(t *testing.T) {
-			tab, ok := readSST(&xmlScanner{src: mk(bytes.NewReader(sst))})
+			tab, ok := readSST(&xmlScanner{src: mk(bytes.NewReader(sst))}, 0)
 			if !ok || !reflect.DeepEqual(tab, tableOf(wantSST)) {
 				t.Fatalf("shared strings %v %v", ok, tab)
 			}
