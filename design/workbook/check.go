@@ -23,12 +23,21 @@ type checker struct {
 	nd          int
 	width       int // fields of the header row (CSV: every row must have as many)
 	tr          []design.Treatment
-	index       map[string]int    // unit ID → index in l.Units
-	seen        map[string]string // unit ID (and ID/subsample) → first cell
+	index       map[string]int    // unit ID → index in l.Units (the last of a repeated ID)
 	ranges      []design.Response // the responses with --range applied
-	// cellInfo tells what a cell holds besides its text (nil for CSV,
-	// where every cell is text and a number in text is normal).
-	cellInfo func(ref string) cellInfo
+	// unique says that no unit ID repeats; then a row holding the unit
+	// of the previous row (last) or the one after it is found without
+	// the map.
+	unique bool
+	last   int
+	// first holds the row (line) number of each unit's first row, 0
+	// before it is seen; with subsamples, subRow[i*subsamples+s-1] that of
+	// unit i's subsample s.
+	first, subRow []int
+	// cellInfo tells what the cell at row and column (1-based) holds
+	// besides its text (nil for CSV, where every cell is text and a
+	// number in text is normal).
+	cellInfo func(row, col int) cellInfo
 	label    func(design.Unit) string
 	out      *Filled
 }
@@ -36,10 +45,17 @@ type checker struct {
 func newChecker(path, sheet string, l design.Layout, labels []string, opt ReadOptions) *checker {
 	p := l.Plan
 	k := &checker{path: path, sheet: sheet, l: l, labels: labels, opt: opt, c: layoutColumns(p), tr: p.Treatments(),
-		index: make(map[string]int, len(l.Units)), seen: make(map[string]string, len(l.Units)), out: &Filled{Layout: l}}
+		index: make(map[string]int, len(l.Units)), first: make([]int, len(l.Units)), out: &Filled{Layout: l}}
 	k.nd = k.c.designCount(p)
+	if k.c.subsamples > 0 {
+		k.subRow = make([]int, len(l.Units)*k.c.subsamples)
+	}
 	k.label = labeller(l)
+	k.unique, k.last = true, -1
 	for i, u := range l.Units {
+		if _, dup := k.index[u.ID]; dup {
+			k.unique = false
+		}
 		k.index[u.ID] = i
 	}
 	k.ranges = append([]design.Response(nil), p.Responses...)
@@ -110,7 +126,7 @@ func (k *checker) run(rows []sheetRow) (*Filled, error) {
 		return nil, err
 	}
 	if len(rows) == 0 || rows[0].num != 1 {
-		return nil, &FileError{Path: k.path, Sheet: k.sheet, Cell: "A1", Msg: "the header row is empty: the header row (and perhaps the unit rows) were deleted; start again from the workbook written by allot layout"}
+		return nil, k.noHeader()
 	}
 	if err := k.header(rows[0].cells); err != nil {
 		return nil, err
@@ -120,6 +136,12 @@ func (k *checker) run(rows []sheetRow) (*Filled, error) {
 	}
 	k.finish()
 	return k.out, nil
+}
+
+// noHeader is the error of a sheet whose first row with content is not
+// the header row.
+func (k *checker) noHeader() error {
+	return &FileError{Path: k.path, Sheet: k.sheet, Cell: "A1", Msg: "the header row is empty: the header row (and perhaps the unit rows) were deleted; start again from the workbook written by allot layout"}
 }
 
 // header checks the header row. The Status and Reason columns may be
@@ -187,46 +209,63 @@ func (k *checker) row(sr sheetRow) {
 		k.add(Error, ref(0), id, fmt.Sprintf("line %d has %d fields where the header has %d: a separator is missing or extra (is a value with a comma or semicolon not in quotes?); correct the line", sr.line, sr.fields, k.width))
 		return
 	}
-	ui, ok := k.index[id]
+	ui, ok := k.find(id)
 	if !ok {
 		k.addDesign(ref(0), id, fmt.Sprintf("unit %q is not in the plan; correct the ID or delete the row", id))
 		return
 	}
-	sub, ok := k.rowKey(ui, at, ref)
+	sub, ok := k.rowKey(ui, sr.num, at, ref)
 	if !ok {
 		return
 	}
 	k.designCells(ui, sub, at, ref)
 	st := k.status(ui, at, ref)
 	for r := range k.ranges {
-		k.response(r, ui, sub, st, at, ref)
+		k.response(r, ui, sub, st, sr.num, at)
 	}
+}
+
+// find returns the index of the unit with ID id.
+func (k *checker) find(id string) (int, bool) {
+	if k.unique {
+		for _, i := range [2]int{k.last + 1, k.last} {
+			if i >= 0 && i < len(k.l.Units) && k.l.Units[i].ID == id {
+				k.last = i
+				return i, true
+			}
+		}
+	}
+	i, ok := k.index[id]
+	if ok {
+		k.last = i
+	}
+	return i, ok
 }
 
 // rowKey reads the subsample number and records the row, reporting a
 // duplicate; it returns the subsample (1 without subsamples).
-func (k *checker) rowKey(ui int, at func(int) string, ref func(int) string) (int, bool) {
+func (k *checker) rowKey(ui, num int, at func(int) string, ref func(int) string) (int, bool) {
 	id := k.l.Units[ui].ID
-	sub, key := 1, id
+	sub, seen := 1, &k.first[ui]
 	if k.c.subsamples > 0 {
 		n, err := strconv.Atoi(at(k.nd - 1))
 		if err != nil || n < 1 || n > k.c.subsamples {
 			k.addDesign(ref(k.nd-1), id, fmt.Sprintf("subsample %q: must be a whole number from 1 to %d; restore it", at(k.nd-1), k.c.subsamples))
 			return 0, false
 		}
-		sub, key = n, id+"/"+strconv.Itoa(n)
+		sub, seen = n, &k.subRow[ui*k.c.subsamples+n-1]
 	}
-	if prev, dup := k.seen[key]; dup {
+	if *seen != 0 {
 		what := "unit " + id
 		if k.c.subsamples > 0 {
 			what += fmt.Sprintf(" subsample %d", sub)
 		}
-		k.addDesign(ref(0), id, fmt.Sprintf("%s appears again (first in %s); delete the duplicate row", what, prev))
+		k.addDesign(ref(0), id, fmt.Sprintf("%s appears again (first in %s); delete the duplicate row", what, cell(1, *seen)))
 		return 0, false
 	}
-	k.seen[key] = ref(0)
-	if _, ok := k.seen[id]; !ok {
-		k.seen[id] = ref(0)
+	*seen = num
+	if k.first[ui] == 0 {
+		k.first[ui] = num
 	}
 	return sub, true
 }
@@ -277,26 +316,27 @@ func (k *checker) status(ui int, at func(int) string, ref func(int) string) stri
 	return st
 }
 
-// response checks response r of a row.
-func (k *checker) response(r, ui, sub int, st string, at func(int) string, ref func(int) string) {
+// response checks response r of a row (row number num).
+func (k *checker) response(r, ui, sub int, st string, num int, at func(int) string) {
 	j := k.nd + r
 	u := k.l.Units[ui]
 	var info cellInfo
 	if k.cellInfo != nil {
-		info = k.cellInfo(ref(j))
+		info = k.cellInfo(num, j+1)
 	} else {
 		info.kind = kindText
 		info.csv = true
 	}
-	v, msg, sev := parseResponse(ref(j), at(j), info, k.ranges[r], k.opt)
+	ref := cell(j+1, num)
+	v, msg, sev := parseResponse(ref, at(j), info, k.ranges[r], k.opt)
 	if msg != "" {
-		k.add(sev, ref(j), u.ID, msg)
+		k.add(sev, ref, u.ID, msg)
 	}
 	switch {
 	case st == StatusLost && !v.Missing:
-		k.add(Error, ref(j), u.ID, fmt.Sprintf("unit %s is lost but has the value %s; clear the value, or set Status to excluded (a value that must not be analysed) or measured", u.ID, v.Text))
+		k.add(Error, ref, u.ID, fmt.Sprintf("unit %s is lost but has the value %s; clear the value, or set Status to excluded (a value that must not be analysed) or measured", u.ID, v.Text))
 	case st == StatusMeasured && v.Missing && msg == "":
-		k.add(Warning, ref(j), u.ID, fmt.Sprintf("unit %s is measured but %s is empty; enter the value, or set Status to lost and give the Reason", u.ID, k.ranges[r].Name))
+		k.add(Warning, ref, u.ID, fmt.Sprintf("unit %s is measured but %s is empty; enter the value, or set Status to lost and give the Reason", u.ID, k.ranges[r].Name))
 	}
 	if k.c.subsamples > 0 {
 		k.out.Subs[r][ui][sub-1] = v
@@ -313,11 +353,11 @@ func (k *checker) finish() {
 	p := k.l.Plan
 	for i, u := range k.l.Units {
 		for sub := 1; k.c.subsamples > 0 && sub <= k.c.subsamples; sub++ {
-			if _, ok := k.seen[u.ID+"/"+strconv.Itoa(sub)]; !ok && k.seen[u.ID] != "" {
+			if k.subRow[i*k.c.subsamples+sub-1] == 0 && k.first[i] != 0 {
 				k.addDesign("", u.ID, fmt.Sprintf("unit %s subsample %d has no row: a row was deleted; add it back", u.ID, sub))
 			}
 		}
-		if _, ok := k.seen[u.ID]; !ok {
+		if k.first[i] == 0 {
 			what := ""
 			switch {
 			case k.labels != nil:
@@ -353,7 +393,7 @@ func (k *checker) missing(r int, resp design.Response) {
 	missing := map[string]int{}
 	var order []string
 	for i, u := range k.l.Units {
-		if _, ok := k.seen[u.ID]; !ok || !k.out.Values[r][i].Missing || k.out.Status[i].Dropped() {
+		if k.first[i] == 0 || !k.out.Values[r][i].Missing || k.out.Status[i].Dropped() {
 			continue
 		}
 		name := ""

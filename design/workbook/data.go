@@ -99,7 +99,7 @@ type dataSheet struct {
 	fp     string // cell B1: the fingerprint a key must match
 	// sst is the workbook's shared strings as scanned for the plan sheet
 	// (sstOK), for the Entry sheet's scan to reuse.
-	sst   []string
+	sst   *sstTable
 	sstOK bool
 
 	// fromPlan is set when the hidden sheet was missing and the layout
@@ -113,24 +113,43 @@ type dataSheet struct {
 // When the sheet is missing, opt.Layout (the layout file the workbook was
 // made from) stands in for it.
 func readData(f *excelize.File, path string, opt ReadOptions) (dataSheet, error) {
-	fail := func(cell, msg string) error {
-		return &FileError{Path: path, Sheet: SheetData, Cell: cell, Msg: msg}
-	}
 	if idx, err := f.GetSheetIndex(SheetData); err != nil || idx < 0 {
-		if opt.Layout != nil {
-			return fromLayout(*opt.Layout, opt.Key)
-		}
-		return dataSheet{}, fail("", "the hidden plan sheet is missing (was the data pasted into a new workbook?), so the workbook cannot be matched to its plan; give the layout it was made from: allot check "+path+" --plan layout.json (written by allot layout -o layout.json)")
+		return noData(path, opt)
 	}
 	get := func(c string) (string, error) {
 		return f.GetCellValue(SheetData, c, excelize.Options{RawCellValue: true})
 	}
 	sst, sstOK := sharedStrings(f)
 	if sstOK {
-		if sc, ok := scanSheetWith(f, SheetData, sst, scanLimits{cols: maxColumns, rows: maxChunks + 3}); ok && sc.wide == "" && sc.many == 0 {
+		if sc, ok := scanSheetWith(f, SheetData, sst, dataLimits); ok && sc.wide == "" && sc.many == 0 {
 			// One streaming pass instead of excelize's in-memory sheet.
 			get = func(c string) (string, error) { return sc.value(c), nil }
 		}
+	}
+	ds, err := decodeData(path, opt, get, true)
+	ds.sst, ds.sstOK = sst, sstOK
+	return ds, err
+}
+
+// dataLimits bound the scan of the hidden sheet: the columns of any
+// sheet, and the rows of the most chunks it can hold.
+var dataLimits = scanLimits{cols: maxColumns, rows: maxChunks + 3}
+
+// noData is readData for a workbook without the hidden sheet.
+func noData(path string, opt ReadOptions) (dataSheet, error) {
+	if opt.Layout != nil {
+		return fromLayout(*opt.Layout, opt.Key)
+	}
+	return dataSheet{}, &FileError{Path: path, Sheet: SheetData, Msg: "the hidden plan sheet is missing (was the data pasted into a new workbook?), so the workbook cannot be matched to its plan; give the layout it was made from: allot check " + path + " --plan layout.json (written by allot layout -o layout.json)"}
+}
+
+// decodeData checks and decodes the hidden sheet's cells, which get
+// returns by reference. keepUnits keeps the units' JSON in st.Units (Fill
+// writes the document again, so it is decoded by encoding/json alone); a
+// check needs only the decoded units.
+func decodeData(path string, opt ReadOptions, get func(string) (string, error), keepUnits bool) (dataSheet, error) {
+	fail := func(cell, msg string) error {
+		return &FileError{Path: path, Sheet: SheetData, Cell: cell, Msg: msg}
 	}
 	fp, err := get("B1")
 	if err != nil {
@@ -142,12 +161,17 @@ func readData(f *excelize.File, path string, opt ReadOptions) (dataSheet, error)
 	if err != nil || n < 1 || n > maxChunks {
 		return dataSheet{}, fail("B3", fmt.Sprintf("the chunk count %q is not a whole number from 1 to %d: the plan sheet was edited; use an unedited copy of the workbook", b3, maxChunks))
 	}
-	var doc []byte
-	for i := 0; i < n; i++ {
+	texts := make([]string, n)
+	size := 0
+	for i := range texts {
 		v, err := get(cell(1, 4+i))
 		if err != nil {
 			return dataSheet{}, fail(cell(1, 4+i), "unreadable: "+err.Error())
 		}
+		texts[i], size = v, size+len(v)
+	}
+	doc := make([]byte, 0, size)
+	for _, v := range texts {
 		doc = append(doc, v...)
 	}
 	if digest(doc) != sum {
@@ -157,18 +181,28 @@ func readData(f *excelize.File, path string, opt ReadOptions) (dataSheet, error)
 		return dataSheet{}, fail("A4", "the stored plan is not valid UTF-8 text: the plan sheet was damaged; use an unedited copy")
 	}
 	var st stored
-	if err := json.Unmarshal(doc, &st); err != nil {
-		return dataSheet{}, fail("A4", "the stored plan is not valid JSON: "+err.Error())
+	var units []design.Unit
+	ok := false
+	if !keepUnits {
+		st, units, ok = decodeStored(doc)
+	}
+	if !ok {
+		st, units = stored{}, nil
+		if err := json.Unmarshal(doc, &st); err != nil {
+			return dataSheet{}, fail("A4", "the stored plan is not valid JSON: "+err.Error())
+		}
+		if err := json.Unmarshal(st.Units, &units); err != nil {
+			return dataSheet{}, fail("A4", "the stored units are not valid JSON: "+err.Error())
+		}
+		if !keepUnits {
+			st.Units = nil
+		}
 	}
 	p, err := design.ParsePlan(st.Plan)
 	if err != nil {
 		return dataSheet{}, fail("A4", "the stored plan is not valid: "+err.Error())
 	}
-	var units []design.Unit
-	if err := json.Unmarshal(st.Units, &units); err != nil {
-		return dataSheet{}, fail("A4", "the stored units are not valid JSON: "+err.Error())
-	}
-	ds := dataSheet{st: st, chunks: n, fp: fp, sst: sst, sstOK: sstOK}
+	ds := dataSheet{st: st, chunks: n, fp: fp}
 	l := design.Layout{Plan: p, Units: units, Spares: st.Spares}
 	if opt.Layout != nil && opt.Layout.Plan.Fingerprint() != fp {
 		return dataSheet{}, fail("B1", fmt.Sprintf("the workbook's plan (fingerprint %.12s) is not the one in --plan (%.12s); give the layout this workbook was written from, or leave --plan out", fp, opt.Layout.Plan.Fingerprint()))

@@ -221,6 +221,15 @@ func Read(path string, opt ReadOptions) (*Filled, error) {
 	if err := checkKind(path); err != nil {
 		return nil, err
 	}
+	if fl, err := readParts(path, opt); err != errNoStream {
+		return fl, err
+	}
+	return readExcelize(path, opt)
+}
+
+// readExcelize is Read through excelize's copy of the package in memory,
+// for what readParts does not handle.
+func readExcelize(path string, opt ReadOptions) (*Filled, error) {
 	f, err := open(path, opt.UnzipLimit)
 	if err != nil {
 		return nil, err
@@ -231,17 +240,14 @@ func Read(path string, opt ReadOptions) (*Filled, error) {
 		return nil, err
 	}
 	if opt.Key != nil && !ds.layout.Plan.Blind && !ds.fromPlan {
-		return nil, &FileError{Path: path, Msg: "the workbook is not blind, so it has no key; leave --key out"}
+		return nil, notBlind(path)
 	}
 	rows, info, err := entryRows(f, path, ds)
 	if err != nil {
 		return nil, err
 	}
-	k := newChecker(path, SheetEntry, ds.layout, ds.labels, opt)
-	k.cellInfo = info
-	if ds.fromPlan {
-		k.add(Warning, "", "", fmt.Sprintf("the hidden plan sheet %q is missing; the rows were checked against the layout given with --plan (fingerprint %.12s) instead", SheetData, ds.layout.Plan.Fingerprint()))
-	}
+	k := entryChecker(path, ds, opt)
+	k.cellInfo = func(row, col int) cellInfo { return info(cell(col, row)) }
 	fl, err := k.run(rows)
 	if err != nil {
 		return nil, err
@@ -255,6 +261,20 @@ func Read(path string, opt ReadOptions) (*Filled, error) {
 		fl.Label = ds.st.Simulated
 	}
 	return fl, nil
+}
+
+func notBlind(path string) error {
+	return &FileError{Path: path, Msg: "the workbook is not blind, so it has no key; leave --key out"}
+}
+
+// entryChecker returns the checker of the Entry sheet for the plan sheet
+// ds as read.
+func entryChecker(path string, ds dataSheet, opt ReadOptions) *checker {
+	k := newChecker(path, SheetEntry, ds.layout, ds.labels, opt)
+	if ds.fromPlan {
+		k.add(Warning, "", "", fmt.Sprintf("the hidden plan sheet %q is missing; the rows were checked against the layout given with --plan (fingerprint %.12s) instead", SheetData, ds.layout.Plan.Fingerprint()))
+	}
+	return k
 }
 
 // open opens an .xlsx file with the unzip limits.
@@ -391,12 +411,7 @@ func ReadLayout(path string, key *design.Key) (design.Layout, error) {
 	if err := checkKind(path); err != nil {
 		return design.Layout{}, err
 	}
-	f, err := open(path, 0)
-	if err != nil {
-		return design.Layout{}, err
-	}
-	defer f.Close()
-	ds, err := readData(f, path, ReadOptions{Key: key})
+	ds, err := readPlanSheet(path, ReadOptions{Key: key})
 	if err != nil {
 		return design.Layout{}, err
 	}
@@ -405,7 +420,31 @@ func ReadLayout(path string, key *design.Key) (design.Layout, error) {
 		return design.Layout{}, &FileError{Path: path, Msg: "the workbook is blind: give its key file with --key to unblind it"}
 	}
 	if !l.Plan.Blind && key != nil {
-		return design.Layout{}, &FileError{Path: path, Msg: "the workbook is not blind, so it has no key; leave --key out"}
+		return design.Layout{}, notBlind(path)
 	}
 	return l, nil
+}
+
+// readPlanSheet opens the workbook at path and reads its hidden sheet, as
+// readData does, with the package read directly when it can be.
+func readPlanSheet(path string, opt ReadOptions) (dataSheet, error) {
+	if p, ok := openParts(path, opt.UnzipLimit); ok {
+		ds, err := func() (dataSheet, error) {
+			defer p.close()
+			sst, ok := p.sharedStrings()
+			if !ok {
+				return dataSheet{}, errNoStream
+			}
+			return p.readData(path, opt, sst)
+		}()
+		if err != errNoStream {
+			return ds, err
+		}
+	}
+	f, err := open(path, opt.UnzipLimit)
+	if err != nil {
+		return dataSheet{}, err
+	}
+	defer f.Close()
+	return readData(f, path, opt)
 }

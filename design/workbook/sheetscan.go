@@ -2,6 +2,7 @@ package workbook
 
 import (
 	"bytes"
+	"io"
 	"path"
 	"strconv"
 	"strings"
@@ -13,13 +14,16 @@ import (
 // The Entry and plan sheets are read by one streaming pass over the
 // worksheet XML (SpreadsheetML, ECMA-376 Part 1, section 18.3.1: sheetData,
 // row, c, v, is, t), resolving shared strings (section 18.4) from their own
-// single pass. excelize, which opens the package, would decode the
-// worksheet twice for a check (its row iterator for the values, its
-// in-memory worksheet for every cell's type), about 20 times the time and
-// memory. The scanner accepts the markup allot and the common spreadsheet
-// programs write; on anything else (prefixed element names, CDATA, a sheet
-// excelize keeps in a temporary file) it reports failure and the caller
-// uses excelize as before.
+// single pass. excelize would decode the worksheet twice for a check (its
+// row iterator for the values, its in-memory worksheet for every cell's
+// type), about 20 times the time and memory. The scanner accepts the markup
+// allot and the common spreadsheet programs write; on anything else
+// (prefixed element names, CDATA, a sheet excelize keeps in a temporary
+// file) it reports failure and the caller uses excelize as before.
+//
+// The scanner reads either a part already in memory (excelize's copy, for
+// Fill and the fallback) or a part streamed from the zip file (parts.go),
+// holding one buffer of the XML at a time.
 
 // scannedSheet is a worksheet's cell values by row and column (0-based),
 // as excelize's GetRows with RawCellValue gives them, and what else the
@@ -87,16 +91,16 @@ func scanSheet(f *excelize.File, name string, lim scanLimits) (*scannedSheet, bo
 // sharedStrings scans the workbook's shared strings (nil without any);
 // ok is false when the fast path does not apply. A check reads two sheets
 // with one table: scan it once.
-func sharedStrings(f *excelize.File) ([]string, bool) {
+func sharedStrings(f *excelize.File) (*sstTable, bool) {
 	sb, ok := pkgBytes(f, sharedStringsPart(f))
 	if !ok {
 		return nil, true
 	}
-	return scanSharedStrings(sb)
+	return readSST(&xmlScanner{b: sb}, len(sb))
 }
 
 // scanSheetWith is scanSheet with the shared strings already scanned.
-func scanSheetWith(f *excelize.File, name string, sst []string, lim scanLimits) (*scannedSheet, bool) {
+func scanSheetWith(f *excelize.File, name string, sst *sstTable, lim scanLimits) (*scannedSheet, bool) {
 	part, ok := sheetPart(f, name)
 	if !ok {
 		return nil, false
@@ -105,7 +109,7 @@ func scanSheetWith(f *excelize.File, name string, sst []string, lim scanLimits) 
 	if !ok {
 		return nil, false
 	}
-	return scanWorksheet(b, sst, lim)
+	return collectSheet(&xmlScanner{b: b}, sst, lim)
 }
 
 func pkgBytes(f *excelize.File, name string) ([]byte, bool) {
@@ -171,24 +175,86 @@ func sharedStringsPart(f *excelize.File) string {
 	return "xl/sharedStrings.xml"
 }
 
+// sstTable is the shared string table kept compactly: the strings one
+// after another in buf, string i ending at end[i]. A []string of the
+// 110,000 strings of a 100,000-unit workbook costs a string header and an
+// allocation each besides the text.
+type sstTable struct {
+	buf []byte
+	end []int
+}
+
+func (t *sstTable) len() int {
+	if t == nil {
+		return 0
+	}
+	return len(t.end)
+}
+
+// bytes returns string i (valid while the table is).
+func (t *sstTable) bytes(i int) []byte {
+	from := 0
+	if i > 0 {
+		from = t.end[i-1]
+	}
+	return t.buf[from:t.end[i]:t.end[i]]
+}
+
+// add appends s, doubling the buffer when it is full (append grows a
+// large slice by a quarter at a time, copying the table over and over).
+func (t *sstTable) add(s []byte) {
+	if len(t.buf)+len(s) > cap(t.buf) {
+		nb := make([]byte, len(t.buf), 2*cap(t.buf)+len(s)+4<<10)
+		copy(nb, t.buf)
+		t.buf = nb
+	}
+	if len(t.end) == cap(t.end) {
+		ne := make([]int, len(t.end), 2*cap(t.end)+1<<10)
+		copy(ne, t.end)
+		t.end = ne
+	}
+	t.buf = append(t.buf, s...)
+	t.end = append(t.end, len(t.buf))
+}
+
+// tableOf makes a table of strings.
+func tableOf(ss []string) *sstTable {
+	t := &sstTable{}
+	for _, s := range ss {
+		t.add([]byte(s))
+	}
+	return t
+}
+
 // scanSharedStrings returns the shared string table: each si's text runs
 // concatenated, phonetic runs (rPh) left out.
 func scanSharedStrings(b []byte) ([]string, bool) {
-	var out []string
+	t, ok := readSST(&xmlScanner{b: b}, len(b))
+	if !ok {
+		return nil, false
+	}
+	out := make([]string, t.len())
+	for i := range out {
+		out[i] = string(t.bytes(i))
+	}
+	return out, true
+}
+
+// readSST reads a shared-strings part into a table; size, when not 0, is
+// the part's size, which bounds the text it holds (the table's buffer is
+// made that large at once, not grown by copies).
+func readSST(sc *xmlScanner, size int) (*sstTable, bool) {
+	t := &sstTable{buf: make([]byte, 0, size)}
 	var cur []byte
 	inSI, inPh := false, false
-	sc := xmlScanner{b: b}
 	for sc.next() {
-		if sc.bad {
-			return nil, false
-		}
 		switch string(sc.name) {
 		case "si":
 			if sc.end {
-				out = append(out, string(cur))
+				t.add(cur)
 				inSI = false
 			} else if sc.selfClose {
-				out = append(out, "")
+				t.add(nil)
 			} else {
 				inSI, cur = true, cur[:0]
 			}
@@ -196,156 +262,193 @@ func scanSharedStrings(b []byte) ([]string, bool) {
 			inPh = !sc.end && !sc.selfClose
 		case "t":
 			if sc.end && inSI && !inPh {
-				cur = append(cur, sc.textBefore()...)
+				cur = sc.appendText(cur)
 			}
 		}
 	}
-	return out, !sc.bad
+	if sc.failed() {
+		return nil, false
+	}
+	return t, true
 }
 
 // scanWorksheet reads the cells of a worksheet part.
 func scanWorksheet(b []byte, sst []string, lim scanLimits) (*scannedSheet, bool) {
+	return collectSheet(&xmlScanner{b: b}, tableOf(sst), lim)
+}
+
+// collectSheet reads every row of a worksheet into a scannedSheet.
+func collectSheet(sc *xmlScanner, sst *sstTable, lim scanLimits) (*scannedSheet, bool) {
 	s := &scannedSheet{}
-	var row []string
-	var meta []cellMeta
-	rowNum, content := 0, 0
-	inRow, inCell, inIs, inPh, inF := false, false, false, false, false
-	var ref, typ []byte
-	var val, formula []byte
-	var style int32
-	haveV, haveF, sharedF := false, false, false
-	sc := xmlScanner{b: b}
-	finishCell := func() bool {
-		col := len(row) + 1
-		if len(ref) > 0 {
-			c, _, err := excelize.CellNameToCoordinates(string(ref))
-			if err != nil || c < len(row)+1 {
-				return false
-			}
-			col = c
+	r := sheetReader{sc: sc, sst: sst, lim: lim}
+	ok := r.read(func() {
+		var row []string
+		var meta []cellMeta
+		if r.n > 0 {
+			row = r.cells(make([]string, 0, r.n))
+			meta = append(meta, r.meta...)
 		}
-		if lim.cols > 0 && col > lim.cols {
-			s.wide = cell(col, rowNum)
-			return true
-		}
-		for len(row) < col-1 {
-			row = append(row, "")
-			meta = append(meta, cellMeta{})
-		}
-		v := ""
-		switch string(typ) {
-		case "s":
-			if haveV {
-				i, err := strconv.Atoi(string(val))
-				if err != nil || i < 0 || i >= len(sst) {
-					return false
-				}
-				v = sst[i]
-			}
-		default:
-			v = string(val)
-		}
-		if haveF {
+		if r.anyF {
 			if s.formulas == nil {
 				s.formulas, s.shared = map[[2]int]string{}, map[[2]int]bool{}
 			}
-			at := [2]int{rowNum - 1, col - 1}
-			if len(formula) > 0 {
-				s.formulas[at] = string(formula)
-			} else if sharedF {
-				s.shared[at] = true
+			for c := range r.form {
+				at := [2]int{r.num - 1, c}
+				if r.form[c] != "" {
+					s.formulas[at] = r.form[c]
+				} else if r.shrd[c] {
+					s.shared[at] = true
+				}
 			}
 		}
-		row = append(row, v)
-		meta = append(meta, cellMeta{kind: kindOf(typ), style: style})
-		return true
+		s.put(r.num, row, meta)
+	})
+	if !ok {
+		return nil, false
 	}
+	s.wide, s.many = r.wide, r.many
+	return s, true
+}
+
+// sheetReader reads a worksheet one row at a time. Of each row it keeps
+// the cells of the first keep columns (all when keep is 0): their values
+// as excelize's GetRows with RawCellValue gives them, their stored types
+// and styles and their formulas.
+type sheetReader struct {
+	sc   *xmlScanner
+	sst  *sstTable
+	lim  scanLimits
+	keep int
+
+	// The row just read: its 1-based number and its cell count (the
+	// column of its last cell, gaps included); of its kept cells the
+	// values, one after another in vals with cell j ending at ends[j],
+	// the types and styles, the formula texts (or "") and whether a cell
+	// belongs to a shared formula whose text is in another cell. anyF
+	// says whether any kept cell has a formula.
+	num  int
+	n    int
+	vals []byte
+	ends []int
+	meta []cellMeta
+	form []string
+	shrd []bool
+	anyF bool
+
+	// wide is the reference of a cell beyond lim.cols, and many the row
+	// past lim.rows rows with content; reading stopped there.
+	wide string
+	many int
+
+	// The cell being read: its reference and type as written (copied
+	// from the scanner's buffer, which moves on), value and formula.
+	ref, typ     []byte
+	val, fo      []byte
+	style        int32
+	haveV, haveF bool
+	sharedF      bool
+}
+
+// read calls row after each row the sheet has (with or without cells) and
+// reports whether the scan applied. It stops early after a cell beyond
+// lim.cols or past lim.rows rows with content (wide or many says which).
+func (r *sheetReader) read(row func()) bool {
+	sc := r.sc
+	content := 0
+	inRow, inCell, inIs, inPh, inF := false, false, false, false, false
 	for sc.next() {
-		if sc.bad {
-			return nil, false
-		}
-		if s.wide != "" {
-			return s, true
+		if r.wide != "" {
+			return true
 		}
 		switch string(sc.name) {
 		case "row":
 			if sc.end {
 				if !inRow {
-					return nil, false
+					return false
 				}
 				inRow = false
-				if len(row) > 0 {
-					if content++; lim.rows > 0 && content > lim.rows {
-						s.many = rowNum
-						return s, true
+				if r.n > 0 {
+					if content++; r.lim.rows > 0 && content > r.lim.rows {
+						r.many = r.num
+						return true
 					}
 				}
-				s.put(rowNum, row, meta)
+				row()
 				continue
 			}
-			n := rowNum + 1
-			if r := sc.attr("r"); r != nil {
-				v, err := strconv.Atoi(string(r))
-				if err != nil || v <= rowNum || v > excelize.TotalRows {
-					return nil, false
+			n := r.num + 1
+			if a := sc.attr("r"); a != nil {
+				v, ok := atoi(a)
+				if !ok || v <= r.num || v > excelize.TotalRows {
+					return false
 				}
 				n = v
 			}
-			rowNum = n
-			row, meta = nil, nil
+			r.num = n
+			r.startRow()
 			if sc.selfClose {
-				s.put(rowNum, nil, nil)
+				row()
 				continue
 			}
 			inRow = true
 		case "c":
 			if !inRow {
-				return nil, false
+				return false
 			}
 			if sc.end {
-				if !finishCell() {
-					return nil, false
+				if !r.finishCell() {
+					return false
 				}
 				inCell = false
 				continue
 			}
 			// The cell's attributes in one pass: reference, type, style.
 			var st []byte
-			ref, typ = nil, nil
-			sc.cellAttrs(func(k, v []byte) bool {
+			haveRef, haveTyp := false, false
+			for a := sc.attrs; ; {
+				k, v, rest, ok := nextAttr(a)
+				if !ok {
+					break
+				}
+				a = rest
 				if len(k) == 1 {
 					switch k[0] {
 					case 'r':
-						ref = v
+						r.ref, haveRef = append(r.ref[:0], v...), true
 					case 't':
-						typ = v
+						r.typ, haveTyp = append(r.typ[:0], v...), true
 					case 's':
 						st = v
 					}
 				}
-				return true
-			})
-			style = 0
-			if st != nil {
-				v, err := strconv.Atoi(string(st))
-				if err != nil || v < 0 || v > 1<<30 {
-					return nil, false
-				}
-				style = int32(v)
 			}
-			val, haveV = val[:0], false
-			formula, haveF, sharedF, inF = formula[:0], false, false, false
+			if !haveRef {
+				r.ref = r.ref[:0]
+			}
+			if !haveTyp {
+				r.typ = r.typ[:0]
+			}
+			r.style = 0
+			if st != nil {
+				v, ok := atoi(st)
+				if !ok || v < 0 || v > 1<<30 {
+					return false
+				}
+				r.style = int32(v)
+			}
+			r.val, r.haveV = r.val[:0], false
+			r.fo, r.haveF, r.sharedF, inF = r.fo[:0], false, false, false
 			if sc.selfClose {
-				if !finishCell() {
-					return nil, false
+				if !r.finishCell() {
+					return false
 				}
 				continue
 			}
 			inCell = true
 		case "v":
 			if sc.end && inCell {
-				val = append(val[:0], sc.textBefore()...)
-				haveV = true
+				r.val = sc.appendText(r.val[:0])
+				r.haveV = true
 			}
 		case "f":
 			if !inCell {
@@ -354,31 +457,163 @@ func scanWorksheet(b []byte, sst []string, lim scanLimits) (*scannedSheet, bool)
 			switch {
 			case sc.end:
 				if inF {
-					formula = append(formula[:0], sc.textBefore()...)
+					r.fo = sc.appendText(r.fo[:0])
 				}
 				inF = false
 			default:
-				haveF = true
-				sharedF = string(sc.attr("t")) == "shared"
+				r.haveF = true
+				r.sharedF = string(sc.attr("t")) == "shared"
 				inF = !sc.selfClose
 			}
 		case "is":
 			inIs = inCell && !sc.end && !sc.selfClose
 			if inIs {
-				val = val[:0]
+				r.val = r.val[:0]
 			}
 		case "rPh":
 			inPh = !sc.end && !sc.selfClose
 		case "t":
 			if sc.end && inIs && !inPh {
-				val = append(val, sc.textBefore()...)
+				r.val = sc.appendText(r.val)
 			}
 		}
 	}
-	if sc.bad || inRow {
-		return nil, false
+	if sc.failed() || inRow {
+		return false
 	}
-	return s, true
+	return true
+}
+
+// startRow empties the current row.
+func (r *sheetReader) startRow() {
+	r.n, r.anyF = 0, false
+	r.vals, r.ends, r.meta = r.vals[:0], r.ends[:0], r.meta[:0]
+	r.form, r.shrd = r.form[:0], r.shrd[:0]
+}
+
+// kept reports whether column col (1-based) is kept.
+func (r *sheetReader) kept(col int) bool { return r.keep == 0 || col <= r.keep }
+
+// pad adds an empty kept cell.
+func (r *sheetReader) pad() {
+	r.ends = append(r.ends, len(r.vals))
+	r.meta = append(r.meta, cellMeta{})
+	r.form = append(r.form, "")
+	r.shrd = append(r.shrd, false)
+}
+
+// finishCell adds the cell just read to the row; false when the scan does
+// not apply (a reference that is not a cell or not after the row's last
+// one, a shared string that is not in the table).
+func (r *sheetReader) finishCell() bool {
+	col := r.n + 1
+	if len(r.ref) > 0 {
+		c, ok := refColumn(r.ref)
+		if !ok || c < r.n+1 {
+			return false
+		}
+		col = c
+	}
+	if r.lim.cols > 0 && col > r.lim.cols {
+		r.wide = cell(col, r.num)
+		return true
+	}
+	for r.n < col-1 {
+		if !r.kept(r.n + 1) {
+			r.n = col - 1
+			break
+		}
+		r.pad()
+		r.n++
+	}
+	keep := r.kept(col)
+	switch string(r.typ) {
+	case "s":
+		if r.haveV {
+			i, ok := atoi(r.val)
+			if !ok || i < 0 || i >= r.sst.len() {
+				return false
+			}
+			if keep {
+				r.vals = append(r.vals, r.sst.bytes(i)...)
+			}
+		}
+	default:
+		if keep {
+			r.vals = append(r.vals, r.val...)
+		}
+	}
+	r.n = col
+	if !keep {
+		return true
+	}
+	r.pad()
+	j := col - 1
+	r.ends[j] = len(r.vals)
+	r.meta[j] = cellMeta{kind: kindOf(r.typ), style: r.style}
+	if r.haveF {
+		if len(r.fo) > 0 {
+			r.form[j], r.anyF = string(r.fo), true
+		} else if r.sharedF {
+			r.shrd[j], r.anyF = true, true
+		}
+	}
+	return true
+}
+
+// cells returns the kept cells' values, appended to dst, as substrings of
+// one string.
+func (r *sheetReader) cells(dst []string) []string {
+	s := string(r.vals)
+	from := 0
+	for _, e := range r.ends {
+		dst = append(dst, s[from:e])
+		from = e
+	}
+	return dst
+}
+
+// refColumn returns the column of a cell reference as
+// excelize.CellNameToCoordinates accepts it.
+func refColumn(ref []byte) (int, bool) {
+	// The common form, upper-case letters and a row without leading
+	// zeros, directly; anything else as excelize reads it.
+	col, i := 0, 0
+	for ; i < len(ref) && i < 3 && ref[i] >= 'A' && ref[i] <= 'Z'; i++ {
+		col = col*26 + int(ref[i]-'A'+1)
+	}
+	if i > 0 && i < len(ref) && len(ref)-i <= 7 && ref[i] != '0' && col <= excelize.MaxColumns {
+		row := 0
+		for _, ch := range ref[i:] {
+			if ch < '0' || ch > '9' {
+				row = -1
+				break
+			}
+			row = row*10 + int(ch-'0')
+		}
+		if row > 0 && row <= excelize.TotalRows {
+			return col, true
+		}
+	}
+	c, _, err := excelize.CellNameToCoordinates(string(ref))
+	return c, err == nil
+}
+
+// atoi is strconv.Atoi of b.
+func atoi(b []byte) (int, bool) {
+	if len(b) > 0 && len(b) < 10 {
+		n := 0
+		for _, ch := range b {
+			if ch < '0' || ch > '9' {
+				goto slow
+			}
+			n = n*10 + int(ch-'0')
+		}
+		return n, true
+	}
+slow:
+	n, err := strconv.Atoi(string(b))
+	return n, err == nil
 }
 
 // kindOf maps a cell's t attribute to its kind, as excelize's GetCellType
@@ -409,10 +644,16 @@ func (s *scannedSheet) put(n int, row []string, meta []cellMeta) {
 
 // xmlScanner walks the tags of an XML document written without namespace
 // prefixes on elements. For each tag it gives the name, whether it ends or
-// closes itself, its attributes and the character data before it.
+// closes itself, its attributes and the character data before it; these
+// slices of its buffer are valid until the next call of next.
+//
+// The document is b, or, when src is set, read from src into b a buffer at
+// a time.
 type xmlScanner struct {
 	b         []byte
 	i         int
+	src       io.Reader
+	err       error // what ended reading src (io.EOF at its end)
 	name      []byte
 	attrs     []byte
 	end       bool
@@ -422,6 +663,43 @@ type xmlScanner struct {
 	textTo    int
 }
 
+// scanBuffer is the size of a streaming scanner's first buffer; it grows
+// when a tag and the text before it do not fit.
+const scanBuffer = 256 << 10
+
+// more reads more of src into b, keeping b[keep:] (moved to the front);
+// false at the end of src or on a read error.
+func (s *xmlScanner) more(keep int) bool {
+	if s.src == nil || s.err != nil {
+		return false
+	}
+	n := copy(s.b[:cap(s.b)], s.b[keep:])
+	s.b = s.b[:n]
+	s.i -= keep
+	if cap(s.b)-n < scanBuffer/2 {
+		nb := make([]byte, n, 2*cap(s.b)+scanBuffer)
+		copy(nb, s.b)
+		s.b = nb
+	}
+	for {
+		m, err := s.src.Read(s.b[n:cap(s.b)])
+		s.b = s.b[:n+m]
+		if err != nil {
+			s.err = err
+			return m > 0
+		}
+		if m > 0 {
+			return true
+		}
+	}
+}
+
+// failed reports whether the scan stopped on markup it does not handle or
+// on an error reading src.
+func (s *xmlScanner) failed() bool {
+	return s.bad || s.err != nil && s.err != io.EOF
+}
+
 // next moves to the next element tag; false at the end or on markup the
 // scanner does not handle (bad is then set).
 func (s *xmlScanner) next() bool {
@@ -429,130 +707,192 @@ func (s *xmlScanner) next() bool {
 		start := s.i
 		j := bytes.IndexByte(s.b[s.i:], '<')
 		if j < 0 {
+			if s.more(start) {
+				continue
+			}
 			return false
 		}
-		s.textFrom, s.textTo = start, s.i+j
-		s.i += j
-		rest := s.b[s.i:]
+		lt := s.i + j
+		rest := s.b[lt:]
+		if len(rest) < 4 && s.more(start) {
+			continue // room to tell a comment from a tag
+		}
 		switch {
-		case bytes.HasPrefix(rest, []byte("<?")):
+		case len(rest) >= 2 && rest[1] == '?':
 			k := bytes.Index(rest, []byte("?>"))
 			if k < 0 {
+				if s.more(start) {
+					continue
+				}
 				s.bad = true
 				return false
 			}
-			s.i += k + 2
+			s.i = lt + k + 2
 			continue
-		case bytes.HasPrefix(rest, []byte("<!--")):
+		case len(rest) >= 4 && rest[1] == '!' && rest[2] == '-' && rest[3] == '-':
 			k := bytes.Index(rest, []byte("-->"))
 			if k < 0 {
+				if s.more(start) {
+					continue
+				}
 				s.bad = true
 				return false
 			}
-			s.i += k + 3
+			s.i = lt + k + 3
 			continue
-		case bytes.HasPrefix(rest, []byte("<!")):
+		case len(rest) >= 2 && rest[1] == '!':
 			s.bad = true // CDATA or a document type
 			return false
 		}
-		k := bytes.IndexByte(rest, '>')
-		if k < 0 {
+		// The tag up to the first '>', in one pass: where its name ends
+		// (the first space, tab, CR or LF) and whether a quote is open at
+		// that '>' (then it is inside an attribute value).
+		var q byte
+		sp, k := -1, 1
+		for ; k < len(rest); k++ {
+			c := rest[k]
+			if c == '>' {
+				break
+			}
+			switch c {
+			case '"', '\'':
+				if q == 0 {
+					q = c
+				} else if c == q {
+					q = 0
+				}
+			case ' ', '\t', '\r', '\n':
+				if sp < 0 {
+					sp = k
+				}
+			}
+		}
+		if k == len(rest) {
+			if s.more(start) {
+				continue
+			}
 			s.bad = true
 			return false
 		}
-		tag := rest[1:k]
-		s.i += k + 1
-		s.end = len(tag) > 0 && tag[0] == '/'
+		s.textFrom, s.textTo = start, lt
+		s.i = lt + k + 1
+		from, to := 1, k // the tag without its '/'s
+		s.end = to > from && rest[from] == '/'
 		if s.end {
-			tag = tag[1:]
+			from++
 		}
-		s.selfClose = len(tag) > 0 && tag[len(tag)-1] == '/'
+		s.selfClose = to > from && rest[to-1] == '/'
 		if s.selfClose {
-			tag = tag[:len(tag)-1]
+			to--
 		}
-		n := bytes.IndexAny(tag, " \t\r\n")
-		if n < 0 {
-			s.name, s.attrs = tag, nil
+		if sp >= from && sp < to {
+			s.name, s.attrs = rest[from:sp], rest[sp:to]
 		} else {
-			s.name, s.attrs = tag[:n], tag[n:]
+			s.name, s.attrs = rest[from:to], nil
 		}
-		if bytes.IndexByte(s.name, ':') >= 0 && !bytes.HasPrefix(s.name, []byte("mc:")) && !bytes.HasPrefix(s.name, []byte("x14")) {
+		if prefixed(s.name) {
 			s.bad = true // a prefixed SpreadsheetML element
 			return false
 		}
-		if bytes.IndexByte(tag, '"') < 0 && bytes.IndexByte(tag, '\'') < 0 || balancedQuotes(tag) {
-			return true
-		}
-		s.bad = true // a '>' inside an attribute value
-		return false
-	}
-}
-
-func balancedQuotes(tag []byte) bool {
-	var q byte
-	for _, c := range tag {
-		switch {
-		case q == 0 && (c == '"' || c == '\''):
-			q = c
-		case c == q:
-			q = 0
-		}
-	}
-	return q == 0
-}
-
-// attr returns the raw value of attribute key, or nil.
-func (s *xmlScanner) attr(key string) []byte {
-	var out []byte
-	s.cellAttrs(func(k, v []byte) bool {
-		if string(k) == key {
-			out = v
+		if q != 0 {
+			s.bad = true // a '>' inside an attribute value
 			return false
 		}
 		return true
-	})
-	return out
-}
-
-// cellAttrs calls fn with each attribute's name and value (entities
-// resolved) until fn returns false.
-func (s *xmlScanner) cellAttrs(fn func(k, v []byte) bool) {
-	a := s.attrs
-	for len(a) > 0 {
-		a = bytes.TrimLeft(a, " \t\r\n")
-		eq := bytes.IndexByte(a, '=')
-		if eq < 0 {
-			return
-		}
-		k := bytes.TrimSpace(a[:eq])
-		a = bytes.TrimLeft(a[eq+1:], " \t\r\n")
-		if len(a) == 0 || a[0] != '"' && a[0] != '\'' {
-			return
-		}
-		q := a[0]
-		e := bytes.IndexByte(a[1:], q)
-		if e < 0 {
-			return
-		}
-		v := a[1 : 1+e]
-		a = a[e+2:]
-		if bytes.IndexByte(v, '&') >= 0 {
-			v = []byte(unescapeXML(v))
-		}
-		if !fn(k, v) {
-			return
-		}
 	}
 }
 
-// textBefore returns the character data before the current tag, with
-// entities resolved.
-func (s *xmlScanner) textBefore() []byte {
-	t := s.b[s.textFrom:s.textTo]
-	if bytes.IndexByte(t, '&') < 0 {
-		return t
+// prefixed reports whether an element name has a namespace prefix other
+// than the markup-compatibility and Office 2010 ones, which the scanner
+// passes over.
+func prefixed(name []byte) bool {
+	for _, c := range name {
+		if c == ':' {
+			return !bytes.HasPrefix(name, []byte("mc:")) && !bytes.HasPrefix(name, []byte("x14"))
+		}
 	}
-	return []byte(unescapeXML(t))
+	return false
+}
+
+// trimSpaceLeft drops leading spaces, tabs, CRs and LFs.
+func trimSpaceLeft(b []byte) []byte {
+	for len(b) > 0 && (b[0] == ' ' || b[0] == '\t' || b[0] == '\r' || b[0] == '\n') {
+		b = b[1:]
+	}
+	return b
+}
+
+// attr returns the value of attribute key (entities resolved), or nil.
+func (s *xmlScanner) attr(key string) []byte {
+	for a := s.attrs; ; {
+		k, v, rest, ok := nextAttr(a)
+		if !ok {
+			return nil
+		}
+		if string(k) == key {
+			return v
+		}
+		a = rest
+	}
+}
+
+// nextAttr returns the first attribute of a (a tag's attributes), its
+// value with entities resolved, and the attributes after it; ok is false
+// when there is none.
+func nextAttr(a []byte) (k, v, rest []byte, ok bool) {
+	a = trimSpaceLeft(a)
+	eq := 0
+	for eq < len(a) && a[eq] != '=' {
+		eq++
+	}
+	if eq == len(a) {
+		return nil, nil, nil, false
+	}
+	k = trimSpace(a[:eq])
+	a = trimSpaceLeft(a[eq+1:])
+	if len(a) == 0 || a[0] != '"' && a[0] != '\'' {
+		return nil, nil, nil, false
+	}
+	q, e := a[0], 1
+	for e < len(a) && a[e] != q {
+		e++
+	}
+	if e == len(a) {
+		return nil, nil, nil, false
+	}
+	v = a[1:e]
+	for _, c := range v {
+		if c == '&' {
+			v = appendUnescaped(nil, v)
+			break
+		}
+	}
+	return k, v, a[e+1:], true
+}
+
+// trimSpace is bytes.TrimSpace, with ASCII spaces trimmed directly.
+func trimSpace(b []byte) []byte {
+	for len(b) > 0 && asciiSpace(b[0]) {
+		b = b[1:]
+	}
+	for len(b) > 0 && asciiSpace(b[len(b)-1]) {
+		b = b[:len(b)-1]
+	}
+	if len(b) > 0 && (b[0] >= utf8.RuneSelf || b[len(b)-1] >= utf8.RuneSelf) {
+		return bytes.TrimSpace(b)
+	}
+	return b
+}
+
+// asciiSpace reports whether c is an ASCII space as unicode.IsSpace has it.
+func asciiSpace(c byte) bool {
+	return c == ' ' || c == '\t' || c == '\n' || c == '\v' || c == '\f' || c == '\r'
+}
+
+// appendText appends the character data before the current tag, with
+// entities resolved, to dst.
+func (s *xmlScanner) appendText(dst []byte) []byte {
+	return appendUnescaped(dst, s.b[s.textFrom:s.textTo])
 }
 
 // unescapeXML resolves the predefined and numeric character references.
@@ -560,50 +900,83 @@ func unescapeXML(b []byte) string {
 	if bytes.IndexByte(b, '&') < 0 {
 		return string(b)
 	}
-	var out strings.Builder
+	return string(appendUnescaped(nil, b))
+}
+
+// appendUnescaped appends b to dst with the predefined and numeric
+// character references resolved; a reference it does not know, or one
+// without its ';', is kept as it is.
+func appendUnescaped(dst, b []byte) []byte {
 	for len(b) > 0 {
 		i := bytes.IndexByte(b, '&')
 		if i < 0 {
-			out.Write(b)
-			break
+			return append(dst, b...)
 		}
-		out.Write(b[:i])
+		dst = append(dst, b[:i]...)
 		b = b[i:]
 		j := bytes.IndexByte(b, ';')
 		if j < 0 {
-			out.Write(b)
-			break
+			return append(dst, b...)
 		}
-		ent := string(b[1:j])
+		ent := b[1:j]
+		lit := b[:j+1]
 		b = b[j+1:]
-		switch ent {
+		switch string(ent) {
 		case "amp":
-			out.WriteByte('&')
+			dst = append(dst, '&')
 		case "lt":
-			out.WriteByte('<')
+			dst = append(dst, '<')
 		case "gt":
-			out.WriteByte('>')
+			dst = append(dst, '>')
 		case "quot":
-			out.WriteByte('"')
+			dst = append(dst, '"')
 		case "apos":
-			out.WriteByte('\'')
+			dst = append(dst, '\'')
 		default:
-			var r uint64
-			var err error
+			r, ok := rune(0), false
 			switch {
-			case strings.HasPrefix(ent, "#x"):
-				r, err = strconv.ParseUint(ent[2:], 16, 32)
-			case strings.HasPrefix(ent, "#"):
-				r, err = strconv.ParseUint(ent[1:], 10, 32)
-			default:
-				err = strconv.ErrSyntax
+			case len(ent) > 1 && ent[0] == '#' && ent[1] == 'x':
+				r, ok = charRef(ent[2:], 16)
+			case len(ent) > 0 && ent[0] == '#':
+				r, ok = charRef(ent[1:], 10)
 			}
-			if err != nil || !utf8.ValidRune(rune(r)) {
-				out.WriteString("&" + ent + ";")
+			if ok {
+				dst = utf8.AppendRune(dst, r)
 			} else {
-				out.WriteRune(rune(r))
+				dst = append(dst, lit...)
 			}
 		}
 	}
-	return out.String()
+	return dst
+}
+
+// charRef reads the digits of a numeric character reference in base 16 or
+// 10: ok when they are digits of the base (at least one) naming a valid
+// character, as strconv.ParseUint(digits, base, 32) and utf8.ValidRune
+// decide.
+func charRef(digits []byte, base int) (rune, bool) {
+	if len(digits) == 0 {
+		return 0, false
+	}
+	var v uint64
+	for _, c := range digits {
+		var d byte
+		switch {
+		case c >= '0' && c <= '9':
+			d = c - '0'
+		case base == 16 && c >= 'a' && c <= 'f':
+			d = c - 'a' + 10
+		case base == 16 && c >= 'A' && c <= 'F':
+			d = c - 'A' + 10
+		default:
+			return 0, false
+		}
+		if v <= utf8.MaxRune {
+			v = v*uint64(base) + uint64(d)
+		}
+	}
+	if v > utf8.MaxRune || !utf8.ValidRune(rune(v)) {
+		return 0, false
+	}
+	return rune(v), true
 }

@@ -15,12 +15,7 @@ func ReadView(path string) (design.View, error) {
 	if err := checkKind(path); err != nil {
 		return design.View{}, err
 	}
-	f, err := open(path, 0)
-	if err != nil {
-		return design.View{}, err
-	}
-	defer f.Close()
-	ds, err := readData(f, path, ReadOptions{})
+	ds, err := readPlanSheet(path, ReadOptions{})
 	if err != nil {
 		return design.View{}, err
 	}
@@ -28,6 +23,11 @@ func ReadView(path string) (design.View, error) {
 	if !l.Plan.Blind {
 		return l.View(), nil
 	}
+	f, err := open(path, 0)
+	if err != nil {
+		return design.View{}, err
+	}
+	defer f.Close()
 	fp, _ := f.GetCellValue(SheetData, "B1", excelize.Options{RawCellValue: true})
 	return design.View{Layout: l, Shown: ds.labels, Fingerprint: fp}, nil
 }
