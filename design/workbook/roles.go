@@ -207,15 +207,6 @@ func ReadRoles(r io.Reader, path string, roles Roles, decimalComma bool) (obs Ob
 	return obs, missing, nil
 }
 
-// trimSpace is bytes.TrimSpace, quicker for the usual field with no space
-// at either end.
-func trimSpace(b []byte) []byte {
-	if len(b) == 0 || b[0] > ' ' && b[0] < 0x80 && b[len(b)-1] > ' ' && b[len(b)-1] < 0x80 {
-		return b
-	}
-	return bytes.TrimSpace(b)
-}
-
 // unescapeBytes is UnescapeCell on bytes.
 func unescapeBytes(v []byte) []byte {
 	if len(v) > 1 && v[0] == '\'' && bytes.IndexByte([]byte("=+-@\t\r"), v[1]) >= 0 {
