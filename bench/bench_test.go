@@ -49,12 +49,14 @@ func benchCSV(b *testing.B, t Table, opt analyze.RunOptions) {
 		b.Fatal(err)
 	}
 	b.ReportAllocs()
+	peak := startPeak()
 	b.ResetTimer()
 	cpu := cpuTime()
 	for i := 0; i < b.N; i++ {
 		analyzeCSV(b, path, t, opt)
 	}
 	reportCPU(b, cpu)
+	peak.report(b)
 }
 
 // cpuTime returns the process's user and system CPU time. The benchmarks
@@ -70,7 +72,7 @@ func reportCPU(b *testing.B, start time.Duration) {
 	b.ReportMetric(float64(cpuTime()-start)/float64(b.N), "cpu-ns/op")
 }
 
-// Target: ≤ 0.3 s (issue 15).
+// Target: ≤ 0.3 s and ≤ 100 MiB peak (issue 15).
 func BenchmarkOneWayCSV1e6(b *testing.B) {
 	benchCSV(b, Inputs()["oneway1e6"], analyze.RunOptions{})
 }
@@ -95,8 +97,10 @@ func BenchmarkLayoutXLSX1e5(b *testing.B) {
 	p := BigPlan(100_000)
 	dir := b.TempDir()
 	b.ReportAllocs()
+	peak := startPeak()
 	b.ResetTimer()
 	cpu := cpuTime()
+	defer peak.report(b)
 	defer reportCPU(b, cpu)
 	for i := 0; i < b.N; i++ {
 		l, err := randomize.Assign(p)
@@ -116,8 +120,10 @@ func BenchmarkCheck1e5(b *testing.B) {
 		b.Fatal(err)
 	}
 	b.ReportAllocs()
+	peak := startPeak()
 	b.ResetTimer()
 	cpu := cpuTime()
+	defer peak.report(b)
 	defer reportCPU(b, cpu)
 	for i := 0; i < b.N; i++ {
 		fl, err := workbook.Read(path, workbook.ReadOptions{})
