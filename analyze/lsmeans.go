@@ -42,13 +42,29 @@ func code(l, levels, j int) float64 {
 }
 
 // cellContrast returns the coefficient vector of the cell (level la of
-// factor 0, level lb of factor 1), averaged over every other term. The
-// interaction columns are the products of the main-effect columns, the
-// first factor's index varying slowest, as buildModel makes them.
-func (e *estimates) cellContrast(la, lb int) []float64 {
+// factor 0, level lb of factor 1), averaged over every other term.
+func (e *estimates) cellContrast(la, lb int) []float64 { return e.pairContrast(0, 1, la, lb) }
+
+// hasPair reports whether the model has the interaction of factors fa and
+// fb, so that pairContrast can form their cells.
+func (e *estimates) hasPair(fa, fb int) bool {
+	_, ok := e.pair[[2]int{min(fa, fb), max(fa, fb)}]
+	return ok
+}
+
+// pairContrast returns the coefficient vector of the cell (level la of
+// factor fa, level lb of factor fb), averaged over every other term: with
+// sum-to-zero coding the columns of the other terms average to zero over
+// a balanced grid of their levels. The interaction columns are the
+// products of the main-effect columns, the lower-numbered factor's index
+// varying slowest, as buildModel makes them.
+func (e *estimates) pairContrast(fa, fb, la, lb int) []float64 {
+	if fa > fb {
+		fa, fb, la, lb = fb, fa, lb, la
+	}
 	c := make([]float64, len(e.b))
 	c[0] = 1
-	ra, rb, rab := e.main[0], e.main[1], e.pair[[2]int{0, 1}]
+	ra, rb, rab := e.main[fa], e.main[fb], e.pair[[2]int{fa, fb}]
 	na, nb := ra[1]-ra[0], rb[1]-rb[0]
 	for i := 0; i < na; i++ {
 		c[ra[0]+i] = code(la, na+1, i)
@@ -62,6 +78,27 @@ func (e *estimates) cellContrast(la, lb int) []float64 {
 		}
 	}
 	return c
+}
+
+// lsMean returns the least-squares mean that contrast c gives, and its
+// standard error.
+func (t *Table) lsMean(c []float64) (mean, se float64) {
+	e := t.est
+	var m float64
+	for i := range c {
+		m += c[i] * e.b[i]
+	}
+	return e.shift + e.scale*m, t.ResidSD * math.Sqrt(e.quad(c))
+}
+
+// lsDiffSE returns the standard error of the difference of the least-squares
+// means that contrasts a and b give.
+func (t *Table) lsDiffSE(a, b []float64) float64 {
+	d := make([]float64, len(a))
+	for i := range a {
+		d[i] = a[i] - b[i]
+	}
+	return t.ResidSD * math.Sqrt(t.est.quad(d))
 }
 
 // LSCells returns the least-squares means of the cells of the first two

@@ -573,19 +573,45 @@ func simpleEffects(d Data, t *Table) ([]*PostHoc, error) {
 				continue
 			}
 			tq := tCrit975(t)
+			// The cells' least-squares means (averaged with equal weights
+			// over the other factors and the blocks) when the model has
+			// the pair's interaction and no empty cell; else the raw cell
+			// means, which are those means in a two-factor design without
+			// blocks.
+			var contrasts [][]float64
+			ls := !t.EmptyCells && t.est != nil && t.est.hasPair(ai, bi)
 			for i := range groups {
 				g := &groups[i]
 				g.Term = d.Factors[ai].Name + " within " + d.Factors[bi].Name + " = " + blName
 				g.LSMean, g.SE = g.Mean, t.ResidSD/math.Sqrt(float64(g.N))
+				if ls {
+					c := t.est.pairContrast(ai, bi, levelIndex(m.levels[ai], g.Level), bl)
+					contrasts = append(contrasts, c)
+					g.LSMean, g.SE = t.lsMean(c)
+				}
 				g.Lower, g.Upper = g.LSMean-tq*g.SE, g.LSMean+tq*g.SE
 			}
-			ph := tukeyGroups(groups, t, d.Factors[ai].Name, rawSE(groups, t))
+			se := rawSE(groups, t)
+			if ls {
+				se = func(i, j int) float64 { return t.lsDiffSE(contrasts[i], contrasts[j]) }
+			}
+			ph := tukeyGroups(groups, t, d.Factors[ai].Name, se)
 			ph.Within = d.Factors[bi].Name + " = " + blName
 			addLetters(ph)
 			out = append(out, ph)
 		}
 	}
 	return out, nil
+}
+
+// levelIndex returns the position of level name in levels (−1 if absent).
+func levelIndex(levels []string, name string) int {
+	for i, l := range levels {
+		if l == name {
+			return i
+		}
+	}
+	return -1
 }
 
 // byPos sorts groups by the position of their first observation.

@@ -91,8 +91,34 @@ def anova(rows, nfac, blocked, blockint=False):
                 v = np.asarray(dmatrix(fit.model.data.design_info, pd.DataFrame(grid))).mean(axis=0)
                 cells.append({"p": lp, "q": lq, "mean": float(v @ params), "se": float(np.sqrt(v @ covp @ v))})
     out["lscells"] = cells
-    out["studentized"] = [float(v) for v in fit.get_influence().resid_studentized_internal]
-    out["deleted"] = [float(v) for v in fit.get_influence().resid_studentized_external]
+    # Least-squares means of the cells of every pair of factors (averaged
+    # over the third factor and the blocks), and the standard error of the
+    # difference of every two cells of a pair: the simple effects compare
+    # the cells that share a level of one of the two.
+    pairs = []
+    for i, j in it.combinations(range(nfac), 2):
+        fi, fj = cols[i], cols[j]
+        rest = [c for c in cols if c not in (fi, fj)]
+        pc, pv = [], []
+        for li in levels[fi]:
+            for lj in levels[fj]:
+                grid = []
+                for combo in it.product(*[levels[c] for c in rest]):
+                    g = dict(zip(rest, combo))
+                    g[fi], g[fj] = li, lj
+                    grid.append(g)
+                v = np.asarray(dmatrix(fit.model.data.design_info, pd.DataFrame(grid)[cols])).mean(axis=0)
+                pc.append({"a": li, "b": lj, "mean": float(v @ params), "se": float(np.sqrt(v @ covp @ v))})
+                pv.append(v)
+        pairs.append({"factors": [i, j], "cells": pc,
+                      "diff_se": [[float(np.sqrt((x - y) @ covp @ (x - y))) for y in pv] for x in pv]})
+    out["lspairs"] = pairs
+    # A unit alone in its cell (leverage 1) has no studentized residual:
+    # statsmodels gives rounding noise or NaN there, written as null.
+    def finite(v):
+        return float(v) if np.isfinite(v) else None
+    out["studentized"] = [finite(v) for v in fit.get_influence().resid_studentized_internal]
+    out["deleted"] = [finite(v) for v in fit.get_influence().resid_studentized_external]
     out["leverage"] = [float(v) for v in fit.get_influence().hat_matrix_diag]
     return out, float(fit.rsquared)
 
@@ -115,9 +141,11 @@ def case(name, levels, reps, blocks=0, drop=(), with_tukey=False, blockint=False
     types, r2 = anova(rows, len(levels), bool(blocks), blockint)
     stud, lev, dele = types.pop("studentized"), types.pop("leverage"), types.pop("deleted")
     lsm, lsd, lsc = types.pop("lsmeans"), types.pop("lsdiff_se"), types.pop("lscells")
+    lsp = types.pop("lspairs")
     c = {"name": name, "factors": len(levels), "blocked": bool(blocks), "block_interaction": blockint,
          "rows": rows, "anova": types, "r2": r2,
-         "studentized": stud, "leverage": lev, "deleted": dele, "lsmeans": lsm, "lsdiff_se": lsd, "lscells": lsc}
+         "studentized": stud, "leverage": lev, "deleted": dele, "lsmeans": lsm, "lsdiff_se": lsd, "lscells": lsc,
+         "lspairs": lsp}
     if with_tukey:
         c["tukey"] = tukey(rows)
     return c
