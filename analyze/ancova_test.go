@@ -2,10 +2,11 @@ package analyze
 
 import (
 	"encoding/json"
-	"github.com/allotproject/allot/column"
 	"os"
 	"strings"
 	"testing"
+
+	"github.com/allotproject/allot/column"
 )
 
 // TestANCOVAReference compares with testdata/reference/ancova.json, made by

@@ -2,7 +2,6 @@ package analyze
 
 import (
 	"fmt"
-	"github.com/allotproject/allot/column"
 	"math"
 	"strconv"
 	"strings"
@@ -10,6 +9,8 @@ import (
 
 	//lint:ignore SA1019 allot-pcg-v1 is defined by this package's PCG stream; go.mod pins it
 	"golang.org/x/exp/rand"
+
+	"github.com/allotproject/allot/column"
 )
 
 // blockData is an unbalanced block design: blocks of every treatment

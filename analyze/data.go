@@ -2,13 +2,13 @@ package analyze
 
 import (
 	"fmt"
-
-	"github.com/allotproject/allot/column"
 	"math"
 	"math/big"
 	"math/bits"
 	"slices"
 	"strconv"
+
+	"github.com/allotproject/allot/column"
 )
 
 // Column is a categorical variable: one label per observation, and the

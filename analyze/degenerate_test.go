@@ -2,10 +2,11 @@ package analyze
 
 import (
 	"fmt"
-	"github.com/allotproject/allot/column"
 	"math"
 	"strings"
 	"testing"
+
+	"github.com/allotproject/allot/column"
 )
 
 // Exact zero decisions. References: exact fractions (the data are chosen

@@ -2,9 +2,9 @@ package analyze_test
 
 import (
 	"fmt"
-	"github.com/allotproject/allot/column"
 
 	"github.com/allotproject/allot/analyze"
+	"github.com/allotproject/allot/column"
 )
 
 // A one-way ANOVA of three groups of three.

@@ -2,13 +2,14 @@ package analyze
 
 import (
 	"fmt"
-	"github.com/allotproject/allot/column"
 	"math"
 	"strconv"
 	"testing"
 
 	//lint:ignore SA1019 allot-pcg-v1 is defined by this package's PCG stream; go.mod pins it
 	"golang.org/x/exp/rand"
+
+	"github.com/allotproject/allot/column"
 )
 
 // The residual checks hold their level: with normal errors of equal

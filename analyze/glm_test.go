@@ -2,10 +2,11 @@ package analyze
 
 import (
 	"encoding/json"
-	"github.com/allotproject/allot/column"
 	"math"
 	"os"
 	"testing"
+
+	"github.com/allotproject/allot/column"
 )
 
 // glmRef is testdata/reference/glm.json, written by

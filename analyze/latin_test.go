@@ -2,9 +2,10 @@ package analyze
 
 import (
 	"encoding/json"
-	"github.com/allotproject/allot/column"
 	"os"
 	"testing"
+
+	"github.com/allotproject/allot/column"
 )
 
 // TestLatinSquareReference compares with testdata/reference/latin.json

@@ -2,12 +2,13 @@ package analyze
 
 import (
 	"bufio"
-	"github.com/allotproject/allot/column"
 	"math"
 	"os"
 	"strconv"
 	"strings"
 	"testing"
+
+	"github.com/allotproject/allot/column"
 )
 
 // nistCase is a converted NIST StRD one-way ANOVA dataset.

@@ -1,11 +1,12 @@
 package analyze
 
 import (
-	"github.com/allotproject/allot/column"
 	"math"
 	"strconv"
 	"strings"
 	"testing"
+
+	"github.com/allotproject/allot/column"
 )
 
 func TestHolmAdjust(t *testing.T) {

@@ -2,12 +2,13 @@ package analyze
 
 import (
 	"encoding/json"
-	"github.com/allotproject/allot/column"
 	"math"
 	"os"
 	"strconv"
 	"strings"
 	"testing"
+
+	"github.com/allotproject/allot/column"
 )
 
 // robustRef is testdata/reference/robust.json, written by

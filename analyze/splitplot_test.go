@@ -2,7 +2,6 @@ package analyze
 
 import (
 	"encoding/json"
-	"github.com/allotproject/allot/column"
 	"math"
 	"os"
 	"regexp"
@@ -12,6 +11,8 @@ import (
 
 	//lint:ignore SA1019 allot-pcg-v1 is defined by this package's PCG stream; go.mod pins it
 	"golang.org/x/exp/rand"
+
+	"github.com/allotproject/allot/column"
 )
 
 type splitRef struct {

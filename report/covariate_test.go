@@ -3,12 +3,12 @@ package report
 import (
 	"bytes"
 	"encoding/xml"
-	"github.com/allotproject/allot/column"
 	"image/png"
 	"strings"
 	"testing"
 
 	"github.com/allotproject/allot/analyze"
+	"github.com/allotproject/allot/column"
 )
 
 // Rendering fixtures (invented numbers, not references).

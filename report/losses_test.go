@@ -2,11 +2,11 @@ package report
 
 import (
 	"bytes"
-	"github.com/allotproject/allot/column"
 	"strings"
 	"testing"
 
 	"github.com/allotproject/allot/analyze"
+	"github.com/allotproject/allot/column"
 )
 
 // The loss table appears in every format, with its reasons and test.

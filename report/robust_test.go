@@ -1,11 +1,11 @@
 package report
 
 import (
-	"github.com/allotproject/allot/column"
 	"strings"
 	"testing"
 
 	"github.com/allotproject/allot/analyze"
+	"github.com/allotproject/allot/column"
 )
 
 // methodData is a small invented data set (a rendering fixture, not a

@@ -3,10 +3,10 @@ package report
 import (
 	"errors"
 	"fmt"
-	"github.com/allotproject/allot/column"
 	"strings"
 
 	"github.com/allotproject/allot/analyze"
+	"github.com/allotproject/allot/column"
 	"github.com/allotproject/allot/design"
 	"github.com/allotproject/allot/design/workbook"
 )

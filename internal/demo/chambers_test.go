@@ -2,7 +2,6 @@ package demo
 
 import (
 	"bytes"
-	"github.com/allotproject/allot/column"
 	"os"
 	"path/filepath"
 	"strings"
@@ -10,6 +9,7 @@ import (
 	"time"
 
 	"github.com/allotproject/allot/analyze"
+	"github.com/allotproject/allot/column"
 	"github.com/allotproject/allot/design/workbook"
 	"github.com/allotproject/allot/power"
 )
