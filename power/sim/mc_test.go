@@ -2,13 +2,12 @@ package sim
 
 import (
 	"context"
-
-	"github.com/allotproject/allot/analyze"
 	"math"
 	"strconv"
 	"strings"
 	"testing"
 
+	"github.com/allotproject/allot/analyze"
 	"github.com/allotproject/allot/design"
 	"github.com/allotproject/allot/power"
 	"github.com/allotproject/allot/randomize"
