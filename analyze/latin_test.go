@@ -2,6 +2,7 @@ package analyze
 
 import (
 	"encoding/json"
+	"math"
 	"os"
 	"testing"
 
@@ -73,6 +74,71 @@ func TestLatinSquareReference(t *testing.T) {
 				refNear(t, name+" SS", g.SS, w.SS, 1e-9)
 				refNear(t, name+" F", g.F, w.F, 1e-9)
 				refNear(t, name+" p", g.P, w.P, 1e-8)
+			}
+		})
+	}
+}
+
+// TestLatinMeansReference: in complete squares the treatment means are the
+// least-squares means, with SE sqrt(MS_residual/n) and t on the residual df
+// (testdata/reference/latin.json, "trt_lsmeans": statsmodels design rows
+// averaged over the rows and columns, cov_params, scipy t). With empty
+// cells the raw means are not the LS means, and LatinMeans gives none.
+func TestLatinMeansReference(t *testing.T) {
+	b, err := os.ReadFile("../testdata/reference/latin.json")
+	if err != nil {
+		t.Fatal(err)
+	}
+	var ref struct {
+		Cases []struct {
+			Name   string
+			Series bool
+			Data   struct{ Y, Row, Col, Trt, Sq []string }
+			Expect struct {
+				LSMeans []struct {
+					Trt            string
+					Mean, SE, T975 float64
+				} `json:"trt_lsmeans"`
+			}
+		}
+	}
+	if err := json.Unmarshal(b, &ref); err != nil {
+		t.Fatal(err)
+	}
+	for _, c := range ref.Cases {
+		t.Run(c.Name, func(t *testing.T) {
+			d := LatinData{Response: "y", Values: c.Data.Y, Row: Column{Name: "row", Values: column.Of(c.Data.Row)},
+				Col: Column{Name: "column", Values: column.Of(c.Data.Col)}, Treatment: Column{Name: "trt", Values: column.Of(c.Data.Trt)}}
+			if c.Series {
+				d.Square = &Column{Name: "square", Values: column.Of(c.Data.Sq)}
+			}
+			r, err := LatinSquareANOVA(d)
+			if err != nil {
+				t.Fatal(err)
+			}
+			gs, err := LatinMeans(d, r)
+			if err != nil {
+				t.Fatal(err)
+			}
+			if len(gs) != len(c.Expect.LSMeans) {
+				t.Fatalf("%d treatments, want %d", len(gs), len(c.Expect.LSMeans))
+			}
+			byName := map[string]Group{}
+			for _, g := range gs {
+				byName[g.Level] = g
+			}
+			for _, w := range c.Expect.LSMeans {
+				g := byName[w.Trt]
+				if r.Missing > 0 {
+					if !math.IsNaN(g.LSMean) || !math.IsNaN(g.SE) {
+						t.Errorf("%s: LS mean %g SE %g with empty cells, want none", w.Trt, g.LSMean, g.SE)
+					}
+					continue
+				}
+				refNear(t, w.Trt+" mean", g.LSMean, w.Mean, 1e-10)
+				refNear(t, w.Trt+" raw mean", g.Mean, w.Mean, 1e-10)
+				refNear(t, w.Trt+" SE", g.SE, w.SE, 1e-9)
+				refNear(t, w.Trt+" upper limit", g.Upper, w.Mean+w.T975*w.SE, 1e-9)
 			}
 		})
 	}

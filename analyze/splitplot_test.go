@@ -300,3 +300,45 @@ func TestSplitPlotFactorialWholePlots(t *testing.T) {
 		}
 	}
 }
+
+// TestSplitPlotCellMeans: the cell means are the averages of each whole ×
+// sub cell's values (computed here from the texts), whole-plot level
+// slowest, with every cell once.
+func TestSplitPlotCellMeans(t *testing.T) {
+	for _, c := range loadSplit(t).Cases {
+		t.Run(c.Name, func(t *testing.T) {
+			d := splitData(c.Data, c.Blocked)
+			cells, err := SplitPlotCellMeans(d)
+			if err != nil {
+				t.Fatal(err)
+			}
+			sum, n := map[[2]string]float64{}, map[[2]string]int{}
+			for i, v := range d.Values {
+				x, err := strconv.ParseFloat(v, 64)
+				if err != nil {
+					t.Fatal(err)
+				}
+				k := [2]string{d.Whole.Values.At(i), d.Sub.Values.At(i)}
+				sum[k] += x
+				n[k]++
+			}
+			if len(cells) != len(n) {
+				t.Fatalf("%d cells, want %d", len(cells), len(n))
+			}
+			for i, cl := range cells {
+				k := [2]string{cl.A, cl.B}
+				if cl.N != n[k] || math.Abs(cl.Mean-sum[k]/float64(n[k])) > 1e-12*math.Abs(cl.Mean) {
+					t.Errorf("cell %s × %s: n %d mean %.15g, want %d %.15g", cl.A, cl.B, cl.N, cl.Mean, n[k], sum[k]/float64(n[k]))
+				}
+				if i > 0 && cells[i-1].A != cl.A {
+					// The whole-plot level varies slowest: one run each.
+					for _, prev := range cells[:i] {
+						if prev.A == cl.A {
+							t.Errorf("whole-plot level %s comes in two runs", cl.A)
+						}
+					}
+				}
+			}
+		})
+	}
+}

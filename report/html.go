@@ -12,11 +12,14 @@ import (
 // HTMLReport is everything the HTML report shows.
 type HTMLReport struct {
 	Analyses []Analysis
-	Plan     *design.Plan // nil for a plain CSV table
-	Check    []string     // the data check's findings, one per line
-	Command  string       // the command that reproduces the report
-	Version  string
-	Unit     string // response unit for axis labels, if known
+	// Strata holds the analyses of a split plot or a Latin square, which
+	// come instead of Analyses.
+	Strata  []StrataAnalysis
+	Plan    *design.Plan // nil for a plain CSV table
+	Check   []string     // the data check's findings, one per line
+	Command string       // the command that reproduces the report
+	Version string
+	Unit    string // response unit for axis labels, if known
 }
 
 type htmlTable struct {
@@ -42,6 +45,7 @@ type htmlBlock struct {
 	Lines   []string
 	Bullets bool
 	Table   *htmlTable
+	Notes   []string // paragraphs after the table
 	Caution bool
 	ID      string
 }
@@ -82,11 +86,35 @@ func HTML(w io.Writer, r HTMLReport) error {
 		}
 		secs = append(secs, s)
 	}
+	for _, a := range r.Strata {
+		s := htmlSection{Response: a.Response}
+		s.Blocks = append(s.Blocks, htmlBlock{Lines: []string{"Design: " + a.Design + ".", "Method: " + a.Method + "."}})
+		for _, sec := range a.sections() {
+			t := toHTML(sec.tb, "")
+			s.Blocks = append(s.Blocks, htmlBlock{Title: sec.title, Table: &t, Notes: sec.notes})
+		}
+		s.Blocks = append(s.Blocks, htmlBlock{Title: "Cautions", Lines: a.cautions(), Bullets: true, Caution: true})
+		figs, err := StrataFigures(a, r.Unit)
+		if err != nil {
+			return err
+		}
+		for _, f := range figs {
+			svg, err := f.InlineSVG()
+			if err != nil {
+				return err
+			}
+			s.Figures = append(s.Figures, htmlFigure{SVG: template.HTML(svg), Title: f.Title})
+		}
+		secs = append(secs, s)
+	}
 	var study [][2]string
 	if p := r.Plan; p != nil {
 		kind := "completely randomised design"
-		if p.Design == design.RCBD {
+		switch {
+		case p.Design == design.RCBD:
 			kind = fmt.Sprintf("randomised complete block design, %d %s", p.Blocks, design.Plural(p.BlockName))
+		case p.Strata():
+			kind = p.DesignName()
 		}
 		var fs []string
 		for _, f := range p.Factors {
@@ -158,9 +186,9 @@ code { background: #f1f4f6; padding: .1rem .3rem; }
 <h2>Analysis of {{.Response}}</h2>
 {{range .Blocks}}{{if .Caution}}<div class="caution">{{end}}{{if .Title}}<h3{{if .ID}} id="{{.ID}}"{{end}}>{{.Title}}</h3>{{end}}
 {{if .Bullets}}{{if .Lines}}<ul>{{range .Lines}}<li>{{.}}</li>{{end}}</ul>{{end}}{{else}}{{range .Lines}}<p>{{.}}</p>{{end}}{{end}}
-{{with .Table}}{{template "table" .}}{{end}}{{if .Caution}}</div>{{end}}
+{{with .Table}}{{template "table" .}}{{end}}{{range .Notes}}<p>{{.}}</p>{{end}}{{if .Caution}}</div>{{end}}
 {{end}}
-<h3>Figures</h3>
+{{if .Figures}}<h3>Figures</h3>{{end}}
 {{range .Figures}}<figure>{{.SVG}}<figcaption>{{.Title}}</figcaption></figure>{{end}}
 </section>
 {{end}}

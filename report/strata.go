@@ -24,11 +24,19 @@ type StrataAnalysis struct {
 	// Comparisons are the Tukey HSD comparisons of a balanced split plot,
 	// each with its stratum's error (analyze.SplitPlotTukey).
 	Comparisons []*analyze.PostHoc `json:"comparisons,omitempty"`
+	// CellMeans are the raw means of the whole-plot × sub-plot cells of a
+	// split plot (for the interaction plot); TreatmentMeans the treatment
+	// means of a Latin square, with SEs and 95% intervals when the squares
+	// are complete (analyze.LatinMeans).
+	CellMeans      []analyze.Cell  `json:"cell_means,omitempty"`
+	TreatmentMeans []analyze.Group `json:"treatment_means,omitempty"`
 	// MainPlot is what a main plot is called (chamber, cage).
 	MainPlot  string  `json:"main_plot_name,omitempty"`
 	Missing   int     `json:"missing"`
 	Alpha     float64 `json:"alpha"`
 	Simulated bool    `json:"simulated,omitempty"`
+	// wholeName and subName name a split plot's two treatment factors.
+	wholeName, subName string
 }
 
 // strataSection is a titled table with notes below it.
@@ -93,6 +101,14 @@ func (a StrataAnalysis) sections() []strataSection {
 		out = append(out,
 			strataSection{title: "Mixed model (REML, " + a.MainPlot + " random): " + a.Response, tb: tb, notes: notes},
 			strataSection{title: "Variance components", tb: vc})
+		if len(a.CellMeans) > 0 {
+			var gs []analyze.Group
+			for _, c := range a.CellMeans {
+				gs = append(gs, c.Group)
+			}
+			out = append(out, strataSection{title: "Cell means (raw)", tb: levelMeansTable(gs), notes: []string{
+				"Raw means of the cells that were measured: with sub-plots missing they are not adjusted for the main plots the values came from; the F tests above are."}})
+		}
 	case a.Latin != nil:
 		r := a.Latin
 		tb := table{head: []string{"source of variation", "df", "SS", "MS", "F", "p"}, right: []bool{false, true, true, true, true, true}}
@@ -106,6 +122,20 @@ func (a StrataAnalysis) sections() []strataSection {
 		}
 		notes = append(notes, "Rows and columns remove the two gradients they stand for; every term is tested against the residual mean square.")
 		out = append(out, strataSection{title: "Analysis of variance, " + a.Design + ": " + a.Response, tb: tb, notes: notes})
+		if gs := a.TreatmentMeans; len(gs) > 0 {
+			title := "Means of " + gs[0].Term
+			if r.Missing > 0 {
+				out = append(out, strataSection{title: title + " (raw)", tb: levelMeansTable(gs), notes: []string{
+					"Raw means: with cells missing they are not adjusted for the rows and columns those cells leave unbalanced; the F test above is."}})
+			} else {
+				tm := table{head: []string{"level", "n", "mean", "SD", "SE", "95% CI"}, right: []bool{false, true, true, true, true, true}}
+				for _, g := range gs {
+					tm.rows = append(tm.rows, []string{g.Level, fmt.Sprint(g.N), num(g.Mean, 5), num(g.SD, 4), num(g.SE, 4), num(g.Lower, 5) + " to " + num(g.Upper, 5)})
+				}
+				out = append(out, strataSection{title: title, tb: tm, notes: []string{
+					fmt.Sprintf("In complete squares every treatment meets every row and column equally often, so these means are adjusted for both; SEs and intervals use the residual mean square (df %d).", r.Residual.DF)}})
+			}
+		}
 	}
 	return out
 }

@@ -29,6 +29,9 @@ func RunStrata(p design.Plan, response string, obs workbook.StrataObservations, 
 			return a, err
 		}
 		a.Latin = res
+		if a.TreatmentMeans, err = analyze.LatinMeans(d, res); err != nil {
+			return a, err
+		}
 		a.Method = "least-squares ANOVA with rows, columns and treatments"
 		if p.Blocks > 1 {
 			a.Method = fmt.Sprintf("least-squares ANOVA with %s, rows and columns within %s, and treatments", design.Plural(p.BlockName), design.Plural(p.BlockName))
@@ -57,6 +60,12 @@ func RunStrata(p design.Plan, response string, obs workbook.StrataObservations, 
 			}
 		}
 	}
+	cells, err := analyze.SplitPlotCellMeans(d)
+	if err != nil {
+		return a, err
+	}
+	a.CellMeans = cells
+	a.wholeName, a.subName = d.Whole.Name, d.Sub.Name
 	if a.Missing == 0 {
 		res, err := analyze.SplitPlotANOVA(d)
 		if err == nil {

@@ -2,9 +2,12 @@ package main
 
 import (
 	"fmt"
+	"io"
 	"strings"
 
 	"github.com/allotproject/allot/design/workbook"
+	"github.com/allotproject/allot/internal/atomicfile"
+	"github.com/allotproject/allot/internal/version"
 	"github.com/allotproject/allot/report"
 )
 
@@ -20,9 +23,7 @@ func (e *strataWorkbook) Error() string {
 // Latin-square workbook with the analysis its strata call for.
 func analyzeStrata(s *streams, o *analyzeOptions, fl *workbook.Filled) error {
 	p := fl.Layout.Plan
-	if o.html != "" || o.plots != "" {
-		return usagef("--report and --plots are not available for a %s yet; use --format text, markdown or json", p.DesignName())
-	}
+	var all []report.StrataAnalysis
 	found := false
 	for k, r := range fl.Responses {
 		if o.response != "" && r != o.response {
@@ -38,6 +39,7 @@ func analyzeStrata(s *streams, o *analyzeOptions, fl *workbook.Filled) error {
 			return &failedError{err: fmt.Errorf("%s: response %q: %w", o.read.file, r, err)}
 		}
 		a.Alpha, a.Simulated = o.alpha, fl.Simulated()
+		all = append(all, a)
 		if k > 0 && o.format != "json" && o.response == "" {
 			fmt.Fprintln(s.Out)
 		}
@@ -56,8 +58,30 @@ func analyzeStrata(s *streams, o *analyzeOptions, fl *workbook.Filled) error {
 	if !found {
 		return usagef("--response %s: the plan has no such response (responses: %s)", o.response, strings.Join(fl.Responses, ", "))
 	}
+	var check []string
 	for _, pr := range fl.Problems {
 		fmt.Fprintf(s.Err, "allot analyze: %s\n", pr)
+		check = append(check, fmt.Sprint(pr))
+	}
+	if o.plots != "" {
+		for _, a := range all {
+			figs, err := report.StrataFigures(a, o.unit)
+			if err != nil {
+				return err
+			}
+			written, err := report.WriteFigures(o.plots, figs, o.force)
+			if err != nil {
+				return inputErr(err)
+			}
+			fmt.Fprintf(s.Err, "allot analyze: wrote %d figure files into %s\n", len(written), o.plots)
+		}
+	}
+	if o.html != "" {
+		rep := report.HTMLReport{Strata: all, Plan: &p, Check: check, Command: o.command, Version: version.String(), Unit: o.unit}
+		if err := atomicfile.Write(o.html, o.force, func(w io.Writer) error { return report.HTML(w, rep) }); err != nil {
+			return inputErr(err)
+		}
+		fmt.Fprintf(s.Err, "allot analyze: wrote %s\n", o.html)
 	}
 	return nil
 }

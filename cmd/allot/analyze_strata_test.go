@@ -287,6 +287,29 @@ func TestAnalyzeLatinReference(t *testing.T) {
 			if len(want) > 0 || float64(got.Latin.Residual.DF) != c.ResidDF || got.Latin.Missing != len(c.Missing) {
 				t.Errorf("terms left %v, residual df %d (reference %g), missing %d", want, got.Latin.Residual.DF, c.ResidDF, got.Latin.Missing)
 			}
+			// The treatment means, in the text, the HTML report and the
+			// figure (with intervals in complete squares only).
+			html, figs := filepath.Join(dir, c.Name+".html"), filepath.Join(dir, c.Name+"-figs")
+			code, out, errs = runArgs(t, "analyze", csvPath, "--plan", lay, "--report", html, "--plots", figs)
+			if code != 0 {
+				t.Fatalf("analyze --report: exit %d: %s", code, errs)
+			}
+			title := "Means of feed"
+			if len(c.Missing) > 0 {
+				title += " (raw)"
+			}
+			page, _ := os.ReadFile(html)
+			for _, w := range []string{title, "<svg", "Mean gain by feed"} {
+				if !strings.Contains(out+string(page), w) || !strings.Contains(string(page), w) {
+					t.Errorf("text or report lacks %q", w)
+				}
+			}
+			if hasCI := strings.Contains(out, "95% CI"); hasCI != (len(c.Missing) == 0) {
+				t.Errorf("intervals shown %v with %d cells missing", hasCI, len(c.Missing))
+			}
+			if files, _ := os.ReadDir(figs); len(files) != 2 {
+				t.Errorf("%d figure files, want the means as SVG and PNG", len(files))
+			}
 		})
 	}
 }
@@ -324,9 +347,35 @@ func TestAnalyzeSplitPlotWorkbook(t *testing.T) {
 		if !strings.Contains(strings.ToLower(strings.Join(strings.Fields(out), " ")), strings.ToLower(want)) {
 			t.Errorf("lost %d: output lacks %q:\n%s", lost, want, out)
 		}
-	}
-	code, _, errs := runArgs(t, "analyze", wb, "--report", filepath.Join(dir, "r.html"))
-	if code != exitUsage || !strings.Contains(errs, "--report and --plots are not available") {
-		t.Errorf("--report: exit %d %s", code, errs)
+		// The HTML report and the figures: the same sections, and the
+		// interaction plot of the cell means; never over a file without
+		// --force.
+		html, figs := filepath.Join(dir, fmt.Sprintf("r%d.html", lost)), filepath.Join(dir, fmt.Sprintf("figs%d", lost))
+		if code, _, errs := runArgs(t, "analyze", filled, "--report", html, "--plots", figs); code != 0 {
+			t.Fatalf("lost %d: --report --plots: exit %d: %s", lost, code, errs)
+		}
+		page, err := os.ReadFile(html)
+		if err != nil {
+			t.Fatal(err)
+		}
+		section := "Two-stratum analysis of variance: dry_g"
+		if lost > 0 {
+			section = "Mixed model (REML, chamber random): dry_g"
+		}
+		for _, w := range []string{section, "<svg", "Mean dry_g by variety and light", "split-plot design", "Cautions"} {
+			if !strings.Contains(string(page), w) {
+				t.Errorf("lost %d: report lacks %q", lost, w)
+			}
+		}
+		files, _ := os.ReadDir(figs)
+		if len(files) != 2 {
+			t.Errorf("lost %d: %d figure files, want the interaction plot as SVG and PNG", lost, len(files))
+		}
+		if code, _, errs := runArgs(t, "analyze", filled, "--report", html); code == 0 || !strings.Contains(errs, "--force") {
+			t.Errorf("lost %d: an existing report was replaced without --force (exit %d: %s)", lost, code, errs)
+		}
+		if again, _ := os.ReadFile(html); string(again) != string(page) {
+			t.Errorf("lost %d: the existing report changed", lost)
+		}
 	}
 }

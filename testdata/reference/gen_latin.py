@@ -10,7 +10,8 @@ to Type 3 in an additive model) for single squares, with and without missing
 cells; for a series of squares, differences of residual sums of squares of
 statsmodels OLS fits with each term left out (rows and columns nested in
 squares; the squares term in the model without them), df from the fits'
-ranks.
+ranks. The treatments' least-squares means come from the same fits (design
+rows averaged over the rows and columns, SEs from cov_params).
 """
 import json
 import os
@@ -55,6 +56,24 @@ def single(df):
         out[name] = {"df": int(tab.loc[idx, "df"]), "ss": float(tab.loc[idx, "sum_sq"]), "f": float(tab.loc[idx, "F"]), "p": float(tab.loc[idx, "PR(>F)"])}
     out["resid_df"] = int(fit.df_resid)
     out["resid_ss"] = float(fit.ssr)
+    out["trt_lsmeans"] = lsmeans(fit, df, ["row", "col"])
+    return out
+
+
+def lsmeans(fit, df, blocking):
+    """Least-squares means of the treatments: the model's design rows
+    averaged over the full grid of the blocking factors' levels, with SEs
+    from cov_params; and the 97.5% t point on the residual df."""
+    import itertools as it
+    from patsy import dmatrix
+    levels = {c: sorted(df[c].unique()) for c in blocking}
+    params, cov = np.asarray(fit.params), np.asarray(fit.cov_params())
+    out = []
+    for trt in sorted(df["trt"].unique()):
+        grid = [dict(zip(blocking, combo), trt=trt) for combo in it.product(*[levels[c] for c in blocking])]
+        v = np.asarray(dmatrix(fit.model.data.design_info, pd.DataFrame(grid))).mean(axis=0)
+        out.append({"trt": trt, "mean": float(v @ params), "se": float(np.sqrt(v @ cov @ v)),
+                    "t975": float(st.t.ppf(0.975, fit.df_resid))})
     return out
 
 
@@ -64,7 +83,7 @@ def series(df):
     df["cs"] = df["sq"] + df["col"]
     terms = {"sq": "C(sq)", "row": "C(rs)", "col": "C(cs)", "trt": "C(trt)"}
     full = smf.ols("yf ~ " + " + ".join(terms.values()), data=df).fit()
-    out = {"resid_df": int(full.df_resid), "resid_ss": float(full.ssr)}
+    out = {"resid_df": int(full.df_resid), "resid_ss": float(full.ssr), "trt_lsmeans": lsmeans(full, df, ["sq", "rs", "cs"])}
     for k in terms:
         # Squares are contained in rows and columns within squares: tested
         # in the model without those (Type II containment).
