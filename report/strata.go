@@ -198,12 +198,29 @@ func StrataMarkdown(w io.Writer, a StrataAnalysis) error {
 	return err
 }
 
-// StrataJSON writes a split-plot or Latin-square analysis as JSON.
-func StrataJSON(w io.Writer, a StrataAnalysis) error {
+// StrataFormat names the JSON document format of split-plot and
+// Latin-square analyses.
+const StrataFormat = "allot.strata-analysis/v1"
+
+// strataDoc is one response of a StrataAnalysesJSON document.
+type strataDoc struct {
+	StrataAnalysis
+	Cautions []string `json:"cautions"`
+}
+
+// StrataAnalysesJSON writes one JSON document for a run of split-plot or
+// Latin-square analyses: the format name, the program version and one
+// object per response (schema/strata-analysis.v1.json).
+func StrataAnalysesJSON(w io.Writer, version string, as []StrataAnalysis) error {
+	docs := []strataDoc{}
+	for _, a := range as {
+		docs = append(docs, strataDoc{a, a.cautions()})
+	}
 	return writeJSON(w, struct {
-		StrataAnalysis
-		Cautions []string `json:"cautions"`
-	}{a, a.cautions()})
+		Format    string      `json:"format"`
+		Version   string      `json:"allot_version,omitempty"`
+		Responses []strataDoc `json:"responses"`
+	}{StrataFormat, version, docs})
 }
 
 // levelMeansTable lists each level's n, mean and SD.

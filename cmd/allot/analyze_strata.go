@@ -45,7 +45,7 @@ func analyzeStrata(s *streams, o *analyzeOptions, fl *workbook.Filled) error {
 		}
 		switch o.format {
 		case "json":
-			err = report.StrataJSON(s.Out, a)
+			// One document for the run, below.
 		case "markdown":
 			err = report.StrataMarkdown(s.Out, a)
 		default:
@@ -57,6 +57,11 @@ func analyzeStrata(s *streams, o *analyzeOptions, fl *workbook.Filled) error {
 	}
 	if !found {
 		return usagef("--response %s: the plan has no such response (responses: %s)", o.response, strings.Join(fl.Responses, ", "))
+	}
+	if o.format == "json" {
+		if err := report.StrataAnalysesJSON(s.Out, version.String(), all); err != nil {
+			return err
+		}
 	}
 	var check []string
 	for _, pr := range fl.Problems {

@@ -160,7 +160,7 @@ func TestAnalyzeSplitPlotReference(t *testing.T) {
 					SigmaM2 float64 `json:"var_main_plot"`
 				} `json:"mixed_model"`
 			}
-			if err := json.Unmarshal([]byte(out), &got); err != nil {
+			if err := json.Unmarshal(strataResponse(t, out), &got); err != nil {
 				t.Fatalf("%v: %s", err, out)
 			}
 			if w := c.Classical; w != nil {
@@ -267,7 +267,7 @@ func TestAnalyzeLatinReference(t *testing.T) {
 					Missing  int `json:"missing_cells"`
 				}
 			}
-			if err := json.Unmarshal([]byte(out), &got); err != nil {
+			if err := json.Unmarshal(strataResponse(t, out), &got); err != nil {
 				t.Fatal(err)
 			}
 			want := map[string]struct{ DF, F, P float64 }{"row": c.Row, "column": c.Column, "feed": c.Feed}
@@ -378,4 +378,21 @@ func TestAnalyzeSplitPlotWorkbook(t *testing.T) {
 			t.Errorf("lost %d: the existing report changed", lost)
 		}
 	}
+}
+
+// strataResponse returns the one response of a split-plot or Latin-square
+// analysis document (format allot.strata-analysis/v1).
+func strataResponse(t *testing.T, out string) []byte {
+	t.Helper()
+	var doc struct {
+		Format    string
+		Responses []json.RawMessage
+	}
+	if err := json.Unmarshal([]byte(out), &doc); err != nil {
+		t.Fatalf("%v: %s", err, out)
+	}
+	if doc.Format != "allot.strata-analysis/v1" || len(doc.Responses) != 1 {
+		t.Fatalf("format %q, %d responses; want allot.strata-analysis/v1 and one", doc.Format, len(doc.Responses))
+	}
+	return doc.Responses[0]
 }

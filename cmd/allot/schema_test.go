@@ -1,6 +1,7 @@
 package main
 
 import (
+	"math"
 	"path/filepath"
 	"strings"
 	"testing"
@@ -83,6 +84,56 @@ func TestSchemasRefuse(t *testing.T) {
 	} {
 		if err := validateJSON(t, compileSchema(t, tt.kind), tt.doc); err == nil {
 			t.Errorf("schema %s accepts %s", tt.kind, tt.doc)
+		}
+	}
+}
+
+// TestStrataSchemaMatchesOutput validates the split-plot and Latin-square
+// analysis documents (balanced, with sub-plots missing, Latin) against
+// schema/strata-analysis.v1.json, and checks the schema refuses documents
+// without their core keys.
+func TestStrataSchemaMatchesOutput(t *testing.T) {
+	sch := compileSchema(t, "strata-analysis")
+	dir := t.TempDir()
+	wb := filepath.Join(dir, "split.xlsx")
+	if code, _, errs := runArgs(t, "layout", "--design", "split-plot", "--whole-plot", "light=low,high", "--sub-plot", "variety=V1,V2,V3",
+		"--blocks", "3", "--block-name", "room", "--response", "dry_g", "--seed", "5", "-o", wb); code != 0 {
+		t.Fatal(errs)
+	}
+	latin := filepath.Join(dir, "latin.xlsx")
+	if code, _, errs := runArgs(t, "layout", "--design", "latin", "--factor", "feed=A,B,C,D", "--response", "gain", "--seed", "7", "-o", latin); code != 0 {
+		t.Fatal(errs)
+	}
+	for _, tc := range []struct {
+		name, src string
+		n, lost   int
+	}{{"split plot", wb, 18, 0}, {"split plot, two lost", wb, 18, 2}, {"Latin square", latin, 16, 0}} {
+		vals := make([]float64, tc.n)
+		for i := range vals {
+			vals[i] = 10 + float64(i%5) + 0.3*float64((i*7)%4)
+		}
+		for k := 0; k < tc.lost; k++ {
+			vals[4+7*k] = math.NaN()
+		}
+		filled := filepath.Join(dir, strings.ReplaceAll(tc.name, " ", "_")+".xlsx")
+		if err := workbookFill(tc.src, filled, vals); err != nil {
+			t.Fatal(err)
+		}
+		code, out, errs := runArgs(t, "analyze", filled, "--json")
+		if code != exitOK {
+			t.Fatalf("%s: exit %d: %s", tc.name, code, errs)
+		}
+		if err := validateJSON(t, sch, out); err != nil {
+			t.Errorf("%s: output does not match schema/strata-analysis.v1.json: %v", tc.name, err)
+		}
+	}
+	for _, doc := range []string{
+		`{"format": "allot.analysis/v1", "responses": [{}]}`,
+		`{"format": "allot.strata-analysis/v1", "responses": []}`,
+		`{"format": "allot.strata-analysis/v1", "responses": [{"response": "y", "design": "d", "method": "m", "alpha": 0.05, "missing": 0, "cautions": ["c"]}]}`,
+	} {
+		if err := validateJSON(t, sch, doc); err == nil {
+			t.Errorf("schema strata-analysis accepts %s", doc)
 		}
 	}
 }
