@@ -5,6 +5,7 @@ import (
 	"math"
 
 	"github.com/allotproject/allot/column"
+	"gonum.org/v1/gonum/mat"
 	"gonum.org/v1/gonum/stat/distuv"
 )
 
@@ -54,30 +55,170 @@ func SplitPlotCellMeans(d SplitPlot) ([]Cell, error) {
 	return out, nil
 }
 
-// LatinMeans returns the treatment means of a Latin square (or series) with
-// n, mean and SD; in complete squares, where every treatment meets every
-// row and column equally often and the raw means are the least-squares
-// means, also their standard errors sqrt(MS_residual/n) and 95% confidence
-// intervals on the residual df. With empty cells LSMean, SE and the
-// interval are NaN: the raw means are not adjusted for the rows and
-// columns the missing cells leave unbalanced.
+// LatinMeans returns the treatment means of a Latin square (or series):
+// n, raw mean and SD, and the least-squares mean with its standard error
+// and 95% confidence interval on the residual df. In complete squares,
+// where every treatment meets every row and column equally often, the LS
+// mean is the raw mean and its SE sqrt(MS_residual/n). With empty cells it
+// is the fitted treatment effect of the additive model (rows, columns and
+// treatments coded to sum to zero; rows and columns within squares for a
+// series, which absorb the squares) added to the intercept: the model's
+// prediction averaged with equal weights over the rows and columns, with
+// SE s·sqrt(cᵀ(XᵀX)⁻¹c). NaN where the model cannot be fitted.
 func LatinMeans(d LatinData, res *LatinResult) ([]Group, error) {
 	gs, err := Summaries(Data{Response: d.Response, Values: column.Of(d.Values), Factors: []Column{d.Treatment}}, 0)
 	if err != nil {
 		return nil, err
 	}
-	complete := res != nil && res.Missing == 0 && res.Residual.DF > 0
-	var tq float64
-	if complete {
-		tq = distuv.StudentsT{Mu: 0, Sigma: 1, Nu: float64(res.Residual.DF)}.Quantile(0.975)
-	}
 	for i := range gs {
 		g := &gs[i]
 		g.LSMean, g.SE, g.Lower, g.Upper = math.NaN(), math.NaN(), math.NaN(), math.NaN()
-		if complete {
+	}
+	if res == nil || res.Residual.DF <= 0 {
+		return gs, nil
+	}
+	tq := distuv.StudentsT{Mu: 0, Sigma: 1, Nu: float64(res.Residual.DF)}.Quantile(0.975)
+	if res.Missing == 0 {
+		for i := range gs {
+			g := &gs[i]
 			g.LSMean, g.SE = g.Mean, math.Sqrt(res.Residual.MS/float64(g.N))
 			g.Lower, g.Upper = g.LSMean-tq*g.SE, g.LSMean+tq*g.SE
 		}
+		return gs, nil
+	}
+	mean, se, ok := latinLSMeans(d, gs, res.Residual.MS)
+	if !ok {
+		return gs, nil
+	}
+	for i := range gs {
+		g := &gs[i]
+		g.LSMean, g.SE = mean[i], se[i]
+		g.Lower, g.Upper = g.LSMean-tq*g.SE, g.LSMean+tq*g.SE
 	}
 	return gs, nil
+}
+
+// latinLSMeans fits the additive Latin-square model by QR and returns the
+// least-squares mean and SE of each treatment of gs (in its order); ok is
+// false when the design matrix is rank deficient.
+func latinLSMeans(d LatinData, gs []Group, ms float64) (mean, se []float64, ok bool) {
+	n := len(d.Values)
+	y, shift, err := centred(column.Of(d.Values))
+	if err != nil {
+		return nil, nil, false
+	}
+	sh, _ := shift.Float64()
+	label := func(c Column, i int) string {
+		if d.Square != nil {
+			return d.Square.Values.At(i) + "\x00" + c.Values.At(i)
+		}
+		return c.Values.At(i)
+	}
+	// Sum-to-zero coding of a factor: level j < L−1 its own column, the
+	// last level −1 in every column.
+	type coded struct {
+		of     []int
+		levels int
+	}
+	code := func(at func(i int) string, order []string) coded {
+		idx := map[string]int{}
+		for _, l := range order {
+			idx[l] = len(idx)
+		}
+		c := coded{of: make([]int, n)}
+		for i := range n {
+			l := at(i)
+			j, seen := idx[l]
+			if !seen {
+				j = len(idx)
+				idx[l] = j
+			}
+			c.of[i] = j
+		}
+		c.levels = len(idx)
+		return c
+	}
+	var trtOrder []string
+	for _, g := range gs {
+		trtOrder = append(trtOrder, g.Level)
+	}
+	factors := []coded{
+		code(func(i int) string { return label(d.Row, i) }, nil),
+		code(func(i int) string { return label(d.Col, i) }, nil),
+	}
+	trt := code(d.Treatment.Values.At, trtOrder)
+	factors = append(factors, trt)
+	p := 1
+	start := make([]int, len(factors))
+	for k, f := range factors {
+		start[k] = p
+		p += f.levels - 1
+	}
+	if n <= p {
+		return nil, nil, false
+	}
+	x := mat.NewDense(n, p, nil)
+	for i := range n {
+		x.Set(i, 0, 1)
+		for k, f := range factors {
+			l := f.of[i]
+			for j := 0; j < f.levels-1; j++ {
+				switch {
+				case l == j:
+					x.Set(i, start[k]+j, 1)
+				case l == f.levels-1:
+					x.Set(i, start[k]+j, -1)
+				}
+			}
+		}
+	}
+	var qr mat.QR
+	qr.Factorize(x)
+	var rd mat.Dense
+	qr.RTo(&rd)
+	r := mat.NewTriDense(p, mat.Upper, nil)
+	for i := range p {
+		for j := i; j < p; j++ {
+			r.SetTri(i, j, rd.At(i, j))
+		}
+	}
+	for j := range p {
+		if math.Abs(r.At(j, j)) < 1e-9*math.Sqrt(float64(n)) {
+			return nil, nil, false
+		}
+	}
+	var b mat.Dense
+	if err := qr.SolveTo(&b, false, mat.NewDense(n, 1, y)); err != nil {
+		return nil, nil, false
+	}
+	// (XᵀX)⁻¹ = R⁻¹R⁻ᵀ.
+	var rinv mat.TriDense
+	if err := rinv.InverseTri(r); err != nil {
+		return nil, nil, false
+	}
+	var cov mat.Dense
+	cov.Mul(&rinv, rinv.T())
+	ts := start[len(factors)-1]
+	mean, se = make([]float64, len(gs)), make([]float64, len(gs))
+	for k := range gs {
+		c := make([]float64, p)
+		c[0] = 1
+		for j := 0; j < trt.levels-1; j++ {
+			switch {
+			case k == j:
+				c[ts+j] = 1
+			case k == trt.levels-1:
+				c[ts+j] = -1
+			}
+		}
+		var m, q float64
+		for i := range p {
+			m += c[i] * b.At(i, 0)
+			for j := range p {
+				q += c[i] * cov.At(i, j) * c[j]
+			}
+		}
+		mean[k], se[k] = sh+m, math.Sqrt(ms*q)
+	}
+	return mean, se, true
 }

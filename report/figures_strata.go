@@ -84,7 +84,10 @@ func StrataFigures(a StrataAnalysis, unit string) ([]Figure, error) {
 	case len(a.TreatmentMeans) > 0:
 		gs := a.TreatmentMeans
 		title := fmt.Sprintf("Mean %s by %s, with 95%% confidence intervals", a.Response, gs[0].Term)
-		withCI := !math.IsNaN(gs[0].Lower)
+		withCI := !math.IsNaN(gs[0].LSMean)
+		if withCI && a.Latin != nil && a.Latin.Missing > 0 {
+			title = fmt.Sprintf("LS mean %s by %s, with 95%% confidence intervals", a.Response, gs[0].Term)
+		}
 		if !withCI {
 			title = fmt.Sprintf("Mean %s by %s (raw means)", a.Response, gs[0].Term)
 		}
@@ -93,11 +96,11 @@ func StrataFigures(a StrataAnalysis, unit string) ([]Figure, error) {
 		e := errorBars{color: palette[0]}
 		for i, g := range gs {
 			names = append(names, g.Level)
-			e.xy = append(e.xy, plotter.XY{X: float64(i), Y: g.Mean})
-			lo, hi := g.Lower, g.Upper
+			y, lo, hi := g.LSMean, g.Lower, g.Upper
 			if !withCI {
-				lo, hi = g.Mean, g.Mean
+				y, lo, hi = g.Mean, g.Mean, g.Mean
 			}
+			e.xy = append(e.xy, plotter.XY{X: float64(i), Y: y})
 			e.lo, e.hi = append(e.lo, lo), append(e.hi, hi)
 		}
 		p.Add(e)

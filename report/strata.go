@@ -3,6 +3,7 @@ package report
 import (
 	"fmt"
 	"io"
+	"math"
 	"strings"
 
 	"github.com/allotproject/allot/analyze"
@@ -124,10 +125,18 @@ func (a StrataAnalysis) sections() []strataSection {
 		out = append(out, strataSection{title: "Analysis of variance, " + a.Design + ": " + a.Response, tb: tb, notes: notes})
 		if gs := a.TreatmentMeans; len(gs) > 0 {
 			title := "Means of " + gs[0].Term
-			if r.Missing > 0 {
+			switch {
+			case math.IsNaN(gs[0].LSMean):
 				out = append(out, strataSection{title: title + " (raw)", tb: levelMeansTable(gs), notes: []string{
 					"Raw means: with cells missing they are not adjusted for the rows and columns those cells leave unbalanced; the F test above is."}})
-			} else {
+			case r.Missing > 0:
+				tm := table{head: []string{"level", "n", "mean", "SD", "LS mean", "SE", "95% CI"}, right: []bool{false, true, true, true, true, true, true}}
+				for _, g := range gs {
+					tm.rows = append(tm.rows, []string{g.Level, fmt.Sprint(g.N), num(g.Mean, 5), num(g.SD, 4), num(g.LSMean, 5), num(g.SE, 4), num(g.Lower, 5) + " to " + num(g.Upper, 5)})
+				}
+				out = append(out, strataSection{title: title, tb: tm, notes: []string{
+					fmt.Sprintf("With cells missing the raw means would be biased by which rows and columns lost them: the LS means are the additive model's predictions averaged over the rows and columns with equal weights; SEs and intervals use the residual mean square (df %d).", r.Residual.DF)}})
+			default:
 				tm := table{head: []string{"level", "n", "mean", "SD", "SE", "95% CI"}, right: []bool{false, true, true, true, true, true}}
 				for _, g := range gs {
 					tm.rows = append(tm.rows, []string{g.Level, fmt.Sprint(g.N), num(g.Mean, 5), num(g.SD, 4), num(g.SE, 4), num(g.Lower, 5) + " to " + num(g.Upper, 5)})

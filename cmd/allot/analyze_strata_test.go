@@ -294,18 +294,18 @@ func TestAnalyzeLatinReference(t *testing.T) {
 			if code != 0 {
 				t.Fatalf("analyze --report: exit %d: %s", code, errs)
 			}
-			title := "Means of feed"
+			title, fig := "Means of feed", "Mean gain by feed"
 			if len(c.Missing) > 0 {
-				title += " (raw)"
+				fig = "LS mean gain by feed"
 			}
 			page, _ := os.ReadFile(html)
-			for _, w := range []string{title, "<svg", "Mean gain by feed"} {
+			for _, w := range []string{title, "<svg", fig} {
 				if !strings.Contains(out+string(page), w) || !strings.Contains(string(page), w) {
 					t.Errorf("text or report lacks %q", w)
 				}
 			}
-			if hasCI := strings.Contains(out, "95% CI"); hasCI != (len(c.Missing) == 0) {
-				t.Errorf("intervals shown %v with %d cells missing", hasCI, len(c.Missing))
+			if hasLS := strings.Contains(out, "LS mean"); !strings.Contains(out, "95% CI") || hasLS != (len(c.Missing) > 0) {
+				t.Errorf("%d cells missing: intervals or LS means missing from the means table:\n%s", len(c.Missing), out)
 			}
 			if files, _ := os.ReadDir(figs); len(files) != 2 {
 				t.Errorf("%d figure files, want the means as SVG and PNG", len(files))
