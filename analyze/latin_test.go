@@ -146,3 +146,75 @@ func TestLatinMeansReference(t *testing.T) {
 		})
 	}
 }
+
+// TestLatinTukeyReference: Tukey HSD of the treatments on the residual mean
+// square (testdata/reference/latin.json, "tukey": differences of the
+// statsmodels LS means, their SEs from cov_params, q, and p and the 95%
+// critical q from scipy's studentized range), in complete squares and with
+// cells missing (Tukey–Kramer on the LS means).
+func TestLatinTukeyReference(t *testing.T) {
+	b, err := os.ReadFile("../testdata/reference/latin.json")
+	if err != nil {
+		t.Fatal(err)
+	}
+	var ref struct {
+		Cases []struct {
+			Name   string
+			Series bool
+			Data   struct{ Y, Row, Col, Trt, Sq []string }
+			Expect struct {
+				Tukey []struct {
+					A, B                 string
+					Diff, SE, Q, P, Crit float64
+				}
+			}
+		}
+	}
+	if err := json.Unmarshal(b, &ref); err != nil {
+		t.Fatal(err)
+	}
+	for _, c := range ref.Cases {
+		t.Run(c.Name, func(t *testing.T) {
+			d := LatinData{Response: "y", Values: c.Data.Y, Row: Column{Name: "row", Values: column.Of(c.Data.Row)},
+				Col: Column{Name: "column", Values: column.Of(c.Data.Col)}, Treatment: Column{Name: "trt", Values: column.Of(c.Data.Trt)}}
+			if c.Series {
+				d.Square = &Column{Name: "square", Values: column.Of(c.Data.Sq)}
+			}
+			r, err := LatinSquareANOVA(d)
+			if err != nil {
+				t.Fatal(err)
+			}
+			means, err := LatinMeans(d, r)
+			if err != nil {
+				t.Fatal(err)
+			}
+			ph, err := LatinTukey(d, r, means, 0.05)
+			if err != nil || ph == nil {
+				t.Fatalf("no comparisons: %v", err)
+			}
+			byPair := map[[2]string]Comparison{}
+			for _, p := range ph.Pairs {
+				byPair[[2]string{p.A, p.B}] = p
+			}
+			if len(ph.Pairs) != len(c.Expect.Tukey) {
+				t.Fatalf("%d pairs, want %d", len(ph.Pairs), len(c.Expect.Tukey))
+			}
+			for _, w := range c.Expect.Tukey {
+				p, ok := byPair[[2]string{w.A, w.B}]
+				sign := 1.0
+				if !ok {
+					p, ok = byPair[[2]string{w.B, w.A}]
+					sign = -1
+				}
+				if !ok {
+					t.Fatalf("no pair %s, %s", w.A, w.B)
+				}
+				refNear(t, w.A+"−"+w.B+" difference", sign*p.Diff, w.Diff, 1e-10)
+				refNear(t, w.A+"−"+w.B+" SE", p.SE, w.SE, 1e-9)
+				refNear(t, w.A+"−"+w.B+" q", p.Q, w.Q, 1e-9)
+				refNear(t, w.A+"−"+w.B+" p", p.P, w.P, 1e-8)
+				refNear(t, "critical q", ph.Crit, w.Crit, 1e-8)
+			}
+		})
+	}
+}

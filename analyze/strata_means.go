@@ -86,7 +86,7 @@ func LatinMeans(d LatinData, res *LatinResult) ([]Group, error) {
 		}
 		return gs, nil
 	}
-	mean, se, ok := latinLSMeans(d, gs, res.Residual.MS)
+	mean, se, _, ok := latinLSMeans(d, gs, res.Residual.MS)
 	if !ok {
 		return gs, nil
 	}
@@ -99,13 +99,14 @@ func LatinMeans(d LatinData, res *LatinResult) ([]Group, error) {
 }
 
 // latinLSMeans fits the additive Latin-square model by QR and returns the
-// least-squares mean and SE of each treatment of gs (in its order); ok is
-// false when the design matrix is rank deficient.
-func latinLSMeans(d LatinData, gs []Group, ms float64) (mean, se []float64, ok bool) {
+// least-squares mean and SE of each treatment of gs (in its order), and the
+// SE of the difference of two of them; ok is false when the design matrix
+// is rank deficient.
+func latinLSMeans(d LatinData, gs []Group, ms float64) (mean, se []float64, diffSE func(i, j int) float64, ok bool) {
 	n := len(d.Values)
 	y, shift, err := centred(column.Of(d.Values))
 	if err != nil {
-		return nil, nil, false
+		return nil, nil, nil, false
 	}
 	sh, _ := shift.Float64()
 	label := func(c Column, i int) string {
@@ -155,7 +156,7 @@ func latinLSMeans(d LatinData, gs []Group, ms float64) (mean, se []float64, ok b
 		p += f.levels - 1
 	}
 	if n <= p {
-		return nil, nil, false
+		return nil, nil, nil, false
 	}
 	x := mat.NewDense(n, p, nil)
 	for i := range n {
@@ -184,22 +185,35 @@ func latinLSMeans(d LatinData, gs []Group, ms float64) (mean, se []float64, ok b
 	}
 	for j := range p {
 		if math.Abs(r.At(j, j)) < 1e-9*math.Sqrt(float64(n)) {
-			return nil, nil, false
+			return nil, nil, nil, false
 		}
 	}
 	var b mat.Dense
 	if err := qr.SolveTo(&b, false, mat.NewDense(n, 1, y)); err != nil {
-		return nil, nil, false
+		return nil, nil, nil, false
 	}
 	// (XᵀX)⁻¹ = R⁻¹R⁻ᵀ.
 	var rinv mat.TriDense
 	if err := rinv.InverseTri(r); err != nil {
-		return nil, nil, false
+		return nil, nil, nil, false
 	}
 	var cov mat.Dense
 	cov.Mul(&rinv, rinv.T())
 	ts := start[len(factors)-1]
 	mean, se = make([]float64, len(gs)), make([]float64, len(gs))
+	contrasts := make([][]float64, len(gs))
+	quad := func(c []float64) float64 {
+		var q float64
+		for i := range p {
+			if c[i] == 0 {
+				continue
+			}
+			for j := range p {
+				q += c[i] * cov.At(i, j) * c[j]
+			}
+		}
+		return q
+	}
 	for k := range gs {
 		c := make([]float64, p)
 		c[0] = 1
@@ -211,14 +225,45 @@ func latinLSMeans(d LatinData, gs []Group, ms float64) (mean, se []float64, ok b
 				c[ts+j] = -1
 			}
 		}
-		var m, q float64
+		var m float64
 		for i := range p {
 			m += c[i] * b.At(i, 0)
-			for j := range p {
-				q += c[i] * cov.At(i, j) * c[j]
-			}
 		}
-		mean[k], se[k] = sh+m, math.Sqrt(ms*q)
+		contrasts[k] = c
+		mean[k], se[k] = sh+m, math.Sqrt(ms*quad(c))
 	}
-	return mean, se, true
+	diffSE = func(i, j int) float64 {
+		dc := make([]float64, p)
+		for k := range dc {
+			dc[k] = contrasts[i][k] - contrasts[j][k]
+		}
+		return math.Sqrt(ms * quad(dc))
+	}
+	return mean, se, diffSE, true
+}
+
+// LatinTukey compares every pair of treatment means of a Latin square (or
+// series) by Tukey HSD on the residual mean square and df: in complete
+// squares the means are the raw ones and SE(i − j) = sqrt(MS(1/n_i +
+// 1/n_j)); with cells missing, the least-squares means of LatinMeans with
+// the SE of each difference from the additive model (Tukey–Kramer). means
+// is LatinMeans's result; nil when its LS means are not available.
+func LatinTukey(d LatinData, res *LatinResult, means []Group, alpha float64) (*PostHoc, error) {
+	if res == nil || res.Residual.DF <= 0 || len(means) < 2 || math.IsNaN(means[0].LSMean) {
+		return nil, nil
+	}
+	se := func(i, j int) float64 {
+		return math.Sqrt(res.Residual.MS * (1/float64(means[i].N) + 1/float64(means[j].N)))
+	}
+	if res.Missing > 0 {
+		_, _, diffSE, ok := latinLSMeans(d, means, res.Residual.MS)
+		if !ok {
+			return nil, nil
+		}
+		se = diffSE
+	}
+	t := &Table{Alpha: alpha, Residual: Residual{DF: res.Residual.DF}}
+	ph := tukeyGroups(append([]Group(nil), means...), t, d.Treatment.Name, se)
+	addLetters(ph)
+	return ph, nil
 }

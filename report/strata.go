@@ -145,6 +145,9 @@ func (a StrataAnalysis) sections() []strataSection {
 					fmt.Sprintf("In complete squares every treatment meets every row and column equally often, so these means are adjusted for both; SEs and intervals use the residual mean square (df %d).", r.Residual.DF)}})
 			}
 		}
+		for _, ph := range a.Comparisons {
+			out = append(out, strataSection{title: postHocTitle(ph), tb: pairTable(ph), notes: []string{"Family: " + ph.Family + ". Error rate controlled: " + ph.ErrorRate + ". p-values are adjusted for the family; the residual mean square and df are the table's."}})
+		}
 	}
 	return out
 }

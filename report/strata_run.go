@@ -32,6 +32,13 @@ func RunStrata(p design.Plan, response string, obs workbook.StrataObservations, 
 		if a.TreatmentMeans, err = analyze.LatinMeans(d, res); err != nil {
 			return a, err
 		}
+		ph, err := analyze.LatinTukey(d, res, a.TreatmentMeans, alpha)
+		if err != nil {
+			return a, err
+		}
+		if ph != nil {
+			a.Comparisons = []*analyze.PostHoc{ph}
+		}
 		a.Method = "least-squares ANOVA with rows, columns and treatments"
 		if p.Blocks > 1 {
 			a.Method = fmt.Sprintf("least-squares ANOVA with %s, rows and columns within %s, and treatments", design.Plural(p.BlockName), design.Plural(p.BlockName))

@@ -11,7 +11,8 @@ cells; for a series of squares, differences of residual sums of squares of
 statsmodels OLS fits with each term left out (rows and columns nested in
 squares; the squares term in the model without them), df from the fits'
 ranks. The treatments' least-squares means come from the same fits (design
-rows averaged over the rows and columns, SEs from cov_params).
+rows averaged over the rows and columns, SEs from cov_params), and the
+Tukey HSD of every pair from them with scipy's studentized range.
 """
 import json
 import os
@@ -56,7 +57,7 @@ def single(df):
         out[name] = {"df": int(tab.loc[idx, "df"]), "ss": float(tab.loc[idx, "sum_sq"]), "f": float(tab.loc[idx, "F"]), "p": float(tab.loc[idx, "PR(>F)"])}
     out["resid_df"] = int(fit.df_resid)
     out["resid_ss"] = float(fit.ssr)
-    out["trt_lsmeans"] = lsmeans(fit, df, ["row", "col"])
+    out["trt_lsmeans"], out["tukey"] = lsmeans(fit, df, ["row", "col"])
     return out
 
 
@@ -68,13 +69,34 @@ def lsmeans(fit, df, blocking):
     from patsy import dmatrix
     levels = {c: sorted(df[c].unique()) for c in blocking}
     params, cov = np.asarray(fit.params), np.asarray(fit.cov_params())
-    out = []
-    for trt in sorted(df["trt"].unique()):
+    out, vecs = [], []
+    trts = sorted(df["trt"].unique())
+    for trt in trts:
         grid = [dict(zip(blocking, combo), trt=trt) for combo in it.product(*[levels[c] for c in blocking])]
         v = np.asarray(dmatrix(fit.model.data.design_info, pd.DataFrame(grid))).mean(axis=0)
+        vecs.append(v)
         out.append({"trt": trt, "mean": float(v @ params), "se": float(np.sqrt(v @ cov @ v)),
                     "t975": float(st.t.ppf(0.975, fit.df_resid))})
-    return out
+    return out, tukey(trts, vecs, params, cov, fit.df_resid)
+
+
+def tukey(trts, vecs, params, cov, df):
+    """Tukey HSD (Tukey–Kramer with the LS means' covariance) of every pair
+    of treatments: difference, its SE, q = |diff|/(SE/sqrt 2), the p-value
+    and the 95% critical q from scipy's studentized range on the residual
+    df."""
+    k = len(trts)
+    crit = float(st.studentized_range.ppf(0.95, k, df))
+    pairs = []
+    for i in range(k):
+        for j in range(i + 1, k):
+            d = vecs[i] - vecs[j]
+            se = float(np.sqrt(d @ cov @ d))
+            diff = float(d @ params)
+            q = abs(diff) / (se / np.sqrt(2))
+            pairs.append({"a": trts[i], "b": trts[j], "diff": diff, "se": se, "q": float(q),
+                          "p": float(st.studentized_range.sf(q, k, df)), "crit": crit})
+    return pairs
 
 
 def series(df):
@@ -83,7 +105,8 @@ def series(df):
     df["cs"] = df["sq"] + df["col"]
     terms = {"sq": "C(sq)", "row": "C(rs)", "col": "C(cs)", "trt": "C(trt)"}
     full = smf.ols("yf ~ " + " + ".join(terms.values()), data=df).fit()
-    out = {"resid_df": int(full.df_resid), "resid_ss": float(full.ssr), "trt_lsmeans": lsmeans(full, df, ["sq", "rs", "cs"])}
+    out = {"resid_df": int(full.df_resid), "resid_ss": float(full.ssr)}
+    out["trt_lsmeans"], out["tukey"] = lsmeans(full, df, ["sq", "rs", "cs"])
     for k in terms:
         # Squares are contained in rows and columns within squares: tested
         # in the model without those (Type II containment).
