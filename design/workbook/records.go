@@ -201,6 +201,7 @@ func (rr *recordReader) split() [][]byte {
 type pipedRecords struct {
 	full, free chan *recordBatch
 	done       chan struct{}
+	exited     chan struct{} // closed when the reading goroutine ends
 	cur        *recordBatch
 	at         int // next record of cur
 	rec        [][]byte
@@ -225,11 +226,12 @@ const (
 )
 
 func pipeRecords(rr *recordReader) *pipedRecords {
-	p := &pipedRecords{full: make(chan *recordBatch, 2), free: make(chan *recordBatch, 3), done: make(chan struct{})}
+	p := &pipedRecords{full: make(chan *recordBatch, 2), free: make(chan *recordBatch, 3), done: make(chan struct{}), exited: make(chan struct{})}
 	for range 3 {
 		p.free <- &recordBatch{buf: make([]byte, 0, batchBytes+1024)}
 	}
 	go func() {
+		defer close(p.exited)
 		for {
 			var b *recordBatch
 			select {
@@ -239,6 +241,11 @@ func pipeRecords(rr *recordReader) *pipedRecords {
 			}
 			b.buf, b.ends, b.starts, b.lines, b.err = b.buf[:0], b.ends[:0], b.starts[:0], b.lines[:0], nil
 			for len(b.lines) < batchRecords && len(b.buf) < batchBytes {
+				select {
+				case <-p.done:
+					return // the caller stopped: read no further
+				default:
+				}
 				rec, line, err := rr.read()
 				if err != nil {
 					b.err = err
@@ -294,5 +301,10 @@ func (p *pipedRecords) next() ([][]byte, int, error) {
 	return p.rec, b.lines[r], nil
 }
 
-// stop lets the reading goroutine end (it may still be waiting on a read).
-func (p *pipedRecords) stop() { close(p.done) }
+// stop ends the reading goroutine and waits for it (at most the read in
+// progress), so that it never reads from the input after the caller
+// returns.
+func (p *pipedRecords) stop() {
+	close(p.done)
+	<-p.exited
+}

@@ -2,9 +2,12 @@ package workbook
 
 import (
 	"errors"
+	"io"
 	"reflect"
+	"runtime"
 	"strings"
 	"testing"
+	"time"
 
 	"github.com/allotproject/allot/design"
 )
@@ -67,5 +70,47 @@ func TestReadRolesDialects(t *testing.T) {
 	}
 	if _, _, err := ReadRoles(strings.NewReader("\xFF\xFEd\x00"), "t.csv", roles, false); err == nil || !strings.Contains(err.Error(), "UTF-16") {
 		t.Errorf("UTF-16: got %v", err)
+	}
+}
+
+// countingReader counts the bytes read through it.
+type countingReader struct {
+	r io.Reader
+	n int64
+}
+
+func (c *countingReader) Read(p []byte) (int, error) {
+	n, err := c.r.Read(p)
+	c.n += int64(n)
+	return n, err
+}
+
+// TestReadRolesStopsReading: an error near the top of a long table ends the
+// read there: the reading goroutine is gone when ReadRoles returns and has
+// not read the input to its end.
+func TestReadRolesStopsReading(t *testing.T) {
+	var b strings.Builder
+	b.WriteString("diet,y\na,1\na,x\n")
+	for i := 0; i < 400_000; i++ {
+		b.WriteString("b,2.5\n")
+	}
+	before := runtime.NumGoroutine()
+	cr := &countingReader{r: strings.NewReader(b.String())}
+	_, _, err := ReadRoles(cr, "t.csv", Roles{Response: "y", Factors: []string{"diet"}}, false)
+	if err == nil || !strings.Contains(err.Error(), "line 3") {
+		t.Fatalf("error %v, want one naming line 3", err)
+	}
+	if cr.n >= int64(b.Len()) {
+		t.Errorf("read all %d bytes after an error on line 3", cr.n)
+	}
+	// The goroutine has closed its channel when ReadRoles returns; give
+	// the scheduler a moment to retire it.
+	after := runtime.NumGoroutine()
+	for wait := 0; after > before && wait < 1000; wait++ {
+		time.Sleep(time.Millisecond)
+		after = runtime.NumGoroutine()
+	}
+	if after > before {
+		t.Errorf("%d goroutines after ReadRoles, %d before", after, before)
 	}
 }
