@@ -4,6 +4,7 @@ import (
 	"encoding/json"
 	"math"
 	"os"
+	"strconv"
 	"testing"
 
 	"github.com/allotproject/allot/column"
@@ -216,5 +217,79 @@ func TestLatinTukeyReference(t *testing.T) {
 				refNear(t, "critical q", ph.Crit, w.Crit, 1e-8)
 			}
 		})
+	}
+}
+
+// TestLatinChecksReference: the residual checks of a Latin square against
+// testdata/reference/latin.json ("checks": the statsmodels OLS residuals and
+// externally studentized residuals, scipy's Shapiro–Wilk on the
+// residuals), on a square, a square with two cells missing and a series.
+func TestLatinChecksReference(t *testing.T) {
+	b, err := os.ReadFile("../testdata/reference/latin.json")
+	if err != nil {
+		t.Fatal(err)
+	}
+	var ref struct {
+		Cases []struct {
+			Name   string
+			Series bool
+			Data   struct{ Y, Row, Col, Trt, Sq []string }
+			Expect struct {
+				Checks struct {
+					Resid, Deleted []float64
+					W              float64 `json:"shapiro_w"`
+					P              float64 `json:"shapiro_p"`
+				}
+			}
+		}
+	}
+	if err := json.Unmarshal(b, &ref); err != nil {
+		t.Fatal(err)
+	}
+	flagged := 0
+	for _, c := range ref.Cases {
+		t.Run(c.Name, func(t *testing.T) {
+			d := LatinData{Response: "y", Values: c.Data.Y, Row: Column{Name: "row", Values: column.Of(c.Data.Row)},
+				Col: Column{Name: "column", Values: column.Of(c.Data.Col)}, Treatment: Column{Name: "trt", Values: column.Of(c.Data.Trt)}}
+			for i := range c.Data.Y {
+				d.Units = append(d.Units, "u"+strconv.Itoa(i))
+			}
+			if c.Series {
+				d.Square = &Column{Name: "square", Values: column.Of(c.Data.Sq)}
+			}
+			r, err := LatinSquareANOVA(d)
+			if err != nil {
+				t.Fatal(err)
+			}
+			means, err := LatinMeans(d, r)
+			if err != nil {
+				t.Fatal(err)
+			}
+			a := LatinChecks(d, r, means, 0.05)
+			w := c.Expect.Checks
+			// scipy's Shapiro–Wilk is single precision (see
+			// TestAssumptionsAgainstScipy).
+			if !a.NormalOK || math.Abs(a.ShapiroW-w.W) > 5e-6 || math.Abs(a.ShapiroP-w.P) > 1e-3 {
+				t.Errorf("Shapiro–Wilk W %.7f p %.5f; scipy %.7f %.5f", a.ShapiroW, a.ShapiroP, w.W, w.P)
+			}
+			want := map[string]float64{}
+			for i, del := range w.Deleted {
+				if math.Abs(del) > 3 {
+					want["u"+strconv.Itoa(i)] = del
+				}
+			}
+			if len(a.Outliers) != len(want) {
+				t.Fatalf("%d units flagged, statsmodels %d (%v)", len(a.Outliers), len(want), want)
+			}
+			for _, o := range a.Outliers {
+				refNear(t, o.Unit+" studentized", o.Studentized, want[o.Unit], 1e-8)
+				i, _ := strconv.Atoi(o.Unit[1:])
+				refNear(t, o.Unit+" residual", o.Residual, w.Resid[i], 1e-9)
+				flagged++
+			}
+		})
+	}
+	if flagged == 0 {
+		t.Error("no case flags a unit: the outlier check is not tested")
 	}
 }

@@ -640,11 +640,18 @@ func factorIndex(d Data, name string) int {
 // of observation i, whose residual is e (NaN where h_ii = 1 or there is no
 // residual variance; see checkAssumptions).
 func studentized(t *Table, i int, e float64) (stud, deleted float64) {
+	return studentizedOf(e, t.LeverageAt(i), t.ResidSD, t.Residual.DF)
+}
+
+// studentizedOf returns the internally and externally studentized residuals
+// of a residual e with leverage h, the residual SD sd on df degrees of
+// freedom.
+func studentizedOf(e, h, sd float64, df int) (stud, deleted float64) {
 	stud, deleted = math.NaN(), math.NaN()
-	if h := t.LeverageAt(i); h < 1-1e-10 && t.ResidSD > 0 {
-		stud = e / (t.ResidSD * math.Sqrt(1-h))
+	if h < 1-1e-10 && sd > 0 {
+		stud = e / (sd * math.Sqrt(1-h))
 	}
-	if nu := float64(t.Residual.DF); nu > 1 && !math.IsNaN(stud) {
+	if nu := float64(df); nu > 1 && !math.IsNaN(stud) {
 		if den := nu - stud*stud; den > 1e-12 {
 			deleted = stud * math.Sqrt((nu-1)/den)
 		} else {

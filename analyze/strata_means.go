@@ -3,6 +3,7 @@ package analyze
 import (
 	"fmt"
 	"math"
+	"sort"
 
 	"github.com/allotproject/allot/column"
 	"gonum.org/v1/gonum/mat"
@@ -103,10 +104,30 @@ func LatinMeans(d LatinData, res *LatinResult) ([]Group, error) {
 // SE of the difference of two of them; ok is false when the design matrix
 // is rank deficient.
 func latinLSMeans(d LatinData, gs []Group, ms float64) (mean, se []float64, diffSE func(i, j int) float64, ok bool) {
+	f, ok := fitLatin(d, gs, ms)
+	if !ok {
+		return nil, nil, nil, false
+	}
+	return f.mean, f.se, f.diffSE, true
+}
+
+// latinFit is the additive Latin-square model fitted by QR: the treatments'
+// LS means and SEs, the SE of a difference, and each observation's
+// residual and leverage.
+type latinFit struct {
+	mean, se    []float64
+	diffSE      func(i, j int) float64
+	resid, leve []float64
+}
+
+// fitLatin fits the additive model (see LatinMeans); ok is false when the
+// design matrix is rank deficient.
+func fitLatin(d LatinData, gs []Group, ms float64) (latinFit, bool) {
+	var none latinFit
 	n := len(d.Values)
 	y, shift, err := centred(column.Of(d.Values))
 	if err != nil {
-		return nil, nil, nil, false
+		return none, false
 	}
 	sh, _ := shift.Float64()
 	label := func(c Column, i int) string {
@@ -120,6 +141,7 @@ func latinLSMeans(d LatinData, gs []Group, ms float64) (mean, se []float64, diff
 	type coded struct {
 		of     []int
 		levels int
+		in     []bool // the observations the factor applies to (nil: all)
 	}
 	code := func(at func(i int) string, order []string) coded {
 		idx := map[string]int{}
@@ -143,9 +165,28 @@ func latinLSMeans(d LatinData, gs []Group, ms float64) (mean, se []float64, diff
 	for _, g := range gs {
 		trtOrder = append(trtOrder, g.Level)
 	}
-	factors := []coded{
-		code(func(i int) string { return label(d.Row, i) }, nil),
-		code(func(i int) string { return label(d.Col, i) }, nil),
+	factors := []coded{code(func(i int) string { return label(d.Row, i) }, nil)}
+	if d.Square == nil {
+		factors = append(factors, code(d.Col.Values.At, nil))
+	} else {
+		// Rows within squares carry the squares; columns are coded within
+		// each square (their effects sum to zero in every square), which
+		// keeps the design of full rank.
+		sq := code(d.Square.Values.At, nil)
+		for g := range sq.levels {
+			in := make([]bool, n)
+			var order []string
+			seen := map[string]bool{}
+			for i := range n {
+				if in[i] = sq.of[i] == g; in[i] && !seen[d.Col.Values.At(i)] {
+					seen[d.Col.Values.At(i)] = true
+					order = append(order, d.Col.Values.At(i))
+				}
+			}
+			c := code(d.Col.Values.At, order)
+			c.in = in
+			factors = append(factors, c)
+		}
 	}
 	trt := code(d.Treatment.Values.At, trtOrder)
 	factors = append(factors, trt)
@@ -156,12 +197,15 @@ func latinLSMeans(d LatinData, gs []Group, ms float64) (mean, se []float64, diff
 		p += f.levels - 1
 	}
 	if n <= p {
-		return nil, nil, nil, false
+		return none, false
 	}
 	x := mat.NewDense(n, p, nil)
 	for i := range n {
 		x.Set(i, 0, 1)
 		for k, f := range factors {
+			if f.in != nil && !f.in[i] {
+				continue
+			}
 			l := f.of[i]
 			for j := 0; j < f.levels-1; j++ {
 				switch {
@@ -185,22 +229,22 @@ func latinLSMeans(d LatinData, gs []Group, ms float64) (mean, se []float64, diff
 	}
 	for j := range p {
 		if math.Abs(r.At(j, j)) < 1e-9*math.Sqrt(float64(n)) {
-			return nil, nil, nil, false
+			return none, false
 		}
 	}
 	var b mat.Dense
 	if err := qr.SolveTo(&b, false, mat.NewDense(n, 1, y)); err != nil {
-		return nil, nil, nil, false
+		return none, false
 	}
 	// (XᵀX)⁻¹ = R⁻¹R⁻ᵀ.
 	var rinv mat.TriDense
 	if err := rinv.InverseTri(r); err != nil {
-		return nil, nil, nil, false
+		return none, false
 	}
 	var cov mat.Dense
 	cov.Mul(&rinv, rinv.T())
 	ts := start[len(factors)-1]
-	mean, se = make([]float64, len(gs)), make([]float64, len(gs))
+	mean, se := make([]float64, len(gs)), make([]float64, len(gs))
 	contrasts := make([][]float64, len(gs))
 	quad := func(c []float64) float64 {
 		var q float64
@@ -232,14 +276,27 @@ func latinLSMeans(d LatinData, gs []Group, ms float64) (mean, se []float64, diff
 		contrasts[k] = c
 		mean[k], se[k] = sh+m, math.Sqrt(ms*quad(c))
 	}
-	diffSE = func(i, j int) float64 {
+	diffSE := func(i, j int) float64 {
 		dc := make([]float64, p)
 		for k := range dc {
 			dc[k] = contrasts[i][k] - contrasts[j][k]
 		}
 		return math.Sqrt(ms * quad(dc))
 	}
-	return mean, se, diffSE, true
+	// Residuals y − Xb, and leverages: the squared row norms of the first
+	// p columns of Q.
+	var q mat.Dense
+	qr.QTo(&q)
+	resid, leve := make([]float64, n), make([]float64, n)
+	for i := range n {
+		fit, h := 0.0, 0.0
+		for j := range p {
+			fit += x.At(i, j) * b.At(j, 0)
+			h += q.At(i, j) * q.At(i, j)
+		}
+		resid[i], leve[i] = y[i]-fit, h
+	}
+	return latinFit{mean: mean, se: se, diffSE: diffSE, resid: resid, leve: leve}, true
 }
 
 // LatinTukey compares every pair of treatment means of a Latin square (or
@@ -266,4 +323,54 @@ func LatinTukey(d LatinData, res *LatinResult, means []Group, alpha float64) (*P
 	ph := tukeyGroups(append([]Group(nil), means...), t, d.Treatment.Name, se)
 	addLetters(ph)
 	return ph, nil
+}
+
+// LatinChecks runs the residual checks of a Latin square (or series) on the
+// additive model's residuals: Shapiro–Wilk on them (approximate, as they
+// are correlated: they sum to zero along every row, column and treatment;
+// 3 to 5000 values), and the units whose externally studentized residual
+// exceeds 3 in size (Cook and Weisberg 1982, eq. 2.2.9), largest first.
+func LatinChecks(d LatinData, res *LatinResult, means []Group, alpha float64) Assumptions {
+	a := Assumptions{ShapiroW: math.NaN(), ShapiroP: math.NaN(), Levene: math.NaN(), LeveneP: math.NaN(), SDRatio: math.NaN(),
+		Basis: "residuals of the additive model (rows, columns and treatments); they are correlated, so the normality test is approximate"}
+	if res == nil || res.Residual.DF <= 1 {
+		a.Verdicts = []string{"The residual checks need at least 2 residual df."}
+		return a
+	}
+	f, ok := fitLatin(d, means, res.Residual.MS)
+	if !ok {
+		a.Verdicts = []string{"The residual checks were not run: the model could not be fitted by least squares."}
+		return a
+	}
+	sd := math.Sqrt(res.Residual.MS)
+	for i, e := range f.resid {
+		_, del := studentizedOf(e, f.leve[i], sd, res.Residual.DF)
+		if math.Abs(del) > 3 {
+			o := Outlier{Value: d.Values[i], Residual: e, Studentized: del,
+				Where: d.Row.Name + " " + d.Row.Values.At(i) + ", " + d.Col.Name + " " + d.Col.Values.At(i)}
+			if d.Square != nil {
+				o.Where = d.Square.Name + " " + d.Square.Values.At(i) + ", " + o.Where
+			}
+			if i < len(d.Units) {
+				o.Unit = d.Units[i]
+			}
+			a.Outliers = append(a.Outliers, o)
+		}
+	}
+	sort.Slice(a.Outliers, func(i, j int) bool { return math.Abs(a.Outliers[i].Studentized) > math.Abs(a.Outliers[j].Studentized) })
+	var ok2 bool
+	a.ShapiroW, a.ShapiroP, ok2 = ShapiroWilk(f.resid)
+	a.NormalOK = ok2 && !math.IsNaN(a.ShapiroW) && !math.IsNaN(a.ShapiroP)
+	switch {
+	case !a.NormalOK:
+		a.Verdicts = append(a.Verdicts, "Normality of the residuals could not be tested (fewer than 3 or more than 5000 values, or all equal).")
+	case a.ShapiroP < alpha:
+		a.Verdicts = append(a.Verdicts, fmt.Sprintf("The residuals depart from a normal distribution (Shapiro–Wilk W = %.3f, p = %.4f; approximate for correlated residuals): look at the units listed and consider a transformation or a rank-based analysis, with a statistician.", a.ShapiroW, a.ShapiroP))
+	default:
+		a.Verdicts = append(a.Verdicts, fmt.Sprintf("The residuals are consistent with a normal distribution (Shapiro–Wilk W = %.3f, p = %.4f; approximate for correlated residuals). With few residual df this test has little power.", a.ShapiroW, a.ShapiroP))
+	}
+	if len(a.Outliers) > 0 {
+		a.Verdicts = append(a.Verdicts, fmt.Sprintf("%d unit(s) have a studentized residual beyond ±3: check them for typing or measuring slips before trusting the tests.", len(a.Outliers)))
+	}
+	return a
 }

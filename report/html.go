@@ -90,8 +90,12 @@ func HTML(w io.Writer, r HTMLReport) error {
 		s := htmlSection{Response: a.Response}
 		s.Blocks = append(s.Blocks, htmlBlock{Lines: []string{"Design: " + a.Design + ".", "Method: " + a.Method + "."}})
 		for _, sec := range a.sections() {
-			t := toHTML(sec.tb, "")
-			s.Blocks = append(s.Blocks, htmlBlock{Title: sec.title, Table: &t, Notes: sec.notes})
+			hb := htmlBlock{Title: sec.title, Notes: sec.notes}
+			if len(sec.tb.head) > 0 {
+				t := toHTML(sec.tb, "")
+				hb.Table = &t
+			}
+			s.Blocks = append(s.Blocks, hb)
 		}
 		s.Blocks = append(s.Blocks, htmlBlock{Title: "Cautions", Lines: a.cautions(), Bullets: true, Caution: true})
 		figs, err := StrataFigures(a, r.Unit)

@@ -31,6 +31,8 @@ type StrataAnalysis struct {
 	// are complete (analyze.LatinMeans).
 	CellMeans      []analyze.Cell  `json:"cell_means,omitempty"`
 	TreatmentMeans []analyze.Group `json:"treatment_means,omitempty"`
+	// Checks are the residual checks of a Latin square (analyze.LatinChecks).
+	Checks *analyze.Assumptions `json:"assumptions,omitempty"`
 	// MainPlot is what a main plot is called (chamber, cage).
 	MainPlot  string  `json:"main_plot_name,omitempty"`
 	Missing   int     `json:"missing"`
@@ -148,6 +150,13 @@ func (a StrataAnalysis) sections() []strataSection {
 		for _, ph := range a.Comparisons {
 			out = append(out, strataSection{title: postHocTitle(ph), tb: pairTable(ph), notes: []string{"Family: " + ph.Family + ". Error rate controlled: " + ph.ErrorRate + ". p-values are adjusted for the family; the residual mean square and df are the table's."}})
 		}
+		if c := a.Checks; c != nil {
+			sec := strataSection{title: "Checks of the residuals", notes: append([]string{"Checked on the " + c.Basis + "."}, c.Verdicts...)}
+			if len(c.Outliers) > 0 {
+				sec.tb = outlierTable(c.Outliers)
+			}
+			out = append(out, sec)
+		}
 	}
 	return out
 }
@@ -178,7 +187,9 @@ func StrataText(w io.Writer, a StrataAnalysis) error {
 	b.WriteString(wrap("Method: "+a.Method, 78, ""))
 	for _, s := range a.sections() {
 		b.WriteString("\n" + s.title + "\n")
-		b.WriteString(s.tb.text("  "))
+		if len(s.tb.head) > 0 {
+			b.WriteString(s.tb.text("  "))
+		}
 		for _, n := range s.notes {
 			b.WriteString(wrap(n, 78, "  "))
 		}
@@ -197,7 +208,9 @@ func StrataMarkdown(w io.Writer, a StrataAnalysis) error {
 	fmt.Fprintf(&b, "## %s\n\n*Design:* %s\n\n*Method:* %s\n", escapeMD([]string{a.Response})[0], escapeMD([]string{a.Design})[0], escapeMD([]string{a.Method})[0])
 	for _, s := range a.sections() {
 		fmt.Fprintf(&b, "\n### %s\n\n", escapeMD([]string{s.title})[0])
-		b.WriteString(s.tb.markdown())
+		if len(s.tb.head) > 0 {
+			b.WriteString(s.tb.markdown())
+		}
 		for _, n := range s.notes {
 			b.WriteString("\n" + escapeMD([]string{n})[0] + "\n")
 		}

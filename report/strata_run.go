@@ -39,6 +39,8 @@ func RunStrata(p design.Plan, response string, obs workbook.StrataObservations, 
 		if ph != nil {
 			a.Comparisons = []*analyze.PostHoc{ph}
 		}
+		checks := analyze.LatinChecks(d, res, a.TreatmentMeans, alpha)
+		a.Checks = &checks
 		a.Method = "least-squares ANOVA with rows, columns and treatments"
 		if p.Blocks > 1 {
 			a.Method = fmt.Sprintf("least-squares ANOVA with %s, rows and columns within %s, and treatments", design.Plural(p.BlockName), design.Plural(p.BlockName))

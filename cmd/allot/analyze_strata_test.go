@@ -299,7 +299,7 @@ func TestAnalyzeLatinReference(t *testing.T) {
 				fig = "LS mean gain by feed"
 			}
 			page, _ := os.ReadFile(html)
-			for _, w := range []string{title, "<svg", fig, "Tukey HSD comparisons of feed"} {
+			for _, w := range []string{title, "<svg", fig, "Tukey HSD comparisons of feed", "Checks of the residuals", "Shapiro–Wilk"} {
 				if !strings.Contains(out+string(page), w) || !strings.Contains(string(page), w) {
 					t.Errorf("text or report lacks %q", w)
 				}

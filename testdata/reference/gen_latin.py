@@ -58,6 +58,7 @@ def single(df):
     out["resid_df"] = int(fit.df_resid)
     out["resid_ss"] = float(fit.ssr)
     out["trt_lsmeans"], out["tukey"] = lsmeans(fit, df, ["row", "col"])
+    out["checks"] = checks(fit)
     return out
 
 
@@ -78,6 +79,15 @@ def lsmeans(fit, df, blocking):
         out.append({"trt": trt, "mean": float(v @ params), "se": float(np.sqrt(v @ cov @ v)),
                     "t975": float(st.t.ppf(0.975, fit.df_resid))})
     return out, tukey(trts, vecs, params, cov, fit.df_resid)
+
+
+def checks(fit):
+    """Residuals, externally studentized residuals (statsmodels influence)
+    and Shapiro–Wilk on the residuals (scipy), in data order."""
+    infl = fit.get_influence()
+    w, p = st.shapiro(np.asarray(fit.resid))
+    return {"resid": [float(v) for v in fit.resid], "deleted": [float(v) for v in infl.resid_studentized_external],
+            "shapiro_w": float(w), "shapiro_p": float(p)}
 
 
 def tukey(trts, vecs, params, cov, df):
@@ -107,6 +117,7 @@ def series(df):
     full = smf.ols("yf ~ " + " + ".join(terms.values()), data=df).fit()
     out = {"resid_df": int(full.df_resid), "resid_ss": float(full.ssr)}
     out["trt_lsmeans"], out["tukey"] = lsmeans(full, df, ["sq", "rs", "cs"])
+    out["checks"] = checks(full)
     for k in terms:
         # Squares are contained in rows and columns within squares: tested
         # in the model without those (Type II containment).
