@@ -87,41 +87,9 @@ func TestLatinSquareReference(t *testing.T) {
 // cells the raw means are not the LS means; LatinMeans fits the additive
 // model for them.
 func TestLatinMeansReference(t *testing.T) {
-	b, err := os.ReadFile("../testdata/reference/latin.json")
-	if err != nil {
-		t.Fatal(err)
-	}
-	var ref struct {
-		Cases []struct {
-			Name   string
-			Series bool
-			Data   struct{ Y, Row, Col, Trt, Sq []string }
-			Expect struct {
-				LSMeans []struct {
-					Trt            string
-					Mean, SE, T975 float64
-				} `json:"trt_lsmeans"`
-			}
-		}
-	}
-	if err := json.Unmarshal(b, &ref); err != nil {
-		t.Fatal(err)
-	}
-	for _, c := range ref.Cases {
+	for _, c := range loadLatinRef(t) {
 		t.Run(c.Name, func(t *testing.T) {
-			d := LatinData{Response: "y", Values: c.Data.Y, Row: Column{Name: "row", Values: column.Of(c.Data.Row)},
-				Col: Column{Name: "column", Values: column.Of(c.Data.Col)}, Treatment: Column{Name: "trt", Values: column.Of(c.Data.Trt)}}
-			if c.Series {
-				d.Square = &Column{Name: "square", Values: column.Of(c.Data.Sq)}
-			}
-			r, err := LatinSquareANOVA(d)
-			if err != nil {
-				t.Fatal(err)
-			}
-			gs, err := LatinMeans(d, r)
-			if err != nil {
-				t.Fatal(err)
-			}
+			_, r, gs := c.fit(t)
 			if len(gs) != len(c.Expect.LSMeans) {
 				t.Fatalf("%d treatments, want %d", len(gs), len(c.Expect.LSMeans))
 			}
@@ -154,41 +122,9 @@ func TestLatinMeansReference(t *testing.T) {
 // critical q from scipy's studentized range), in complete squares and with
 // cells missing (Tukey–Kramer on the LS means).
 func TestLatinTukeyReference(t *testing.T) {
-	b, err := os.ReadFile("../testdata/reference/latin.json")
-	if err != nil {
-		t.Fatal(err)
-	}
-	var ref struct {
-		Cases []struct {
-			Name   string
-			Series bool
-			Data   struct{ Y, Row, Col, Trt, Sq []string }
-			Expect struct {
-				Tukey []struct {
-					A, B                 string
-					Diff, SE, Q, P, Crit float64
-				}
-			}
-		}
-	}
-	if err := json.Unmarshal(b, &ref); err != nil {
-		t.Fatal(err)
-	}
-	for _, c := range ref.Cases {
+	for _, c := range loadLatinRef(t) {
 		t.Run(c.Name, func(t *testing.T) {
-			d := LatinData{Response: "y", Values: c.Data.Y, Row: Column{Name: "row", Values: column.Of(c.Data.Row)},
-				Col: Column{Name: "column", Values: column.Of(c.Data.Col)}, Treatment: Column{Name: "trt", Values: column.Of(c.Data.Trt)}}
-			if c.Series {
-				d.Square = &Column{Name: "square", Values: column.Of(c.Data.Sq)}
-			}
-			r, err := LatinSquareANOVA(d)
-			if err != nil {
-				t.Fatal(err)
-			}
-			means, err := LatinMeans(d, r)
-			if err != nil {
-				t.Fatal(err)
-			}
+			d, r, means := c.fit(t)
 			ph, err := LatinTukey(d, r, means, 0.05)
 			if err != nil || ph == nil {
 				t.Fatalf("no comparisons: %v", err)
@@ -225,46 +161,10 @@ func TestLatinTukeyReference(t *testing.T) {
 // externally studentized residuals, scipy's Shapiro–Wilk on the
 // residuals), on a square, a square with two cells missing and a series.
 func TestLatinChecksReference(t *testing.T) {
-	b, err := os.ReadFile("../testdata/reference/latin.json")
-	if err != nil {
-		t.Fatal(err)
-	}
-	var ref struct {
-		Cases []struct {
-			Name   string
-			Series bool
-			Data   struct{ Y, Row, Col, Trt, Sq []string }
-			Expect struct {
-				Checks struct {
-					Resid, Deleted []float64
-					W              float64 `json:"shapiro_w"`
-					P              float64 `json:"shapiro_p"`
-				}
-			}
-		}
-	}
-	if err := json.Unmarshal(b, &ref); err != nil {
-		t.Fatal(err)
-	}
 	flagged := 0
-	for _, c := range ref.Cases {
+	for _, c := range loadLatinRef(t) {
 		t.Run(c.Name, func(t *testing.T) {
-			d := LatinData{Response: "y", Values: c.Data.Y, Row: Column{Name: "row", Values: column.Of(c.Data.Row)},
-				Col: Column{Name: "column", Values: column.Of(c.Data.Col)}, Treatment: Column{Name: "trt", Values: column.Of(c.Data.Trt)}}
-			for i := range c.Data.Y {
-				d.Units = append(d.Units, "u"+strconv.Itoa(i))
-			}
-			if c.Series {
-				d.Square = &Column{Name: "square", Values: column.Of(c.Data.Sq)}
-			}
-			r, err := LatinSquareANOVA(d)
-			if err != nil {
-				t.Fatal(err)
-			}
-			means, err := LatinMeans(d, r)
-			if err != nil {
-				t.Fatal(err)
-			}
+			d, r, means := c.fit(t)
 			a := LatinChecks(d, r, means, 0.05)
 			w := c.Expect.Checks
 			// scipy's Shapiro–Wilk is single precision (see
@@ -292,4 +192,63 @@ func TestLatinChecksReference(t *testing.T) {
 	if flagged == 0 {
 		t.Error("no case flags a unit: the outlier check is not tested")
 	}
+}
+
+// latinRef is a case of testdata/reference/latin.json (gen_latin.py) with
+// the expected values the means, Tukey and checks tests read.
+type latinRef struct {
+	Name   string
+	Series bool
+	Data   struct{ Y, Row, Col, Trt, Sq []string }
+	Expect struct {
+		LSMeans []struct {
+			Trt            string
+			Mean, SE, T975 float64
+		} `json:"trt_lsmeans"`
+		Tukey []struct {
+			A, B                 string
+			Diff, SE, Q, P, Crit float64
+		}
+		Checks struct {
+			Resid, Deleted []float64
+			W              float64 `json:"shapiro_w"`
+			P              float64 `json:"shapiro_p"`
+		}
+	}
+}
+
+func loadLatinRef(t *testing.T) []latinRef {
+	t.Helper()
+	b, err := os.ReadFile("../testdata/reference/latin.json")
+	if err != nil {
+		t.Fatal(err)
+	}
+	var ref struct{ Cases []latinRef }
+	if err := json.Unmarshal(b, &ref); err != nil {
+		t.Fatal(err)
+	}
+	return ref.Cases
+}
+
+// fit returns the case's data (units u0, u1, …) and its Latin-square ANOVA
+// and treatment means.
+func (c latinRef) fit(t *testing.T) (LatinData, *LatinResult, []Group) {
+	t.Helper()
+	d := LatinData{Response: "y", Values: c.Data.Y, Row: Column{Name: "row", Values: column.Of(c.Data.Row)},
+		Col: Column{Name: "column", Values: column.Of(c.Data.Col)}, Treatment: Column{Name: "trt", Values: column.Of(c.Data.Trt)}}
+	for i := range c.Data.Y {
+		d.Units = append(d.Units, "u"+strconv.Itoa(i))
+	}
+	if c.Series {
+		d.Square = &Column{Name: "square", Values: column.Of(c.Data.Sq)}
+	}
+	r, err := LatinSquareANOVA(d)
+	if err != nil {
+		t.Fatal(err)
+	}
+	means, err := LatinMeans(d, r)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return d, r, means
 }

@@ -180,6 +180,37 @@ func (o *analyzeOptions) settings() options.Analysis {
 		Direction: o.direction, Trend: o.trend, RandomBlocks: o.blocks == "random"}
 }
 
+// writeFigures writes one analysis's figures into --plots, if set.
+func (o *analyzeOptions) writeFigures(s *streams, figures func() ([]report.Figure, error)) error {
+	if o.plots == "" {
+		return nil
+	}
+	figs, err := figures()
+	if err != nil {
+		return err
+	}
+	written, err := report.WriteFigures(o.plots, figs, o.force)
+	if err != nil {
+		return inputErr(err)
+	}
+	fmt.Fprintf(s.Err, "allot analyze: wrote %d figure files into %s\n", len(written), o.plots)
+	return nil
+}
+
+// writeReport writes the HTML report to --report, if set, with the
+// command, version and unit filled in.
+func (o *analyzeOptions) writeReport(s *streams, rep report.HTMLReport) error {
+	if o.html == "" {
+		return nil
+	}
+	rep.Command, rep.Version, rep.Unit = o.command, version.String(), o.unit
+	if err := atomicfile.Write(o.html, o.force, func(w io.Writer) error { return report.HTML(w, rep) }); err != nil {
+		return inputErr(err)
+	}
+	fmt.Fprintf(s.Err, "allot analyze: wrote %s\n", o.html)
+	return nil
+}
+
 func analyzeRun(s *streams, o *analyzeOptions) error {
 	jobs, plan, check, err := o.jobs()
 	if sw, ok := err.(*strataWorkbook); ok {
@@ -248,25 +279,13 @@ func analyzeRun(s *streams, o *analyzeOptions) error {
 			return err
 		}
 	}
-	if o.plots != "" {
-		for _, a := range all {
-			figs, err := report.AnalysisFigures(a, o.unit)
-			if err != nil {
-				return err
-			}
-			written, err := report.WriteFigures(o.plots, figs, o.force)
-			if err != nil {
-				return inputErr(err)
-			}
-			fmt.Fprintf(s.Err, "allot analyze: wrote %d figure files into %s\n", len(written), o.plots)
+	for _, a := range all {
+		if err := o.writeFigures(s, func() ([]report.Figure, error) { return report.AnalysisFigures(a, o.unit) }); err != nil {
+			return err
 		}
 	}
-	if o.html != "" {
-		rep := report.HTMLReport{Analyses: all, Plan: plan, Check: check, Command: o.command, Version: version.String(), Unit: o.unit}
-		if err := atomicfile.Write(o.html, o.force, func(w io.Writer) error { return report.HTML(w, rep) }); err != nil {
-			return inputErr(err)
-		}
-		fmt.Fprintf(s.Err, "allot analyze: wrote %s\n", o.html)
+	if err := o.writeReport(s, report.HTMLReport{Analyses: all, Plan: plan, Check: check}); err != nil {
+		return err
 	}
 	if len(undefined) > 0 {
 		return &failedError{err: fmt.Errorf("%s: %s: the residual variation is exactly zero, so no F test is defined (see the note in the output)", o.read.file, strings.Join(undefined, ", "))}

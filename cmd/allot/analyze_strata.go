@@ -2,11 +2,9 @@ package main
 
 import (
 	"fmt"
-	"io"
 	"strings"
 
 	"github.com/allotproject/allot/design/workbook"
-	"github.com/allotproject/allot/internal/atomicfile"
 	"github.com/allotproject/allot/internal/version"
 	"github.com/allotproject/allot/report"
 )
@@ -68,25 +66,10 @@ func analyzeStrata(s *streams, o *analyzeOptions, fl *workbook.Filled) error {
 		fmt.Fprintf(s.Err, "allot analyze: %s\n", pr)
 		check = append(check, fmt.Sprint(pr))
 	}
-	if o.plots != "" {
-		for _, a := range all {
-			figs, err := report.StrataFigures(a, o.unit)
-			if err != nil {
-				return err
-			}
-			written, err := report.WriteFigures(o.plots, figs, o.force)
-			if err != nil {
-				return inputErr(err)
-			}
-			fmt.Fprintf(s.Err, "allot analyze: wrote %d figure files into %s\n", len(written), o.plots)
+	for _, a := range all {
+		if err := o.writeFigures(s, func() ([]report.Figure, error) { return report.StrataFigures(a, o.unit) }); err != nil {
+			return err
 		}
 	}
-	if o.html != "" {
-		rep := report.HTMLReport{Strata: all, Plan: &p, Check: check, Command: o.command, Version: version.String(), Unit: o.unit}
-		if err := atomicfile.Write(o.html, o.force, func(w io.Writer) error { return report.HTML(w, rep) }); err != nil {
-			return inputErr(err)
-		}
-		fmt.Fprintf(s.Err, "allot analyze: wrote %s\n", o.html)
-	}
-	return nil
+	return o.writeReport(s, report.HTMLReport{Strata: all, Plan: &p, Check: check})
 }
