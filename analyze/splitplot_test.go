@@ -42,6 +42,12 @@ type splitRef struct {
 			FE      []float64
 			FENames []string `json:"fe_names"`
 		}
+		Checks struct {
+			Resid, Deleted []float64
+			W              float64 `json:"shapiro_w"`
+			P              float64 `json:"shapiro_p"`
+			DF             int
+		}
 	}
 }
 
@@ -340,5 +346,46 @@ func TestSplitPlotCellMeans(t *testing.T) {
 				}
 			}
 		})
+	}
+}
+
+// TestSplitPlotChecksReference: the sub-plot residual checks against
+// testdata/reference/splitplot.json ("checks": the residuals of the
+// statsmodels OLS fit within main plots, its externally studentized
+// residuals, scipy's Shapiro–Wilk), balanced and with sub-plots missing.
+func TestSplitPlotChecksReference(t *testing.T) {
+	flagged := 0
+	for _, c := range loadSplit(t).Cases {
+		t.Run(c.Name, func(t *testing.T) {
+			d := splitData(c.Data, c.Blocked)
+			for i := range c.Data.Y {
+				d.Units = append(d.Units, "u"+strconv.Itoa(i))
+			}
+			a := SplitPlotChecks(d, 0.05)
+			w := c.Checks
+			// scipy's Shapiro–Wilk is single precision (see
+			// TestAssumptionsAgainstScipy).
+			if !a.NormalOK || math.Abs(a.ShapiroW-w.W) > 5e-6 || math.Abs(a.ShapiroP-w.P) > 1e-3 {
+				t.Errorf("Shapiro–Wilk W %.7f p %.5f; scipy %.7f %.5f (%v)", a.ShapiroW, a.ShapiroP, w.W, w.P, a.Verdicts)
+			}
+			want := map[string]float64{}
+			for i, del := range w.Deleted {
+				if math.Abs(del) > 3 {
+					want["u"+strconv.Itoa(i)] = del
+				}
+			}
+			if len(a.Outliers) != len(want) {
+				t.Fatalf("%d units flagged, statsmodels %d (%v)", len(a.Outliers), len(want), want)
+			}
+			for _, o := range a.Outliers {
+				refNear(t, o.Unit+" studentized", o.Studentized, want[o.Unit], 1e-8)
+				i, _ := strconv.Atoi(o.Unit[1:])
+				refNear(t, o.Unit+" residual", o.Residual, w.Resid[i], 1e-9)
+				flagged++
+			}
+		})
+	}
+	if flagged == 0 {
+		t.Error("no case flags a unit: the outlier check is not tested")
 	}
 }

@@ -217,32 +217,11 @@ func fitLatin(d LatinData, gs []Group, ms float64) (latinFit, bool) {
 			}
 		}
 	}
-	var qr mat.QR
-	qr.Factorize(x)
-	var rd mat.Dense
-	qr.RTo(&rd)
-	r := mat.NewTriDense(p, mat.Upper, nil)
-	for i := range p {
-		for j := i; j < p; j++ {
-			r.SetTri(i, j, rd.At(i, j))
-		}
-	}
-	for j := range p {
-		if math.Abs(r.At(j, j)) < 1e-9*math.Sqrt(float64(n)) {
-			return none, false
-		}
-	}
-	var b mat.Dense
-	if err := qr.SolveTo(&b, false, mat.NewDense(n, 1, y)); err != nil {
+	ls, ok := leastSquares(x, y)
+	if !ok {
 		return none, false
 	}
-	// (XᵀX)⁻¹ = R⁻¹R⁻ᵀ.
-	var rinv mat.TriDense
-	if err := rinv.InverseTri(r); err != nil {
-		return none, false
-	}
-	var cov mat.Dense
-	cov.Mul(&rinv, rinv.T())
+	b, cov := ls.b, ls.cov
 	ts := start[len(factors)-1]
 	mean, se := make([]float64, len(gs)), make([]float64, len(gs))
 	contrasts := make([][]float64, len(gs))
@@ -271,7 +250,7 @@ func fitLatin(d LatinData, gs []Group, ms float64) (latinFit, bool) {
 		}
 		var m float64
 		for i := range p {
-			m += c[i] * b.At(i, 0)
+			m += c[i] * b[i]
 		}
 		contrasts[k] = c
 		mean[k], se[k] = sh+m, math.Sqrt(ms*quad(c))
@@ -283,20 +262,65 @@ func fitLatin(d LatinData, gs []Group, ms float64) (latinFit, bool) {
 		}
 		return math.Sqrt(ms * quad(dc))
 	}
-	// Residuals y − Xb, and leverages: the squared row norms of the first
-	// p columns of Q.
+	return latinFit{mean: mean, se: se, diffSE: diffSE, resid: ls.resid, leve: ls.lev}, true
+}
+
+// lsFit is a least-squares fit of y on the columns of X by QR.
+type lsFit struct {
+	b          []float64
+	cov        *mat.Dense // (XᵀX)⁻¹ = R⁻¹R⁻ᵀ
+	resid, lev []float64  // y − Xb, and the leverages (diagonal of the hat matrix)
+	df         int        // n − p
+}
+
+// leastSquares fits y on X (n > p, full column rank; ok is false
+// otherwise). The leverages are the squared row norms of the first p
+// columns of Q.
+func leastSquares(x *mat.Dense, y []float64) (lsFit, bool) {
+	n, p := x.Dims()
+	if n <= p {
+		return lsFit{}, false
+	}
+	var qr mat.QR
+	qr.Factorize(x)
+	var rd mat.Dense
+	qr.RTo(&rd)
+	r := mat.NewTriDense(p, mat.Upper, nil)
+	for i := range p {
+		for j := i; j < p; j++ {
+			r.SetTri(i, j, rd.At(i, j))
+		}
+	}
+	for j := range p {
+		if math.Abs(r.At(j, j)) < 1e-9*math.Sqrt(float64(n)) {
+			return lsFit{}, false
+		}
+	}
+	var b mat.Dense
+	if err := qr.SolveTo(&b, false, mat.NewDense(n, 1, y)); err != nil {
+		return lsFit{}, false
+	}
+	var rinv mat.TriDense
+	if err := rinv.InverseTri(r); err != nil {
+		return lsFit{}, false
+	}
+	cov := new(mat.Dense)
+	cov.Mul(&rinv, rinv.T())
 	var q mat.Dense
 	qr.QTo(&q)
-	resid, leve := make([]float64, n), make([]float64, n)
+	f := lsFit{b: make([]float64, p), cov: cov, resid: make([]float64, n), lev: make([]float64, n), df: n - p}
+	for j := range p {
+		f.b[j] = b.At(j, 0)
+	}
 	for i := range n {
 		fit, h := 0.0, 0.0
 		for j := range p {
-			fit += x.At(i, j) * b.At(j, 0)
+			fit += x.At(i, j) * f.b[j]
 			h += q.At(i, j) * q.At(i, j)
 		}
-		resid[i], leve[i] = y[i]-fit, h
+		f.resid[i], f.lev[i] = y[i]-fit, h
 	}
-	return latinFit{mean: mean, se: se, diffSE: diffSE, resid: resid, leve: leve}, true
+	return f, true
 }
 
 // LatinTukey compares every pair of treatment means of a Latin square (or
@@ -342,24 +366,35 @@ func LatinChecks(d LatinData, res *LatinResult, means []Group, alpha float64) As
 		a.Verdicts = []string{"The residual checks were not run: the model could not be fitted by least squares."}
 		return a
 	}
-	sd := math.Sqrt(res.Residual.MS)
-	for i, e := range f.resid {
-		_, del := studentizedOf(e, f.leve[i], sd, res.Residual.DF)
+	where := func(i int) string {
+		w := d.Row.Name + " " + d.Row.Values.At(i) + ", " + d.Col.Name + " " + d.Col.Values.At(i)
+		if d.Square != nil {
+			w = d.Square.Name + " " + d.Square.Values.At(i) + ", " + w
+		}
+		return w
+	}
+	return residualChecks(a, f.resid, f.leve, res.Residual.MS, res.Residual.DF, d.Values, d.Units, where, alpha)
+}
+
+// residualChecks completes a with the checks of residuals resid (leverages
+// lev, residual mean square ms on df): Shapiro–Wilk on them (approximate:
+// they are correlated) and the units whose externally studentized residual
+// exceeds 3, named by where(i), largest first.
+func residualChecks(a Assumptions, resid, lev []float64, ms float64, df int, values, units []string, where func(int) string, alpha float64) Assumptions {
+	sd := math.Sqrt(ms)
+	for i, e := range resid {
+		_, del := studentizedOf(e, lev[i], sd, df)
 		if math.Abs(del) > 3 {
-			o := Outlier{Value: d.Values[i], Residual: e, Studentized: del,
-				Where: d.Row.Name + " " + d.Row.Values.At(i) + ", " + d.Col.Name + " " + d.Col.Values.At(i)}
-			if d.Square != nil {
-				o.Where = d.Square.Name + " " + d.Square.Values.At(i) + ", " + o.Where
-			}
-			if i < len(d.Units) {
-				o.Unit = d.Units[i]
+			o := Outlier{Value: values[i], Residual: e, Studentized: del, Where: where(i)}
+			if i < len(units) {
+				o.Unit = units[i]
 			}
 			a.Outliers = append(a.Outliers, o)
 		}
 	}
 	sort.Slice(a.Outliers, func(i, j int) bool { return math.Abs(a.Outliers[i].Studentized) > math.Abs(a.Outliers[j].Studentized) })
 	var ok2 bool
-	a.ShapiroW, a.ShapiroP, ok2 = ShapiroWilk(f.resid)
+	a.ShapiroW, a.ShapiroP, ok2 = ShapiroWilk(resid)
 	a.NormalOK = ok2 && !math.IsNaN(a.ShapiroW) && !math.IsNaN(a.ShapiroP)
 	switch {
 	case !a.NormalOK:
@@ -367,10 +402,78 @@ func LatinChecks(d LatinData, res *LatinResult, means []Group, alpha float64) As
 	case a.ShapiroP < alpha:
 		a.Verdicts = append(a.Verdicts, fmt.Sprintf("The residuals depart from a normal distribution (Shapiro–Wilk W = %.3f, p = %.4f; approximate for correlated residuals): look at the units listed and consider a transformation or a rank-based analysis, with a statistician.", a.ShapiroW, a.ShapiroP))
 	default:
-		a.Verdicts = append(a.Verdicts, fmt.Sprintf("The residuals are consistent with a normal distribution (Shapiro–Wilk W = %.3f, p = %.4f; approximate for correlated residuals). With few residual df this test has little power.", a.ShapiroW, a.ShapiroP))
+		v := fmt.Sprintf("The residuals are consistent with a normal distribution (Shapiro–Wilk W = %.3f, p = %.4f; approximate for correlated residuals).", a.ShapiroW, a.ShapiroP)
+		if df < 20 {
+			v += fmt.Sprintf(" With %d residual df this test has little power.", df)
+		}
+		a.Verdicts = append(a.Verdicts, v)
 	}
 	if len(a.Outliers) > 0 {
 		a.Verdicts = append(a.Verdicts, fmt.Sprintf("%d unit(s) have a studentized residual beyond ±3: check them for typing or measuring slips before trusting the tests.", len(a.Outliers)))
 	}
 	return a
+}
+
+// SplitPlotChecks checks the sub-plot residuals of a split plot: those of
+// the model within main plots (main plots as fixed effects, the sub-plot
+// factor and its interaction with the whole-plot factor), whose mean
+// square is error (b), with or without missing sub-plots. Shapiro–Wilk on
+// them is approximate (they are correlated: they sum to zero within every
+// main plot and every cell), and the units beyond ±3 externally
+// studentized are listed by main plot and sub-plot treatment. The
+// whole-plot stratum (error (a)) has too few df in most trials for a
+// useful check of its own.
+func SplitPlotChecks(d SplitPlot, alpha float64) Assumptions {
+	a := Assumptions{ShapiroW: math.NaN(), ShapiroP: math.NaN(), Levene: math.NaN(), LeveneP: math.NaN(), SDRatio: math.NaN(),
+		Basis: "sub-plot residuals of the model within main plots (main plots, the sub-plot factor and its interaction with the whole-plot factor), whose mean square is error (b); they are correlated, so the normality test is approximate"}
+	fail := func(why string) Assumptions {
+		a.Verdicts = []string{"The residual checks were not run: " + why + "."}
+		return a
+	}
+	n := len(d.Values)
+	if d.Whole.Values.Len() != n || d.Sub.Values.Len() != n || d.MainPlot.Values.Len() != n {
+		return fail("every column needs one value per observation")
+	}
+	y, _, err := centred(column.Of(d.Values))
+	if err != nil {
+		return fail(err.Error())
+	}
+	mL, mI, err1 := d.MainPlot.levels()
+	sL, sI, err2 := d.Sub.levels()
+	wL, wI, err3 := d.Whole.levels()
+	if err1 != nil || err2 != nil || err3 != nil {
+		return fail("a column has a value outside its levels")
+	}
+	nm, ns, nw := len(mL), len(sL), len(wL)
+	p := nm + (ns - 1) + (nw-1)*(ns-1)
+	x := mat.NewDense(n, p, nil)
+	for i := range n {
+		x.Set(i, 0, 1)
+		col := 1
+		for j := 0; j < nm-1; j++ {
+			x.Set(i, col+j, code(mI[i], nm, j))
+		}
+		col += nm - 1
+		for j := 0; j < ns-1; j++ {
+			x.Set(i, col+j, code(sI[i], ns, j))
+		}
+		col += ns - 1
+		for k := 0; k < nw-1; k++ {
+			for j := 0; j < ns-1; j++ {
+				x.Set(i, col+k*(ns-1)+j, code(wI[i], nw, k)*code(sI[i], ns, j))
+			}
+		}
+	}
+	ls, ok := leastSquares(x, y)
+	if !ok || ls.df < 2 {
+		return fail("the model within main plots leaves fewer than 2 residual df, or cannot be fitted")
+	}
+	var rss float64
+	for _, e := range ls.resid {
+		rss += e * e
+	}
+	where := func(i int) string {
+		return d.MainPlot.Name + " " + mL[mI[i]] + ", " + d.Sub.Name + " " + sL[sI[i]]
+	}
+	return residualChecks(a, ls.resid, ls.lev, rss/float64(ls.df), ls.df, d.Values, d.Units, where, alpha)
 }

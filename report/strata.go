@@ -31,7 +31,8 @@ type StrataAnalysis struct {
 	// are complete (analyze.LatinMeans).
 	CellMeans      []analyze.Cell  `json:"cell_means,omitempty"`
 	TreatmentMeans []analyze.Group `json:"treatment_means,omitempty"`
-	// Checks are the residual checks of a Latin square (analyze.LatinChecks).
+	// Checks are the residual checks (analyze.LatinChecks, or
+	// analyze.SplitPlotChecks on the sub-plot residuals).
 	Checks *analyze.Assumptions `json:"assumptions,omitempty"`
 	// MainPlot is what a main plot is called (chamber, cage).
 	MainPlot  string  `json:"main_plot_name,omitempty"`
@@ -150,13 +151,13 @@ func (a StrataAnalysis) sections() []strataSection {
 		for _, ph := range a.Comparisons {
 			out = append(out, strataSection{title: postHocTitle(ph), tb: pairTable(ph), notes: []string{"Family: " + ph.Family + ". Error rate controlled: " + ph.ErrorRate + ". p-values are adjusted for the family; the residual mean square and df are the table's."}})
 		}
-		if c := a.Checks; c != nil {
-			sec := strataSection{title: "Checks of the residuals", notes: append([]string{"Checked on the " + c.Basis + "."}, c.Verdicts...)}
-			if len(c.Outliers) > 0 {
-				sec.tb = outlierTable(c.Outliers)
-			}
-			out = append(out, sec)
+	}
+	if c := a.Checks; c != nil {
+		sec := strataSection{title: "Checks of the residuals", notes: append([]string{"Checked on the " + c.Basis + "."}, c.Verdicts...)}
+		if len(c.Outliers) > 0 {
+			sec.tb = outlierTable(c.Outliers)
 		}
+		out = append(out, sec)
 	}
 	return out
 }

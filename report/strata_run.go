@@ -75,6 +75,8 @@ func RunStrata(p design.Plan, response string, obs workbook.StrataObservations, 
 	}
 	a.CellMeans = cells
 	a.wholeName, a.subName = d.Whole.Name, d.Sub.Name
+	checks := analyze.SplitPlotChecks(d, alpha)
+	a.Checks = &checks
 	if a.Missing == 0 {
 		res, err := analyze.SplitPlotANOVA(d)
 		if err == nil {

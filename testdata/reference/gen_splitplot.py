@@ -12,7 +12,10 @@ generator (test inputs, not a scenario). Sources:
   3.8, with Satterthwaite's df;
 - with missing sub-plots: statsmodels MixedLM (REML, main plots random) for
   the residual and main-plot variances and the fixed effects (sum-to-zero
-  coding in allot's column order).
+  coding in allot's column order);
+- residual checks: the residuals of the OLS fit within main plots (error
+  (b)), statsmodels' externally studentized residuals and scipy's
+  Shapiro–Wilk.
 """
 import json
 import math
@@ -79,6 +82,17 @@ def classical(df, blocked):
     return out
 
 
+def checks(df):
+    """Residuals of the model within main plots (main plots, B and A:B;
+    error (b)), their externally studentized values (statsmodels
+    influence) and Shapiro–Wilk on them (scipy), in data order."""
+    fit = smf.ols("y ~ C(mp) + C(B) + C(A):C(B)", data=df).fit()
+    w, p = st.shapiro(np.asarray(fit.resid))
+    return {"resid": [float(v) for v in fit.resid],
+            "deleted": [float(v) for v in fit.get_influence().resid_studentized_external],
+            "shapiro_w": float(w), "shapiro_p": float(p), "df": int(fit.df_resid)}
+
+
 def reml(df, blocked):
     rhs = ("C(block, Sum) + " if blocked else "") + "C(A, Sum) * C(B, Sum)"
     md = smf.mixedlm("y ~ " + rhs, df, groups=df["mp"])
@@ -97,6 +111,8 @@ cases.append({"name": "split plot, main plots completely randomised", "blocked":
 d3 = d1.drop(index=[2, 17, 30]).reset_index(drop=True)
 cases.append({"name": "split plot in blocks, three sub-plots missing", "blocked": True, "data": d3.to_dict(orient="list"),
               "reml": reml(d3, True)})
+for c, d in zip(cases, (d1, d2, d3)):
+    c["checks"] = checks(d)
 for c in cases:
     c["data"]["y"] = ["%.2f" % v for v in c["data"]["y"]]
 with open(os.path.join(HERE, "splitplot.json"), "w") as f:
