@@ -213,6 +213,9 @@ func (s *Server) checkAnswer(f *Form, m *multipart.Form) *checkResult {
 		res.AnalysisNote = "This workbook is blind: add its unblinding key to analyse it."
 		return res
 	}
+	if fl.Layout.Plan.Strata() {
+		return s.analyseStrata(res, fl, name, response, set.Alpha)
+	}
 	jobs, plan, check, err := options.WorkbookJobs(fl, name, response)
 	if err != nil {
 		if !f.optionError(err) {
@@ -243,6 +246,53 @@ func (s *Server) checkAnswer(f *Form, m *multipart.Form) *checkResult {
 	res.JSON = []string{js.String()}
 	var html bytes.Buffer
 	if err := report.HTML(&html, report.HTMLReport{Analyses: all, Plan: plan, Check: check, Command: res.Command, Version: s.cfg.Version}); err != nil {
+		res.AnalysisNote = err.Error()
+		return res
+	}
+	stem := fileBase(strings.TrimSuffix(name, filepath.Ext(name)), "workbook")
+	res.ReportID = s.store.put(item{name: stem + "-report.html", contentType: "text/html; charset=utf-8", data: html.Bytes(), viewable: true})
+	res.JSONID = s.store.put(item{name: stem + "-analysis.json", contentType: "application/json", data: js.Bytes()})
+	res.Analysed = true
+	return res
+}
+
+// analyseStrata analyses a split-plot or Latin-square workbook stratum by
+// stratum, as allot analyze does, into the report and JSON downloads.
+func (s *Server) analyseStrata(res *checkResult, fl *workbook.Filled, name, response string, alpha float64) *checkResult {
+	p := fl.Layout.Plan
+	var all []report.StrataAnalysis
+	for k, r := range fl.Responses {
+		if response != "" && r != response {
+			continue
+		}
+		obs := fl.StrataObservations(k)
+		if obs.Values.Len() == 0 {
+			res.AnalysisNote = fmt.Sprintf("%s: response %q has no values yet; fill it in first.", name, r)
+			return res
+		}
+		a, err := report.RunStrata(p, r, obs, alpha)
+		if err != nil {
+			res.AnalysisNote = fmt.Sprintf("%s: %s: %s", name, r, err)
+			return res
+		}
+		a.Simulated = fl.Simulated()
+		all = append(all, a)
+	}
+	if len(all) == 0 {
+		res.AnalysisNote = fmt.Sprintf("%s: the plan has no response %q (responses: %s).", name, response, strings.Join(fl.Responses, ", "))
+		return res
+	}
+	var js, html bytes.Buffer
+	if err := report.StrataAnalysesJSON(&js, s.cfg.Version, all); err != nil {
+		res.AnalysisNote = err.Error()
+		return res
+	}
+	res.JSON = []string{js.String()}
+	var check []string
+	for _, pr := range fl.Problems {
+		check = append(check, pr.String())
+	}
+	if err := report.HTML(&html, report.HTMLReport{Strata: all, Plan: &p, Check: check, Command: res.Command, Version: s.cfg.Version}); err != nil {
 		res.AnalysisNote = err.Error()
 		return res
 	}

@@ -1,6 +1,7 @@
 package options
 
 import (
+	"errors"
 	"fmt"
 	"strings"
 
@@ -82,6 +83,10 @@ type CheckFailedError struct{ Msg string }
 
 func (e *CheckFailedError) Error() string { return e.Msg }
 
+// ErrStrata is WorkbookJobs's error for a split-plot or Latin-square plan,
+// whose analysis has strata of its own (report.RunStrata).
+var ErrStrata = errors.New("a split-plot or Latin-square workbook is analysed stratum by stratum (report.RunStrata), not as separate jobs")
+
 // WorkbookJobs returns one job per response of the checked workbook fl (only
 // response, when given), the plan and the check's findings as lines. file
 // names the workbook in messages. A check with errors gives a
@@ -100,6 +105,11 @@ func WorkbookJobs(fl *workbook.Filled, file, response string) ([]Job, *design.Pl
 		return nil, nil, nil, fmt.Errorf("%s: the workbook is blind; give its --key to unblind it for analysis", file)
 	}
 	p := fl.Layout.Plan
+	if p.Strata() {
+		// As separate jobs the whole-plot factor (or the rows and columns)
+		// would be tested against the wrong error.
+		return nil, nil, nil, fmt.Errorf("%s: %w", file, ErrStrata)
+	}
 	var out []Job
 	trialsCols := map[string]bool{}
 	for _, r := range p.Responses {
