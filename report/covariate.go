@@ -166,7 +166,7 @@ func ProfileFigure(p Profiles) (Figure, error) {
 	if len(r.Profile) == 0 {
 		return Figure{}, fmt.Errorf("no profile to plot")
 	}
-	shapes := []draw.GlyphDrawer{draw.CircleGlyph{}, draw.SquareGlyph{}, draw.TriangleGlyph{}, draw.PlusGlyph{}, draw.CrossGlyph{}, draw.RingGlyph{}}
+	shapes := glyphShapes
 	g := len(r.Profile[0])
 	for j := 0; j < g; j++ {
 		xy := make(plotter.XYs, len(r.Profile))

@@ -216,6 +216,13 @@ func (s *Server) checkAnswer(f *Form, m *multipart.Form) *checkResult {
 	if fl.Layout.Plan.Strata() {
 		return s.analyseStrata(res, fl, name, response, set.Alpha)
 	}
+	for _, r := range fl.Layout.Plan.Responses {
+		if r.Of != "" {
+			// Measured at several times: a split plot in time, as the
+			// command analyses it.
+			return s.analyseRepeated(res, fl, name, response, set.Alpha)
+		}
+	}
 	jobs, plan, check, err := options.WorkbookJobs(fl, name, response)
 	if err != nil {
 		if !f.optionError(err) {
@@ -295,6 +302,43 @@ func (s *Server) analyseStrata(res *checkResult, fl *workbook.Filled, name, resp
 	if err := report.HTML(&html, report.HTMLReport{Strata: all, Plan: &p, Check: check, Command: res.Command, Version: s.cfg.Version}); err != nil {
 		res.AnalysisNote = err.Error()
 		return res
+	}
+	stem := fileBase(strings.TrimSuffix(name, filepath.Ext(name)), "workbook")
+	res.ReportID = s.store.put(item{name: stem + "-report.html", contentType: "text/html; charset=utf-8", data: html.Bytes(), viewable: true})
+	res.JSONID = s.store.put(item{name: stem + "-analysis.json", contentType: "application/json", data: js.Bytes()})
+	res.Analysed = true
+	return res
+}
+
+// analyseRepeated analyses the responses measured at several times as a
+// split plot in time, as allot analyze does: the JSON document of them all
+// and the report page of the first (or of the chosen response).
+func (s *Server) analyseRepeated(res *checkResult, fl *workbook.Filled, name, response string, alpha float64) *checkResult {
+	profiles, err := options.RepeatedProfiles(fl, response, alpha)
+	if err != nil {
+		res.AnalysisNote = fmt.Sprintf("%s: %s", name, err)
+		return res
+	}
+	if len(profiles) == 0 {
+		res.AnalysisNote = fmt.Sprintf("%s: no response measured at several times is called %q.", name, response)
+		return res
+	}
+	var docs []report.MethodDoc
+	for _, pr := range profiles {
+		docs = append(docs, report.MethodDoc{Response: pr.Response, Method: "repeated", Result: pr.RMResult})
+	}
+	var js, html bytes.Buffer
+	if err := report.AnalysesWithMethodsJSON(&js, s.cfg.Version, nil, docs); err != nil {
+		res.AnalysisNote = err.Error()
+		return res
+	}
+	res.JSON = []string{js.String()}
+	if err := report.ProfilesHTML(&html, profiles[0], res.Command, s.cfg.Version); err != nil {
+		res.AnalysisNote = err.Error()
+		return res
+	}
+	if len(profiles) > 1 {
+		res.AnalysisNote = fmt.Sprintf("The report shows %s; the JSON holds all %d responses measured at several times. Name one in the response field for its report.", profiles[0].Response, len(profiles))
 	}
 	stem := fileBase(strings.TrimSuffix(name, filepath.Ext(name)), "workbook")
 	res.ReportID = s.store.put(item{name: stem + "-report.html", contentType: "text/html; charset=utf-8", data: html.Bytes(), viewable: true})

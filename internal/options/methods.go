@@ -9,6 +9,7 @@ import (
 	"github.com/allotproject/allot/column"
 	"github.com/allotproject/allot/design"
 	"github.com/allotproject/allot/design/workbook"
+	"github.com/allotproject/allot/report"
 )
 
 // Methods holds allot analyze's choices beyond the least-squares ANOVA, as
@@ -212,3 +213,21 @@ func TransformNote(kind string, res *analyze.Result) string {
 }
 
 func trim(x float64) string { return strconv.FormatFloat(x, 'g', 4, 64) }
+
+// RepeatedProfiles analyses each response of fl measured at several times
+// (or only response, if given) as a split plot in time
+// (analyze.SplitPlotInTime), for the command and the check page alike.
+func RepeatedProfiles(fl *workbook.Filled, response string, alpha float64) ([]report.Profiles, error) {
+	var out []report.Profiles
+	for _, rm := range Repeated(fl) {
+		if response != "" && rm.Response != response {
+			continue
+		}
+		res, err := analyze.SplitPlotInTime(rm, alpha)
+		if err != nil {
+			return nil, fmt.Errorf("%s: %w", rm.Response, err)
+		}
+		out = append(out, report.Profiles{RMResult: res})
+	}
+	return out, nil
+}
