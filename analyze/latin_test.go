@@ -167,26 +167,7 @@ func TestLatinChecksReference(t *testing.T) {
 			d, r, means := c.fit(t)
 			a := LatinChecks(d, r, means, 0.05)
 			w := c.Expect.Checks
-			// scipy's Shapiro–Wilk is single precision (see
-			// TestAssumptionsAgainstScipy).
-			if !a.NormalOK || math.Abs(a.ShapiroW-w.W) > 5e-6 || math.Abs(a.ShapiroP-w.P) > 1e-3 {
-				t.Errorf("Shapiro–Wilk W %.7f p %.5f; scipy %.7f %.5f", a.ShapiroW, a.ShapiroP, w.W, w.P)
-			}
-			want := map[string]float64{}
-			for i, del := range w.Deleted {
-				if math.Abs(del) > 3 {
-					want["u"+strconv.Itoa(i)] = del
-				}
-			}
-			if len(a.Outliers) != len(want) {
-				t.Fatalf("%d units flagged, statsmodels %d (%v)", len(a.Outliers), len(want), want)
-			}
-			for _, o := range a.Outliers {
-				refNear(t, o.Unit+" studentized", o.Studentized, want[o.Unit], 1e-8)
-				i, _ := strconv.Atoi(o.Unit[1:])
-				refNear(t, o.Unit+" residual", o.Residual, w.Resid[i], 1e-9)
-				flagged++
-			}
+			flagged += checkResiduals(t, a, w.W, w.P, w.Resid, w.Deleted)
 		})
 	}
 	if flagged == 0 {
@@ -251,4 +232,31 @@ func (c latinRef) fit(t *testing.T) (LatinData, *LatinResult, []Group) {
 		t.Fatal(err)
 	}
 	return d, r, means
+}
+
+// checkResiduals compares residual checks whose units are named u0, u1, …
+// with the reference: Shapiro–Wilk W and p (scipy, single precision: see
+// TestAssumptionsAgainstScipy), and the units flagged beyond ±3 with their
+// externally studentized residuals and residuals (statsmodels). It returns
+// the number of units flagged.
+func checkResiduals(t *testing.T, a Assumptions, w, p float64, resid, deleted []float64) int {
+	t.Helper()
+	if !a.NormalOK || math.Abs(a.ShapiroW-w) > 5e-6 || math.Abs(a.ShapiroP-p) > 1e-3 {
+		t.Errorf("Shapiro–Wilk W %.7f p %.5f; scipy %.7f %.5f (%v)", a.ShapiroW, a.ShapiroP, w, p, a.Verdicts)
+	}
+	want := map[string]float64{}
+	for i, del := range deleted {
+		if math.Abs(del) > 3 {
+			want["u"+strconv.Itoa(i)] = del
+		}
+	}
+	if len(a.Outliers) != len(want) {
+		t.Fatalf("%d units flagged, statsmodels %d (%v)", len(a.Outliers), len(want), want)
+	}
+	for _, o := range a.Outliers {
+		refNear(t, o.Unit+" studentized", o.Studentized, want[o.Unit], 1e-8)
+		i, _ := strconv.Atoi(o.Unit[1:])
+		refNear(t, o.Unit+" residual", o.Residual, resid[i], 1e-9)
+	}
+	return len(a.Outliers)
 }

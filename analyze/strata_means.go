@@ -143,7 +143,7 @@ func fitLatin(d LatinData, gs []Group, ms float64) (latinFit, bool) {
 		levels int
 		in     []bool // the observations the factor applies to (nil: all)
 	}
-	code := func(at func(i int) string, order []string) coded {
+	levelsOf := func(at func(i int) string, order []string) coded {
 		idx := map[string]int{}
 		for _, l := range order {
 			idx[l] = len(idx)
@@ -165,14 +165,14 @@ func fitLatin(d LatinData, gs []Group, ms float64) (latinFit, bool) {
 	for _, g := range gs {
 		trtOrder = append(trtOrder, g.Level)
 	}
-	factors := []coded{code(func(i int) string { return label(d.Row, i) }, nil)}
+	factors := []coded{levelsOf(func(i int) string { return label(d.Row, i) }, nil)}
 	if d.Square == nil {
-		factors = append(factors, code(d.Col.Values.At, nil))
+		factors = append(factors, levelsOf(d.Col.Values.At, nil))
 	} else {
 		// Rows within squares carry the squares; columns are coded within
 		// each square (their effects sum to zero in every square), which
 		// keeps the design of full rank.
-		sq := code(d.Square.Values.At, nil)
+		sq := levelsOf(d.Square.Values.At, nil)
 		for g := range sq.levels {
 			in := make([]bool, n)
 			var order []string
@@ -183,12 +183,12 @@ func fitLatin(d LatinData, gs []Group, ms float64) (latinFit, bool) {
 					order = append(order, d.Col.Values.At(i))
 				}
 			}
-			c := code(d.Col.Values.At, order)
+			c := levelsOf(d.Col.Values.At, order)
 			c.in = in
 			factors = append(factors, c)
 		}
 	}
-	trt := code(d.Treatment.Values.At, trtOrder)
+	trt := levelsOf(d.Treatment.Values.At, trtOrder)
 	factors = append(factors, trt)
 	p := 1
 	start := make([]int, len(factors))
@@ -206,14 +206,8 @@ func fitLatin(d LatinData, gs []Group, ms float64) (latinFit, bool) {
 			if f.in != nil && !f.in[i] {
 				continue
 			}
-			l := f.of[i]
 			for j := 0; j < f.levels-1; j++ {
-				switch {
-				case l == j:
-					x.Set(i, start[k]+j, 1)
-				case l == f.levels-1:
-					x.Set(i, start[k]+j, -1)
-				}
+				x.Set(i, start[k]+j, code(f.of[i], f.levels, j))
 			}
 		}
 	}
@@ -241,12 +235,7 @@ func fitLatin(d LatinData, gs []Group, ms float64) (latinFit, bool) {
 		c := make([]float64, p)
 		c[0] = 1
 		for j := 0; j < trt.levels-1; j++ {
-			switch {
-			case k == j:
-				c[ts+j] = 1
-			case k == trt.levels-1:
-				c[ts+j] = -1
-			}
+			c[ts+j] = code(k, trt.levels, j)
 		}
 		var m float64
 		for i := range p {
@@ -355,8 +344,7 @@ func LatinTukey(d LatinData, res *LatinResult, means []Group, alpha float64) (*P
 // 3 to 5000 values), and the units whose externally studentized residual
 // exceeds 3 in size (Cook and Weisberg 1982, eq. 2.2.9), largest first.
 func LatinChecks(d LatinData, res *LatinResult, means []Group, alpha float64) Assumptions {
-	a := Assumptions{ShapiroW: math.NaN(), ShapiroP: math.NaN(), Levene: math.NaN(), LeveneP: math.NaN(), SDRatio: math.NaN(),
-		Basis: "residuals of the additive model (rows, columns and treatments); they are correlated, so the normality test is approximate"}
+	a := residualBasis("residuals of the additive model (rows, columns and treatments); they are correlated, so the normality test is approximate")
 	if res == nil || res.Residual.DF <= 1 {
 		a.Verdicts = []string{"The residual checks need at least 2 residual df."}
 		return a
@@ -374,6 +362,13 @@ func LatinChecks(d LatinData, res *LatinResult, means []Group, alpha float64) As
 		return w
 	}
 	return residualChecks(a, f.resid, f.leve, res.Residual.MS, res.Residual.DF, d.Values, d.Units, where, alpha)
+}
+
+// residualBasis returns checks not yet run, on the residuals basis names:
+// no statistic is set until residualChecks sets it (no test of equal
+// variances runs here).
+func residualBasis(basis string) Assumptions {
+	return Assumptions{ShapiroW: math.NaN(), ShapiroP: math.NaN(), Levene: math.NaN(), LeveneP: math.NaN(), SDRatio: math.NaN(), Basis: basis}
 }
 
 // residualChecks completes a with the checks of residuals resid (leverages
@@ -424,8 +419,7 @@ func residualChecks(a Assumptions, resid, lev []float64, ms float64, df int, val
 // whole-plot stratum (error (a)) has too few df in most trials for a
 // useful check of its own.
 func SplitPlotChecks(d SplitPlot, alpha float64) Assumptions {
-	a := Assumptions{ShapiroW: math.NaN(), ShapiroP: math.NaN(), Levene: math.NaN(), LeveneP: math.NaN(), SDRatio: math.NaN(),
-		Basis: "sub-plot residuals of the model within main plots (main plots, the sub-plot factor and its interaction with the whole-plot factor), whose mean square is error (b); they are correlated, so the normality test is approximate"}
+	a := residualBasis("sub-plot residuals of the model within main plots (main plots, the sub-plot factor and its interaction with the whole-plot factor), whose mean square is error (b); they are correlated, so the normality test is approximate")
 	fail := func(why string) Assumptions {
 		a.Verdicts = []string{"The residual checks were not run: " + why + "."}
 		return a
